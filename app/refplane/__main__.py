@@ -1,0 +1,7 @@
+"""Allow ``python -m refplane``."""
+
+import sys
+
+from refplane.cli import main
+
+sys.exit(main())

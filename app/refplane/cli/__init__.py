@@ -1,0 +1,75 @@
+"""Refplane's command line: ``refplane COMMAND ...``, or ``refplane [FILE ...]`` for the window.
+
+The command line uses the analysis layer only; it never imports Qt except for ``render``
+(which draws offscreen) and for opening the window. Bad input prints one line on stderr
+(file, line, reason) and exits with status 2.
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib
+import sys
+
+from refplane import __version__
+
+#: Sub-commands, each a module ``refplane.cli.<name>`` with ``add_parser(sub)`` and ``run(args)``.
+COMMANDS = ("read", "plane", "correct", "fit", "render")
+
+
+class _Parser(argparse.ArgumentParser):
+    """An argument parser whose errors are one plain line and status 2."""
+
+    def error(self, message: str) -> None:  # noqa: D401 - argparse's hook
+        self.exit(2, f"{self.prog}: {message} (see '{self.prog} --help')\n")
+
+
+def build_parser() -> argparse.ArgumentParser:
+    """The full parser with every available sub-command."""
+    parser = _Parser(
+        prog="refplane",
+        description="Smith chart impedance analysis for saved network-analyzer sweeps. "
+                    "Run 'refplane' alone (or 'refplane FILE ...') to open the window.",
+    )
+    parser.add_argument("--version", action="version", version=f"refplane {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+    for name in COMMANDS:
+        try:
+            module = importlib.import_module(f"refplane.cli.{name}")
+        except ModuleNotFoundError as exc:  # a command still being written is simply not offered
+            if exc.name != f"refplane.cli.{name}":
+                raise
+            continue
+        module.add_parser(sub)
+    return parser
+
+
+def _open_window(files: list[str]) -> int:
+    from refplane.views.launch import run_window
+
+    return run_window(files)
+
+
+def main(argv: list[str] | None = None) -> int:
+    """Run the command line; returns the process exit status."""
+    from refplane.analysis.errors import AnalysisError
+
+    argv = sys.argv[1:] if argv is None else list(argv)
+    if not argv or (argv[0] not in COMMANDS and not argv[0].startswith("-")):
+        return _open_window(argv)
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if not getattr(args, "command", None):
+        parser.print_help()
+        return 0
+    try:
+        return int(args.run(args) or 0)
+    except AnalysisError as exc:
+        print(f"refplane {args.command}: {exc}", file=sys.stderr)
+        return 2
+    except OSError as exc:
+        where = f"{exc.filename}: " if getattr(exc, "filename", None) else ""
+        print(f"refplane {args.command}: {where}{exc.strerror or exc}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        return 130
