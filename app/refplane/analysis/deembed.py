@@ -1,0 +1,340 @@
+"""Moving the reference plane: remove (de-embed) or add a length of transmission line per port.
+
+The line model
+--------------
+Each port may carry one :class:`LineOffset`: a uniform line described by its one-way
+electrical delay ``τ``, a conductor loss that grows as √f, a dielectric loss that grows as f,
+and an optional characteristic impedance. Over the line the waves pick up
+
+    γl(f) = α(f)·l + j·2π·f·τ,     α(f)·l = (loss_db·√(f/f_ref) + dielectric_loss_db·(f/f_ref)) / 8.6859
+
+(nepers; 20·log10(e) ≈ 8.6859 dB per neper). The loss at f = 0 is zero.
+
+Matched lines (``line_z0_ohm`` None, or equal to the port's reference) only rotate and
+attenuate the waves, so each S_ij is multiplied by e^(−γ_i l_i)·e^(−γ_j l_j) when a line is
+added and by the inverse when it is removed. A line of another impedance is a full two-port
+(ABCD → S at the port's reference) cascaded in front of the port; removing it uses the exact
+inverse of that cascade. Both paths are vectorised over frequency (no Python loops over
+points); adding and then removing the same offsets returns the input to rounding.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import Sequence
+
+import numpy as np
+
+from refplane.analysis.errors import AnalysisError
+from refplane.analysis.sweep import Sweep
+
+#: Speed of light in vacuum, m/s (exact by the SI definition of the metre).
+SPEED_OF_LIGHT_M_S = 299_792_458.0
+
+#: Decibels per neper: 20·log10(e).
+DB_PER_NEPER = 20.0 / math.log(10.0)
+
+
+def _finite(value, what: str) -> float:
+    try:
+        number = float(value)
+    except (TypeError, ValueError):
+        raise AnalysisError(f"the {what} {value!r} is not a number") from None
+    if not math.isfinite(number):
+        raise AnalysisError(f"the {what} must be a finite number, not {value!r}")
+    return number
+
+
+def _check_velocity_factor(velocity_factor) -> float:
+    vf = _finite(velocity_factor, "velocity factor")
+    if not 0.0 < vf <= 1.0:
+        raise AnalysisError(f"a velocity factor must lie above 0 and at most 1, not {vf:g}")
+    return vf
+
+
+@dataclass(frozen=True)
+class LineOffset:
+    """A length of transmission line at one port, to remove from or add to a sweep.
+
+    Parameters
+    ----------
+    delay_s : float
+        One-way electrical delay in seconds. A negative delay stands for a line on the other
+        side of the plane (removing it adds the line).
+    loss_db : float
+        One-way conductor loss in dB at ``loss_ref_hz``; scales as √f. Not negative.
+    loss_ref_hz : float
+        The frequency at which both losses are given, above zero.
+    dielectric_loss_db : float
+        One-way dielectric loss in dB at ``loss_ref_hz``; scales as f. Not negative.
+    line_z0_ohm : float or None
+        Characteristic impedance of the line, above zero; ``None`` means the line matches
+        the sweep's reference impedance at that port.
+
+    Examples
+    --------
+    >>> LineOffset.from_length(0.2, 0.66).delay_s   # 20 cm of solid-PE coax
+    1.0107...e-09
+    """
+
+    delay_s: float = 0.0
+    loss_db: float = 0.0
+    loss_ref_hz: float = 1e9
+    dielectric_loss_db: float = 0.0
+    line_z0_ohm: float | None = None
+
+    def __post_init__(self) -> None:
+        object.__setattr__(self, "delay_s", _finite(self.delay_s, "delay"))
+        for name, what in (("loss_db", "loss"), ("dielectric_loss_db", "dielectric loss")):
+            value = _finite(getattr(self, name), what)
+            if value < 0:
+                raise AnalysisError(f"the {what} must not be negative (got {value:g} dB); "
+                                    "a passive line only loses power")
+            object.__setattr__(self, name, value + 0.0)
+        ref = _finite(self.loss_ref_hz, "loss reference frequency")
+        if ref <= 0:
+            raise AnalysisError(f"the loss reference frequency must be above zero, not {ref:g} Hz")
+        object.__setattr__(self, "loss_ref_hz", ref)
+        if self.line_z0_ohm is not None:
+            if isinstance(self.line_z0_ohm, complex):
+                raise AnalysisError("the line impedance must be a real number of ohms")
+            z0 = _finite(self.line_z0_ohm, "line impedance")
+            if z0 <= 0:
+                raise AnalysisError(f"the line impedance must be above zero, not {z0:g} Ω")
+            object.__setattr__(self, "line_z0_ohm", z0)
+
+    @classmethod
+    def from_length(cls, length_m: float, velocity_factor: float, **kw) -> "LineOffset":
+        """A line of physical ``length_m`` metres with the given velocity factor.
+
+        The delay is ``length_m / (velocity_factor · c)`` with c = 299 792 458 m/s. Other
+        keyword arguments (losses, ``line_z0_ohm``) pass through to the constructor.
+        """
+        length = _finite(length_m, "length")
+        vf = _check_velocity_factor(velocity_factor)
+        return cls(delay_s=length / (vf * SPEED_OF_LIGHT_M_S), **kw)
+
+    def length_m(self, velocity_factor: float) -> float:
+        """The physical length in metres this delay stands for at ``velocity_factor``."""
+        return self.delay_s * _check_velocity_factor(velocity_factor) * SPEED_OF_LIGHT_M_S
+
+    @property
+    def is_zero(self) -> bool:
+        """True when the line changes nothing (no delay and no loss), whatever its impedance."""
+        return self.delay_s == 0.0 and self.loss_db == 0.0 and self.dielectric_loss_db == 0.0
+
+    def with_changes(self, **changes) -> "LineOffset":
+        """A copy with some fields changed (validated afresh)."""
+        import dataclasses
+
+        return dataclasses.replace(self, **changes)
+
+    def gamma_l(self, freq_hz: np.ndarray) -> np.ndarray:
+        """The line's γ·l at ``freq_hz``: attenuation in nepers plus j·(phase in radians)."""
+        f = np.asarray(freq_hz, dtype=np.float64)
+        ratio = f / self.loss_ref_hz
+        alpha_np = (self.loss_db * np.sqrt(np.abs(ratio)) + self.dielectric_loss_db * ratio) / DB_PER_NEPER
+        return alpha_np + 1j * (2.0 * math.pi * self.delay_s) * f
+
+    def describe(self, velocity_factor: float | None = None) -> str:
+        """One line of plain text for file headers and logs."""
+        from refplane.analysis.units import format_frequency, format_si
+
+        parts = [f"delay {format_si(self.delay_s, 's')}"]
+        if velocity_factor is not None:
+            parts.append(f"({format_si(self.length_m(velocity_factor), 'm')} at velocity factor {velocity_factor:g})")
+        if self.loss_db or self.dielectric_loss_db:
+            ref = format_frequency(self.loss_ref_hz)
+            parts.append(f"loss {self.loss_db:g} dB at {ref} (√f)")
+            if self.dielectric_loss_db:
+                parts.append(f"dielectric loss {self.dielectric_loss_db:g} dB at {ref} (f)")
+        parts.append("line impedance = reference" if self.line_z0_ohm is None
+                     else f"line impedance {self.line_z0_ohm:g} Ω")
+        return ", ".join(parts)
+
+
+def _is_matched(offset: LineOffset, z_ref: complex) -> bool:
+    return offset.line_z0_ohm is None or (z_ref.imag == 0.0 and offset.line_z0_ohm == z_ref.real)
+
+
+def line_s(offset: LineOffset, freq_hz: np.ndarray, z_ref_ohm: complex = 50.0) -> np.ndarray:
+    """The line as a two-port S-matrix, shape (n, 2, 2), at reference ``z_ref_ohm`` on both ends.
+
+    Port 1 of the result faces the instrument and port 2 the device. Uses
+    ABCD = [[cosh γl, Zc·sinh γl], [sinh γl / Zc, cosh γl]] and the usual ABCD → S
+    conversion with equal reference impedances (Pozar, Microwave Engineering, table 4.2 —
+    from memory). S follows Γ = (Z − Z_ref)/(Z + Z_ref), as the rest of Refplane does.
+    """
+    f = np.asarray(freq_hz, dtype=np.float64)
+    gl = offset.gamma_l(f)
+    z_ref = complex(z_ref_ohm)
+    out = np.empty((f.size, 2, 2), dtype=np.complex128)
+    if _is_matched(offset, z_ref):
+        t = np.exp(-gl)
+        out[:, 0, 0] = 0.0
+        out[:, 1, 1] = 0.0
+        out[:, 0, 1] = t
+        out[:, 1, 0] = t
+        return out
+    zc = offset.line_z0_ohm
+    ch, sh = np.cosh(gl), np.sinh(gl)
+    b = zc * sh / z_ref          # B / Z_ref
+    c = sh / zc * z_ref          # C · Z_ref
+    den = 2.0 * ch + b + c       # A + B/Z + C·Z + D with A = D = cosh
+    out[:, 0, 0] = (b - c) / den
+    out[:, 1, 1] = (b - c) / den
+    out[:, 0, 1] = 2.0 / den     # AD − BC = 1 for a reciprocal line
+    out[:, 1, 0] = 2.0 / den
+    return out
+
+
+def _normalise(sweep: Sweep, offsets: Sequence[LineOffset | None] | None) -> list[LineOffset | None]:
+    if not isinstance(sweep, Sweep):
+        raise AnalysisError("offsets apply to a sweep")
+    if offsets is None:
+        return [None] * sweep.n_ports
+    if isinstance(offsets, LineOffset):
+        offsets = (offsets,)
+    items = list(offsets)
+    if len(items) > sweep.n_ports:
+        raise AnalysisError(f"{len(items)} line offsets given for a {sweep.n_ports}-port sweep")
+    for item in items:
+        if item is not None and not isinstance(item, LineOffset):
+            raise AnalysisError(f"a line offset was expected, not {type(item).__name__}")
+    items += [None] * (sweep.n_ports - len(items))
+    return [None if (o is None or o.is_zero) else o for o in items]
+
+
+def _fixture_terms(sweep: Sweep, offsets: list[LineOffset | None]):
+    """Per-port fixture terms e11, e12·e21 split, e22 as (n, p) arrays; None for all-matched."""
+    n, p = sweep.n_points, sweep.n_ports
+    matched = all(o is None or _is_matched(o, complex(sweep.z0_ohm[i])) for i, o in enumerate(offsets))
+    if matched:
+        t = np.ones((n, p), dtype=np.complex128)
+        for i, o in enumerate(offsets):
+            if o is not None:
+                t[:, i] = np.exp(-o.gamma_l(sweep.freq_hz))
+        return t, None
+    e11 = np.zeros((n, p), dtype=np.complex128)
+    e22 = np.zeros((n, p), dtype=np.complex128)
+    e21 = np.ones((n, p), dtype=np.complex128)   # transmission, equal both ways (reciprocal)
+    for i, o in enumerate(offsets):
+        if o is not None:
+            fixture = line_s(o, sweep.freq_hz, complex(sweep.z0_ohm[i]))
+            e11[:, i] = fixture[:, 0, 0]
+            e21[:, i] = fixture[:, 1, 0]
+            e22[:, i] = fixture[:, 1, 1]
+    return e21, (e11, e22)
+
+
+def add_offsets(sweep: Sweep, offsets: Sequence[LineOffset | None] | None) -> Sweep:
+    """The sweep as it would read with a line added in front of each port.
+
+    Parameters
+    ----------
+    sweep : Sweep
+        The measured (or modelled) sweep.
+    offsets : sequence of LineOffset or None
+        One entry per port, in port order. A shorter sequence, or ``None`` entries, leave
+        the remaining ports alone; more entries than ports raise :class:`AnalysisError`.
+
+    Returns
+    -------
+    Sweep
+        A new sweep with the same frequencies, references, name, source and comments.
+
+    Notes
+    -----
+    With per-port fixture terms (diagonal matrices E11, E21, E22 of the lines' S at the
+    ports' references) the cascade is M = E11 + E21·S·(I − E22·S)⁻¹·E21, evaluated as
+    E11 + E21·solve(I − S·E22, S)·E21 in one batched solve over frequency.
+    """
+    items = _normalise(sweep, offsets)
+    if all(o is None for o in items):
+        return sweep
+    t, mismatch = _fixture_terms(sweep, items)
+    s = sweep.s
+    if mismatch is None:
+        out = t[:, :, None] * s * t[:, None, :]
+        return sweep.replace(s=out)
+    e11, e22 = mismatch
+    p = sweep.n_ports
+    if p == 1:
+        g = s[:, 0, 0]
+        out = (e11[:, 0] + t[:, 0] ** 2 * g / (1.0 - e22[:, 0] * g)).reshape(-1, 1, 1)
+        return sweep.replace(s=out)
+    eye = np.eye(p, dtype=np.complex128)
+    inner = np.linalg.solve(eye - s * e22[:, None, :], s)
+    out = t[:, :, None] * inner * t[:, None, :]
+    idx = np.arange(p)
+    out[:, idx, idx] += e11
+    return sweep.replace(s=out)
+
+
+def remove_offsets(sweep: Sweep, offsets: Sequence[LineOffset | None] | None) -> Sweep:
+    """The sweep with a line removed from in front of each port (the plane moved to its far end).
+
+    Parameters
+    ----------
+    sweep : Sweep
+        The measured sweep, taken through the lines.
+    offsets : sequence of LineOffset or None
+        One entry per port, in port order (see :func:`add_offsets`).
+
+    Returns
+    -------
+    Sweep
+        The sweep at the far end of the lines; ``add_offsets`` of the result gives the
+        input back.
+
+    Raises
+    ------
+    AnalysisError
+        For more offsets than ports, or where a mismatched line makes the removal singular
+        (a lossless half-wave of another impedance never is; this guards the degenerate
+        case only).
+
+    Notes
+    -----
+    Inverting the cascade of :func:`add_offsets`: X = E21⁻¹·(M − E11)·E21⁻¹, then
+    S = X·(I + E22·X)⁻¹ = solve(I + X·E22, X), batched over frequency.
+    """
+    items = _normalise(sweep, offsets)
+    if all(o is None for o in items):
+        return sweep
+    t, mismatch = _fixture_terms(sweep, items)
+    s = sweep.s
+    if mismatch is None:
+        inv = 1.0 / t
+        out = inv[:, :, None] * s * inv[:, None, :]
+        return sweep.replace(s=out)
+    e11, e22 = mismatch
+    p = sweep.n_ports
+    idx = np.arange(p)
+    x = s.copy()
+    x[:, idx, idx] -= e11
+    inv = 1.0 / t
+    x = inv[:, :, None] * x * inv[:, None, :]
+    if p == 1:
+        g = x[:, 0, 0]
+        den = 1.0 + e22[:, 0] * g
+        if np.any(den == 0):
+            raise AnalysisError("the line cannot be removed: the reading is exactly what the line alone gives")
+        return sweep.replace(s=(g / den).reshape(-1, 1, 1))
+    eye = np.eye(p, dtype=np.complex128)
+    try:
+        out = np.linalg.solve(eye + x * e22[:, None, :], x)
+    except np.linalg.LinAlgError:
+        raise AnalysisError("the lines cannot be removed: the cascade is singular at some frequency") from None
+    return sweep.replace(s=out)
+
+
+def describe_offsets(offsets: Sequence[LineOffset | None] | None, *, removed: bool = True) -> tuple[str, ...]:
+    """Comment lines recording the offsets applied to a sweep, one per port with a line."""
+    verb = "removed" if removed else "added"
+    lines = []
+    for port, offset in enumerate(offsets or (), start=1):
+        if offset is not None and not offset.is_zero:
+            lines.append(f"Refplane: port {port} line {verb}: {offset.describe()}")
+    return tuple(lines)
