@@ -1,0 +1,1 @@
+"""The desktop window: PySide6 + pyqtgraph views over :mod:`refplane.views.state`; no RF maths here."""
