@@ -119,6 +119,7 @@ def zero_reactance_frequencies(sweep: Sweep, port: int = 1,
     for a parallel-type one (|Z| large, X jumping from +large to −large), so that both kinds
     are found where a practitioner would put them.
     """
+    sweep.check_port(port)
     mask = _band_mask(sweep.freq_hz, band_hz)
     f = sweep.freq_hz[mask]
     z0 = abs(sweep.z0_ohm[port - 1])

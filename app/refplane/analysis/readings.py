@@ -47,7 +47,7 @@ def _num(value: float, unit: str, decimals: int = 2) -> str:
     if math.isnan(value):
         return "—"
     if math.isinf(value):
-        return ("−∞ " if value < 0 else "∞ ") + unit
+        return f"{'−∞' if value < 0 else '∞'} {unit}".strip()
     text = f"{value:,.{decimals}f}".replace(",", " ").replace("-", "−")
     return f"{text} {unit}".strip()
 

@@ -156,8 +156,10 @@ def format_si(value: float | None, unit: str, digits: int = 4) -> str:
     if value == 0:
         return f"0 {unit}".strip()
     mag = abs(value)
+    # Step up a prefix only when the value would round up to 1000 of the lower one.
+    threshold = 1.0 - 0.5 * 10.0 ** -digits
     for scale, prefix in _ENG:
-        if mag >= scale * 0.9995:
+        if mag >= scale * threshold:
             break
     else:
         scale, prefix = _ENG[-1]
@@ -166,5 +168,10 @@ def format_si(value: float | None, unit: str, digits: int = 4) -> str:
 
 
 def format_frequency(freq_hz: float, digits: int = 7) -> str:
-    """Format a frequency for display: 470e6 → "470 MHz"."""
-    return format_si(float(freq_hz), "Hz", digits)
+    """Format a frequency for display: 470e6 → "470 MHz", 1.2345e9 → "1.2345 GHz"."""
+    text = format_si(float(freq_hz), "Hz", digits)
+    number, _, unit = text.partition(" ")
+    # Frequencies are read, not lined up in columns: drop format_si's trailing zeros.
+    if "." in number and "e" not in number:
+        number = number.rstrip("0").rstrip(".")
+    return f"{number} {unit}" if unit else number
