@@ -74,8 +74,8 @@ class LineOffset:
 
     Examples
     --------
-    >>> LineOffset.from_length(0.2, 0.66).delay_s   # 20 cm of solid-PE coax
-    1.0107...e-09
+    >>> LineOffset.from_length(0.2, 0.66).delay_s   # doctest: +ELLIPSIS
+    1.0108...e-09
     """
 
     delay_s: float = 0.0

@@ -21,6 +21,9 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
                    help="frequency to read at, e.g. 470MHz, '470 MHz', 470M, 4.7e8 (repeatable)")
     p.add_argument("--port", type=int, default=1, metavar="N", help="read S_NN of port N (default 1)")
     p.add_argument("--json", action="store_true", help="print JSON instead of a table")
+    from refplane.cli.offsets import add_offset_options
+
+    add_offset_options(p)
     p.set_defaults(run=run)
 
 
@@ -28,17 +31,24 @@ def run(args: argparse.Namespace) -> int:
     from refplane.analysis.loading import read_sweep
     from refplane.analysis.readings import read_points
 
+    from refplane.cli.offsets import apply_offsets, offsets_json
+
     sweep = read_sweep(args.file)
+    removed = offsets_json(args, sweep)
+    sweep, notes = apply_offsets(args, sweep)
     result = read_points(sweep, args.at_hz, port=args.port)
     if args.json:
         print_json({
             "file": args.file,
             "port": args.port,
             "z0_ohm": result.z0_ohm,
+            **({"lines_removed": removed} if removed else {}),
             "points": [result.readout.at(i).json_point() for i in range(len(args.at_hz))],
         })
     else:
         print(f"{args.file}  port {args.port}  (reference {result.z0_ohm:g} Ω)")
+        for note in notes:
+            print(note)
         print(readout_table(result.readout, len(args.at_hz)))
     return 0
 

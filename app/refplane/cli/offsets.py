@@ -1,0 +1,164 @@
+"""Offset options shared by ``read`` and ``render``: remove a length of line before reading.
+
+Options
+-------
+``--delay T``             one-way delay of the line to remove, e.g. 1.01ns, 250ps
+``--length L --vf V``     the same as a physical length and velocity factor, e.g. 20cm 0.66
+                          (instead of ``--delay``; each needs the other)
+``--loss DB@F``           one-way conductor loss at a frequency, e.g. 0.4dB@1GHz (grows as √f)
+``--line-z0 Z``           the line's impedance, e.g. 75 (default: the port's reference)
+``--offset-port N|all``   the port the line sits at. Default: the port being read (``--port``,
+                          port 1 when there is none); ``all`` puts the same line at every port.
+
+A negative delay or length (written ``--delay=-1ns``) adds the line instead of removing it.
+Contradictory or malformed options end the command with one line and status 2.
+"""
+
+from __future__ import annotations
+
+import argparse
+
+from refplane.analysis.errors import AnalysisError
+from refplane.cli.common import arg_type
+
+
+def _parse_vf(text: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise AnalysisError(f"{text!r} is not a velocity factor (a number such as 0.66)") from None
+    if not 0.0 < value <= 1.0:
+        raise AnalysisError(f"a velocity factor must lie above 0 and at most 1, not {text}")
+    return value
+
+
+def _parse_line_z0(text: str) -> float:
+    from refplane.analysis.units import parse_resistance
+
+    value = parse_resistance(text)
+    if not value > 0:
+        raise AnalysisError(f"{text!r}: the line impedance must be above zero")
+    return value
+
+
+def _parse_port(text: str) -> int | str:
+    if text.strip().lower() == "all":
+        return "all"
+    try:
+        value = int(text)
+    except ValueError:
+        raise AnalysisError(f"{text!r} is not a port number (or 'all')") from None
+    if value < 1:
+        raise AnalysisError(f"port {value} does not exist; ports are numbered from 1")
+    return value
+
+
+def add_offset_options(parser: argparse.ArgumentParser) -> None:
+    """Add the line-offset options (see the module notes) to a sub-command's parser."""
+    from refplane.analysis.units import parse_length, parse_loss, parse_time
+
+    group = parser.add_argument_group(
+        "reference plane",
+        "Remove a length of transmission line (cable, adapter, fixture) between the analyzer's "
+        "reference plane and the device before reading.")
+    how = group.add_mutually_exclusive_group()
+    how.add_argument("--delay", dest="offset_delay_s", metavar="T", type=arg_type(parse_time, "delay"),
+                     help="one-way delay of the line, e.g. 1.01ns or 250ps")
+    how.add_argument("--length", dest="offset_length_m", metavar="L", type=arg_type(parse_length, "length"),
+                     help="physical length of the line, e.g. 20cm, 0.2m or 8in (needs --vf)")
+    group.add_argument("--vf", dest="offset_vf", metavar="V", type=arg_type(_parse_vf, "velocity factor"),
+                       help="velocity factor of the line for --length, e.g. 0.66 for solid-polyethylene coax")
+    group.add_argument("--loss", dest="offset_loss", metavar="DB@F", type=arg_type(parse_loss, "loss"),
+                       help="one-way loss of the line, e.g. 0.4dB@1GHz (taken to grow as √f)")
+    group.add_argument("--line-z0", dest="offset_line_z0_ohm", metavar="Z",
+                       type=arg_type(_parse_line_z0, "impedance"),
+                       help="the line's characteristic impedance, e.g. 75 (default: the port's reference)")
+    group.add_argument("--offset-port", dest="offset_port", metavar="N", type=arg_type(_parse_port, "port"),
+                       help="port the line sits at, or 'all' (default: the port being read)")
+
+
+def offset_from_args(args: argparse.Namespace):
+    """The single :class:`LineOffset` the options describe, or ``None`` when none were given.
+
+    Raises
+    ------
+    AnalysisError
+        For ``--vf`` without ``--length`` (or the reverse), or ``--line-z0`` with no line.
+    """
+    from refplane.analysis.deembed import LineOffset
+
+    delay = getattr(args, "offset_delay_s", None)
+    length = getattr(args, "offset_length_m", None)
+    vf = getattr(args, "offset_vf", None)
+    loss = getattr(args, "offset_loss", None)
+    line_z0 = getattr(args, "offset_line_z0_ohm", None)
+    if length is not None and vf is None:
+        raise AnalysisError("--length needs --vf (the line's velocity factor, e.g. 0.66)")
+    if vf is not None and length is None:
+        raise AnalysisError("--vf applies to --length; give the line's length too (or use --delay)")
+    if delay is None and length is None and loss is None:
+        if line_z0 is not None:
+            raise AnalysisError("--line-z0 describes a line; give its --delay (or --length and --vf) too")
+        if getattr(args, "offset_port", None) is not None:
+            raise AnalysisError("--offset-port needs a line: give --delay (or --length and --vf) or --loss")
+        return None
+    kw = {}
+    if loss is not None:
+        kw["loss_db"], kw["loss_ref_hz"] = loss
+    if line_z0 is not None:
+        kw["line_z0_ohm"] = line_z0
+    if length is not None:
+        return LineOffset.from_length(length, vf, **kw)
+    return LineOffset(delay_s=delay or 0.0, **kw)
+
+
+def offsets_from_args(args: argparse.Namespace, sweep) -> tuple | None:
+    """Per-port offsets for ``sweep`` from the options, or ``None`` when no line was given.
+
+    The line goes at ``--offset-port`` if given (``all``: every port), else at the port
+    being read (``args.port``), else at port 1.
+
+    Raises
+    ------
+    AnalysisError
+        For contradictory options or a port the sweep does not have.
+    """
+    offset = offset_from_args(args)
+    if offset is None:
+        return None
+    target = getattr(args, "offset_port", None)
+    if target is None:
+        target = getattr(args, "port", None) or 1
+    if target == "all":
+        return (offset,) * sweep.n_ports
+    sweep.check_port(target)
+    return tuple(offset if port == target else None for port in range(1, sweep.n_ports + 1))
+
+
+def apply_offsets(args: argparse.Namespace, sweep):
+    """Remove the line the options describe from ``sweep``.
+
+    Returns
+    -------
+    (sweep, notes) : tuple
+        The corrected sweep (the input itself when no line was given) and plain lines
+        saying what was removed, one per port with a line.
+    """
+    from refplane.analysis.deembed import describe_offsets, remove_offsets
+
+    offsets = offsets_from_args(args, sweep)
+    if offsets is None:
+        return sweep, ()
+    vf = getattr(args, "offset_vf", None)
+    notes = tuple(f"port {port}: line removed: {o.describe(vf)}"
+                  for port, o in enumerate(offsets, start=1) if o is not None)
+    corrected = remove_offsets(sweep, offsets)
+    return corrected.replace(comments=sweep.comments + describe_offsets(offsets)), notes
+
+
+def offsets_json(args: argparse.Namespace, sweep) -> list[dict]:
+    """The removed lines as JSON-ready dicts (one per port with a line), for ``--json`` output."""
+    offsets = offsets_from_args(args, sweep) or ()
+    return [{"port": port, "delay_s": o.delay_s, "loss_db": o.loss_db, "loss_ref_hz": o.loss_ref_hz,
+             "line_z0_ohm": o.line_z0_ohm}
+            for port, o in enumerate(offsets, start=1) if o is not None]
