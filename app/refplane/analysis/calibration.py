@@ -452,12 +452,6 @@ def _through_defined(std: StandardSet, freq, z0, interpolate, warnings) -> np.nd
 
 # --------------------------------------------------------------------------- plausibility checks
 
-def _lowband(values: np.ndarray) -> np.ndarray:
-    """The median over the lowest few points (robust to one noisy point)."""
-    k = max(1, min(5, values.shape[0] // 20 or 1))
-    return np.median(values[:k].real, axis=0) + 1j * np.median(values[:k].imag, axis=0)
-
-
 def _warn_inputs(names, gm: np.ndarray, gd: np.ndarray, freq: np.ndarray, warnings: list[str]) -> None:
     # Identical or nearly identical readings: the same file chosen twice, or a standard not
     # changed between measurements. Compared relative to how far apart the definitions are.
@@ -473,19 +467,8 @@ def _warn_inputs(names, gm: np.ndarray, gd: np.ndarray, freq: np.ndarray, warnin
         if ratio[k] < 0.1:
             warnings.append(f"the {names[i]} and {names[j]} read nearly the same (at {_hz(freq[k])}); "
                             "was the standard changed between the two measurements?")
-    # Swapped standards: at the lowest frequencies a port with its cable is close to ideal, so
-    # each raw reading should lie nearest its own definition. A long cable turns the phase
-    # even there, so this is a warning, not a refusal.
-    main = [names.index(n) for n in ("short", "open", "load")]
-    m0, d0 = _lowband(gm[:, main]), _lowband(gd[:, main])
-    cost = {perm: float(np.sum(np.abs(m0[list(perm)] - d0))) for perm in itertools.permutations(range(3))}
-    best = min(cost, key=cost.get)
-    if best != (0, 1, 2) and cost[best] < 0.5 * cost[(0, 1, 2)]:
-        labels = ("short", "open", "load")
-        swapped = [f"the {labels[i]} reads like the {labels[best.index(i)]}" for i in range(3) if best[i] != i]
-        warnings.append("standards look swapped at the lowest frequency: " + "; ".join(swapped)
-                        + " — check which file is which")
     # The load should read near the middle between open and short (scaled by their spread).
+    main = [names.index(n) for n in ("short", "open", "load")]
     mid = (gm[:, main[0]] + gm[:, main[1]]) / 2
     spread = np.abs(gm[:, main[0]] - gm[:, main[1]]) / 2
     mid_d = (gd[:, main[0]] + gd[:, main[1]]) / 2
@@ -500,7 +483,35 @@ def _warn_inputs(names, gm: np.ndarray, gd: np.ndarray, freq: np.ndarray, warnin
                         "check that it is the right load and firmly connected")
 
 
+def tracking_phase_at_dc_deg(terms: OnePortTerms) -> float | None:
+    """Phase of the reflection tracking extrapolated to 0 Hz, in degrees (None if unknowable).
+
+    The tracking of a bridge and cable is |t|·e^(−j2ωτ) with a phase near 0° as f → 0
+    (common practice: an analyzer's reflection path is normalised that way), so the phase,
+    unwrapped and fitted by a straight line over the lowest quarter of the band, should
+    extrapolate to about 0°. An open and short swapped turn every term's sign: about 180°.
+    """
+    f = terms.freq_hz
+    phase = np.angle(terms.reflection_tracking)
+    if f.size < 3:
+        return float(np.degrees(phase[0])) if f[0] < 1e6 else None
+    if f[0] > 0.25 * (f[-1] - f[0]):
+        return None  # the band starts too far from 0 Hz to extrapolate to it
+    step = np.abs(np.angle(terms.reflection_tracking[1:] / terms.reflection_tracking[:-1]))
+    if np.max(step) > np.pi / 2:
+        return None  # too few points per turn to follow the phase reliably
+    k = max(3, f.size // 4)
+    unwrapped = np.unwrap(phase)
+    slope, at_zero = np.polyfit(f[:k], unwrapped[:k], 1)
+    return float(np.degrees(np.angle(np.exp(1j * at_zero))))
+
+
 def _warn_result(terms: OnePortTerms, residual, transmission, checks, freq, warnings: list[str]) -> None:
+    phase0 = tracking_phase_at_dc_deg(terms)
+    if phase0 is not None and abs(phase0) > 135:
+        warnings.append(f"the short and open look swapped: the reflection tracking extrapolates to "
+                        f"{phase0:.0f}° at 0 Hz, where a port normally shows about 0°; check which "
+                        "file is which")
     e00 = np.abs(terms.directivity)
     k = int(np.argmax(e00))
     if e00[k] > POOR_DIRECTIVITY:
