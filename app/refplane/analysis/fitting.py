@@ -536,7 +536,7 @@ def fit_impedance(freq_hz, z_ohm, *, z_ref_ohm: float = 50.0, model: str = "auto
 
     ``z_ref_ohm`` should be where the measurement's error is uniform: the port Z0 for a
     reflection, 2·Z0 for a series-through, Z0/2 for a shunt-through (then ``scale`` = 1/2
-    makes the residual the S21 error; see :func:`fit_sweep`). Other parameters as
+    makes the residual the S21 error in both cases; see :func:`fit_sweep`). Other parameters as
     :func:`fit_reflection`.
     """
     _check_model_id(model)

@@ -19,7 +19,7 @@ ports share one real Z0.
 
 For fitting, the residual of a through measurement is taken on S21 itself, the measured
 quantity. S21 maps to a reflection against an effective reference: series-through
-S21 = 1 − Γ(Z; 2·Z0), shunt-through S21 = (1 + Γ(Z; Z0/2))/2, where
+S21 = (1 − Γ(Z; 2·Z0))/2, shunt-through S21 = (1 + Γ(Z; Z0/2))/2, where
 Γ(Z; Zr) = (Z − Zr)/(Z + Zr). :func:`through_reference` gives that Zr and the scale.
 """
 
@@ -86,7 +86,7 @@ def through_s21(z_ohm, kind: str, z0_ohm: float = 50.0) -> np.ndarray:
 def through_reference(kind: str, z0_ohm: float = 50.0) -> tuple[float, float]:
     """(Zr, scale) with |ΔS21| = scale·|ΔΓ(Z; Zr)| for the ``kind`` mounting (see module notes)."""
     if _check_kind(kind) == "series":
-        return 2.0 * z0_ohm, 1.0
+        return 2.0 * z0_ohm, 0.5
     return 0.5 * z0_ohm, 0.5
 
 
