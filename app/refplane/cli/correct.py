@@ -1,0 +1,187 @@
+"""``refplane correct``: calibrate from measured standards and correct saved device sweeps."""
+
+from __future__ import annotations
+
+import argparse
+import os
+import sys
+from pathlib import Path
+
+_EPILOG = """\
+examples:
+  refplane correct --short s.s1p --open o.s1p --load l.s1p dut.s1p -o dut_fixed.s1p
+  refplane correct --short s.s1p --open o.s1p --load l.s1p --standards kit.json \\
+                   --save-cal port1.json
+  refplane correct --cal port1.json sweeps/*.s1p -o corrected/
+  refplane correct --short s.s2p --open o.s2p --load l.s2p --through t.s2p \\
+                   --isolation i.s2p amp.s2p -o amp_fixed.s2p
+
+Corrected files are Touchstone, named <input name>_corrected.sNp inside a folder when
+several devices are given. Inputs are never overwritten; existing outputs only with --force.
+The quality verdict and any warnings go to stderr.
+"""
+
+
+def _named_file(text: str) -> tuple[str, str]:
+    name, sep, path = text.partition("=")
+    if not sep or not name.strip() or not path.strip():
+        raise argparse.ArgumentTypeError(f"{text!r}: write it as NAME=FILE")
+    return name.strip(), path.strip()
+
+
+def add_parser(sub: argparse._SubParsersAction) -> None:
+    p = sub.add_parser(
+        "correct", help="calibrate from measured standards and correct sweeps",
+        description="Solve the error terms of port 1 from measured short, open and load "
+                    "(and, for S21, a through and optionally an isolation measurement), then "
+                    "write corrected copies of device sweeps. Or save the error terms with "
+                    "--save-cal and apply them later with --cal.",
+        epilog=_EPILOG, formatter_class=argparse.RawDescriptionHelpFormatter)
+    p.add_argument("duts", nargs="*", metavar="DUT", help="device sweep(s) to correct")
+    p.add_argument("-o", "--output", metavar="OUT",
+                   help="output file (one device) or folder (several devices)")
+    g = p.add_argument_group("measured standards")
+    g.add_argument("--short", metavar="S", help="sweep of the short")
+    g.add_argument("--open", metavar="O", help="sweep of the open")
+    g.add_argument("--load", metavar="L", help="sweep of the load")
+    g.add_argument("--through", metavar="T", help="2-port sweep of the through (corrects S21)")
+    g.add_argument("--isolation", metavar="I",
+                   help="2-port sweep with both ports terminated (leakage to subtract)")
+    g.add_argument("--extra", action="append", default=[], type=_named_file, metavar="NAME=FILE",
+                   help="a further standard defined under 'additional' in the standards file "
+                        "(repeatable; more than three standards are solved by least squares)")
+    g.add_argument("--check", action="append", default=[], type=_named_file, metavar="NAME=FILE",
+                   help="a check standard defined under 'checks' in the standards file; "
+                        "compared with its definition after correction (repeatable)")
+    g.add_argument("--standards", metavar="STD.json",
+                   help="definitions of the standards (default: ideal short, open, load, through)")
+    c = p.add_mutually_exclusive_group()
+    c.add_argument("--save-cal", metavar="CAL.json", help="save the error terms to this file")
+    c.add_argument("--cal", metavar="CAL.json", help="use saved error terms instead of standards")
+    p.add_argument("--interpolate", action="store_true",
+                   help="allow sweeps on other frequencies (interpolated, with a warning); "
+                        "by default mismatched frequencies are refused")
+    p.add_argument("--force", action="store_true", help="replace existing output files")
+    p.set_defaults(run=run)
+
+
+def _fail(message: str) -> int:
+    print(f"refplane correct: {message}", file=sys.stderr)
+    return 2
+
+
+def _same(a: str | os.PathLike, b: str | os.PathLike) -> bool:
+    try:
+        return Path(a).resolve() == Path(b).resolve()
+    except OSError:
+        return False
+
+
+def _output_paths(duts, sweeps, output: str) -> list[Path]:
+    from refplane.analysis.errors import AnalysisError
+
+    out = Path(output)
+    several = len(duts) > 1
+    if several and out.exists() and not out.is_dir():
+        raise AnalysisError("with several devices -o must name a folder, and this is a file", file=output)
+    if several or out.is_dir() or output.endswith(("/", os.sep)):
+        paths = [out / f"{Path(d).stem}_corrected.s{s.n_ports}p" for d, s in zip(duts, sweeps)]
+    else:
+        paths = [out]
+    seen: dict[Path, str] = {}
+    for d, p in zip(duts, paths):
+        key = p.resolve()
+        if key in seen:
+            raise AnalysisError(f"{seen[key]} and {d} would both be written to {p}; "
+                                "give the inputs different names")
+        seen[key] = d
+    return paths
+
+
+def run(args: argparse.Namespace) -> int:
+    from refplane.analysis.calibration import calibrate, correct
+    from refplane.analysis.loading import read_sweep
+
+    standards_given = [n for n in ("short", "open", "load", "through", "isolation", "standards")
+                       if getattr(args, n)] + (["extra"] if args.extra else []) + \
+        (["check"] if args.check else [])
+    if args.cal:
+        if standards_given:
+            return _fail("--cal already holds the error terms; leave out "
+                         + ", ".join(f"--{n}" for n in standards_given))
+    else:
+        missing = [f"--{n}" for n in ("short", "open", "load") if not getattr(args, n)]
+        if missing:
+            return _fail(f"give {', '.join(missing)} (the measured standards), or --cal with saved error terms")
+    if not args.duts and not args.save_cal:
+        return _fail("give at least one device sweep to correct (or --save-cal to only save the calibration)")
+    if args.duts and not args.output:
+        return _fail("give -o OUT: an output file for one device, a folder for several")
+    if args.output and not args.duts:
+        return _fail("-o was given but no device sweep to correct")
+
+    inputs = [p for p in (args.short, args.open, args.load, args.through, args.isolation,
+                          args.standards, args.cal) if p]
+    inputs += [f for _, f in args.extra + args.check] + list(args.duts)
+    if args.save_cal:
+        if any(_same(args.save_cal, p) for p in inputs):
+            return _fail(f"{args.save_cal} is one of the inputs; refusing to overwrite it")
+        if Path(args.save_cal).exists() and not args.force:
+            return _fail(f"{args.save_cal} exists already; use --force to replace it")
+
+    # Read every device first: a bad one stops the run before anything is written.
+    duts = [read_sweep(d) for d in args.duts]
+    paths = _output_paths(args.duts, duts, args.output) if duts else []
+    for p in paths:
+        if any(_same(p, i) for i in inputs):
+            return _fail(f"the output {p} is one of the inputs; refusing to overwrite it")
+        if p.exists() and not args.force:
+            return _fail(f"{p} exists already; use --force to replace it")
+
+    if args.cal:
+        from refplane.analysis.calfile import load_calibration
+
+        cal = load_calibration(args.cal)
+    else:
+        cal = _calibrate_from_args(args, calibrate, read_sweep)
+        if args.save_cal:
+            from refplane.analysis.calfile import save_calibration
+
+            save_calibration(cal, args.save_cal, overwrite=args.force)
+            print(f"saved error terms: {args.save_cal}")
+
+    print(f"calibration quality: {cal.quality}. {cal.verdict}".rstrip(), file=sys.stderr)
+    for w in cal.warnings:
+        print(f"warning: {w}", file=sys.stderr)
+    for chk in cal.checks:
+        print(chk.summary(), file=sys.stderr)
+
+    corrected = [correct(cal, d, interpolate=args.interpolate) for d in duts]
+    if paths:
+        multi = len(paths) > 1 or Path(args.output).is_dir() or args.output.endswith(("/", os.sep))
+        if multi:
+            Path(args.output).mkdir(parents=True, exist_ok=True)
+    from refplane.analysis import touchstone
+
+    for src, result, path in zip(args.duts, corrected, paths):
+        for w in result.warnings:
+            print(f"warning: {w}", file=sys.stderr)
+        notes = (f"corrected copy of {src}",) + result.sweep.comments + \
+            tuple(f"warning: {w}" for w in result.warnings)
+        touchstone.write(result.sweep, path, comments=notes, overwrite=args.force)
+        print(f"wrote {path}")
+    return 0
+
+
+def _calibrate_from_args(args, calibrate, read_sweep):
+    from refplane.analysis.standards import StandardSet, load_standards
+
+    std = load_standards(args.standards) if args.standards else StandardSet()
+    measured = {"short": read_sweep(args.short), "open": read_sweep(args.open), "load": read_sweep(args.load)}
+    for name, path in args.extra:
+        measured[name] = read_sweep(path)
+    checks = {name: read_sweep(path) for name, path in args.check}
+    through = read_sweep(args.through) if args.through else None
+    isolation = read_sweep(args.isolation) if args.isolation else None
+    return calibrate(measured, std, through=through, isolation=isolation, checks=checks,
+                     interpolate=args.interpolate)
