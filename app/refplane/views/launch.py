@@ -1,0 +1,145 @@
+"""Starting the window: check that a display can be used, then open the files (or the demo).
+
+A Qt platform plugin that cannot start aborts the whole process (a core dump, not an
+exception), so the check happens before any Qt object exists: environment variables
+first, then, on Linux with X11, a short probe in a child process.
+"""
+
+from __future__ import annotations
+
+import os
+import subprocess
+import sys
+
+NO_DISPLAY = (
+    "refplane: no display is available to open the window{why}.\n"
+    "  To draw a chart to a picture without a display, use: refplane render FILE -o chart.png\n"
+    "  On Linux, start from a desktop session, or set QT_QPA_PLATFORM=offscreen for headless use."
+)
+NO_XCB = (
+    "refplane: the window cannot start: Qt's X11 support failed to load{why}.\n"
+    "  On Debian or Ubuntu this is usually fixed by: sudo apt install libxcb-cursor0\n"
+    "  To draw a chart to a picture without a window, use: refplane render FILE -o chart.png"
+)
+
+_PROBE = ("import sys\n"
+          "from PySide6.QtGui import QGuiApplication\n"
+          "app = QGuiApplication(sys.argv[:1])\n"
+          "print(app.platformName())\n")
+
+
+def display_problem(env: dict[str, str] | None = None, platform: str | None = None,
+                    probe: bool = False) -> str | None:
+    """Why the window cannot open here, in plain words, or None when it can.
+
+    Parameters
+    ----------
+    env : mapping, optional
+        Environment to judge (default ``os.environ``).
+    platform : str, optional
+        ``sys.platform`` to judge (for tests).
+    probe : bool
+        On Linux with X11, also start Qt in a child process to see whether the plugin loads
+        (slower; the window uses the quick checks only unless REFPLANE_PROBE_DISPLAY=1).
+    """
+    env = dict(os.environ if env is None else env)
+    platform = platform or sys.platform
+    qpa = env.get("QT_QPA_PLATFORM", "").split(":")[0].strip().lower()
+    if qpa in ("offscreen", "minimal", "vnc", "eglfs", "linuxfb"):
+        return None
+    if not platform.startswith("linux"):
+        return None  # Windows and macOS always have their own platform plugin
+    has_x = bool(env.get("DISPLAY"))
+    has_wayland = bool(env.get("WAYLAND_DISPLAY"))
+    if qpa == "xcb" and not has_x:
+        return NO_DISPLAY.format(why=" (QT_QPA_PLATFORM=xcb but DISPLAY is not set)")
+    if qpa.startswith("wayland") and not has_wayland:
+        return NO_DISPLAY.format(why=" (QT_QPA_PLATFORM=wayland but WAYLAND_DISPLAY is not set)")
+    if not has_x and not has_wayland:
+        return NO_DISPLAY.format(why=" (neither DISPLAY nor WAYLAND_DISPLAY is set)")
+    if has_wayland and qpa != "xcb":
+        return None
+    # From here Qt will use X11 (the xcb plugin).
+    if not _x_server_reachable(env.get("DISPLAY", "")):
+        return NO_DISPLAY.format(why=f" (no X server answers on DISPLAY={env.get('DISPLAY')})")
+    if not _have_library("xcb-cursor"):
+        return NO_XCB.format(why=" (libxcb-cursor is missing)")
+    if probe:
+        return _probe(env)
+    return None
+
+
+def _x_server_reachable(display: str) -> bool:
+    # A local display ":N" has a socket /tmp/.X11-unix/XN; anything else (ssh forwarding,
+    # a remote host) is left for Qt to try.
+    host, _, rest = display.partition(":")
+    number = rest.split(".")[0]
+    if host in ("", "unix") and number.isdigit():
+        return os.path.exists(f"/tmp/.X11-unix/X{number}") or _abstract_socket(number)
+    return True
+
+
+def _abstract_socket(number: str) -> bool:
+    try:
+        with open("/proc/net/unix", encoding="utf-8", errors="replace") as handle:
+            return f"@/tmp/.X11-unix/X{number}" in handle.read()
+    except OSError:
+        return False
+
+
+def _have_library(name: str) -> bool:
+    import ctypes.util
+
+    try:
+        return ctypes.util.find_library(name) is not None
+    except Exception:  # noqa: BLE001 - if we cannot tell, let Qt try
+        return True
+
+
+def _probe(env: dict[str, str]) -> str | None:
+    """Start Qt in a child process; an abort there costs nothing here."""
+    try:
+        out = subprocess.run([sys.executable, "-c", _PROBE], env=env, capture_output=True,
+                             text=True, timeout=20)
+    except (OSError, subprocess.TimeoutExpired) as exc:
+        return NO_DISPLAY.format(why=f" (checking the display failed: {exc})")
+    if out.returncode == 0:
+        return None
+    text = out.stderr
+    if "xcb" in text:
+        return NO_XCB.format(why="")
+    last = next((ln for ln in reversed(text.strip().splitlines()) if ln.strip()), "")
+    return NO_DISPLAY.format(why=f" ({last.strip()})" if last else "")
+
+
+def run_window(files: list[str]) -> int:
+    """Open the window on ``files``, or on the demo sweep when none are given; returns the exit status."""
+    problem = display_problem(probe=os.environ.get("REFPLANE_PROBE_DISPLAY") == "1")
+    if problem:
+        print(problem, file=sys.stderr)
+        return 2
+    from PySide6.QtWidgets import QApplication
+
+    from refplane.views import demo
+    from refplane.views.icons import app_icon
+
+    app = QApplication.instance() or QApplication(sys.argv[:1])
+    app.setApplicationName("Refplane")
+    app.setOrganizationName("Refplane")
+    app.setWindowIcon(app_icon())
+    import pyqtgraph as pg
+
+    pg.setConfigOptions(antialias=True)
+    from refplane.views.main_window import MainWindow
+
+    window = MainWindow()
+    window.show()
+    if files:
+        window.open_files(files)
+    else:
+        path = demo.demo_path()
+        if path is not None:
+            window.open_files([str(path)])
+        else:
+            window.statusBar().showMessage("Open a sweep with File ▸ Open, or drop files on the window.")
+    return int(app.exec())

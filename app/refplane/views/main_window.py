@@ -1,0 +1,430 @@
+"""The main window: lays out and wires the chart, plots and panels; holds no RF logic.
+
+Adding panels later
+-------------------
+- :meth:`MainWindow.add_side_panel` puts any widget in a dock (right side by default) and
+  lists it under View ▸ Panels; e.g. the reference-plane offsets panel and the fit panel::
+
+      window.add_side_panel("Reference plane", OffsetsPanel(window.state))
+      window.add_side_panel("Fit", FitPanel(window.state), area=Qt.RightDockWidgetArea)
+
+- :meth:`MainWindow.add_tool_action` adds an entry to the Tools menu (shown once it has an
+  entry), e.g. a calibration dialog::
+
+      window.add_tool_action("Calibrate from standards…", lambda: CalibrationDialog(window.state, window).open())
+
+Panels take :attr:`MainWindow.state` (a :class:`~refplane.views.state.ViewState`) and talk
+to the rest of the window only through it.
+"""
+
+from __future__ import annotations
+
+import os
+from typing import Callable
+
+from PySide6.QtCore import QFileSystemWatcher, QSettings, Qt, QTimer
+from PySide6.QtGui import QAction, QActionGroup, QKeySequence
+from PySide6.QtWidgets import (QDockWidget, QFileDialog, QInputDialog, QLabel, QMainWindow,
+                               QMessageBox, QProgressBar, QPushButton, QSplitter, QWidget)
+
+from refplane.views.loader import SweepLoader
+from refplane.views.panels.marker_table import MarkerTable
+from refplane.views.panels.trace_list import TraceList
+from refplane.views.plots import CompanionPlots
+from refplane.views.smith_chart import SmithChart
+from refplane.views.state import ViewState
+from refplane.views.theme import THEMES, Theme
+
+MAX_RECENT = 8
+
+
+def _settings() -> QSettings:
+    return QSettings("Refplane", "Refplane")
+
+
+class MainWindow(QMainWindow):
+    """Chart in the middle, frequency plots beside it, traces and markers in docks."""
+
+    def __init__(self, state: ViewState | None = None, *, theme: str | None = None):
+        super().__init__()
+        self.state = state if state is not None else ViewState(self)
+        self.setWindowTitle("Refplane")
+        self.setAcceptDrops(True)
+        self.setDockOptions(QMainWindow.AnimatedDocks | QMainWindow.AllowTabbedDocks)
+        settings = _settings()
+        self.theme: Theme = THEMES.get(theme or str(settings.value("theme", "light")), THEMES["light"])
+
+        self.chart = SmithChart(self.state, theme=self.theme)
+        self.plots = CompanionPlots(self.state, theme=self.theme)
+        self.splitter = QSplitter(Qt.Horizontal)
+        self.splitter.addWidget(self.chart)
+        self.splitter.addWidget(self.plots)
+        self.splitter.setStretchFactor(0, 5)
+        self.splitter.setStretchFactor(1, 4)
+        self.splitter.setChildrenCollapsible(False)
+        self.setCentralWidget(self.splitter)
+
+        self.trace_list = TraceList(self.state)
+        self.marker_table = MarkerTable(self.state)
+        self.docks: dict[str, QDockWidget] = {}
+        self._panels_menu = None
+        self._build_menus()
+        traces = self._dock("Traces", self.trace_list, Qt.LeftDockWidgetArea)
+        markers = self._dock("Markers", self.marker_table, Qt.LeftDockWidgetArea)
+        self.resizeDocks([traces], [400], Qt.Horizontal)
+        self.resizeDocks([traces, markers], [190, 600], Qt.Vertical)
+
+        self.loader = SweepLoader(self)
+        self.loader.loaded.connect(self._on_loaded)
+        self.loader.failed.connect(self._on_load_failed)
+        self.loader.busyChanged.connect(self._on_busy)
+        self.watcher = QFileSystemWatcher(self)
+        self.watcher.fileChanged.connect(self._on_file_changed)
+        self._reload_timer: dict[str, QTimer] = {}
+        self._build_status_bar()
+        self.state.tracesChanged.connect(self._update_title)
+        self.state.tracesChanged.connect(self._watch_files)
+        self.apply_theme(self.theme)
+        self.resize(1440, 900)
+
+    # ================================================================ layout
+    def _dock(self, title: str, widget: QWidget, area) -> QDockWidget:
+        dock = QDockWidget(title, self)
+        dock.setObjectName(f"dock-{title}")
+        dock.setWidget(widget)
+        dock.setFeatures(QDockWidget.DockWidgetMovable | QDockWidget.DockWidgetClosable
+                         | QDockWidget.DockWidgetFloatable)
+        self.addDockWidget(area, dock)
+        self.docks[title] = dock
+        self._panels_menu.addAction(dock.toggleViewAction())
+        return dock
+
+    def add_side_panel(self, title: str, widget: QWidget, area=Qt.RightDockWidgetArea) -> QDockWidget:
+        """Add a panel in a dock (right side unless ``area`` says otherwise); returns the dock.
+
+        The panel appears under View ▸ Panels so it can be hidden and shown. Docks in the same
+        area are stacked; drag a dock's title to tab or float it.
+        """
+        return self._dock(title, widget, area)
+
+    def add_tool_action(self, text: str, triggered: Callable[[], object], *,
+                        shortcut: str | None = None) -> QAction:
+        """Add an entry to the Tools menu (e.g. opening a calibration dialog); returns the action."""
+        action = QAction(text, self)
+        if shortcut:
+            action.setShortcut(QKeySequence(shortcut))
+        action.triggered.connect(lambda _checked=False: triggered())
+        self.tools_menu.addAction(action)
+        self.tools_menu.menuAction().setVisible(True)
+        return action
+
+    def _build_menus(self) -> None:
+        bar = self.menuBar()
+        file_menu = bar.addMenu("&File")
+        self.open_action = file_menu.addAction("&Open sweeps…", self.ask_open)
+        self.open_action.setShortcut(QKeySequence.Open)
+        self.recent_menu = file_menu.addMenu("Open &recent")
+        self.recent_menu.aboutToShow.connect(self._fill_recent)
+        self.reload_action = file_menu.addAction("Reload files when they change on disk")
+        self.reload_action.setCheckable(True)
+        self.reload_action.setChecked(_settings().value("reload_on_change", "false") == "true")
+        self.reload_action.toggled.connect(
+            lambda on: _settings().setValue("reload_on_change", "true" if on else "false"))
+        file_menu.addSeparator()
+        file_menu.addAction("Save chart picture…", lambda: self.ask_export("chart"))
+        file_menu.addAction("Save plots picture…", lambda: self.ask_export("plots"))
+        file_menu.addSeparator()
+        file_menu.addAction("Close all traces", self.state.clear)
+        quit_action = file_menu.addAction("&Quit", self.close)
+        quit_action.setShortcut(QKeySequence.Quit)
+
+        view = bar.addMenu("&View")
+        self.admittance_action = view.addAction("Admittance grid")
+        self.admittance_action.setCheckable(True)
+        self.admittance_action.toggled.connect(self.chart.set_admittance_grid)
+        self.vswr_action = view.addAction("Constant-VSWR circle…", self.ask_vswr)
+        view.addAction("Reset chart view", self.chart.reset_view).setShortcut(QKeySequence("Ctrl+0"))
+        self.log_action = view.addAction("Log frequency axis")
+        self.log_action.setCheckable(True)
+        self.log_action.toggled.connect(self.plots.log_box.setChecked)
+        self.plots.log_box.toggled.connect(self.log_action.setChecked)
+        theme_menu = view.addMenu("Theme")
+        group = QActionGroup(self)
+        self.theme_actions = {}
+        for key, theme in THEMES.items():
+            action = theme_menu.addAction(theme.name)
+            action.setCheckable(True)
+            action.setChecked(theme is self.theme)
+            action.triggered.connect(lambda _c=False, t=theme, k=key: self.set_theme(k))
+            group.addAction(action)
+            self.theme_actions[key] = action
+        self._panels_menu = view.addMenu("Panels")
+
+        markers = bar.addMenu("&Markers")
+        markers.addAction("Add marker at a frequency…", self._focus_marker_entry).setShortcut(QKeySequence("Ctrl+M"))
+        markers.addAction("Remove current marker", self._remove_current_marker)
+        markers.addAction("Remove all markers", self.state.clear_markers)
+        markers.addAction("Copy marker table", self.marker_table.copy_to_clipboard)
+
+        self.tools_menu = bar.addMenu("&Tools")
+        self.tools_menu.menuAction().setVisible(False)  # shown once a tool is added
+
+        help_menu = bar.addMenu("&Help")
+        help_menu.addAction("Working safely…", self.show_safety)
+        help_menu.addAction("Using the window…", self.show_usage)
+        help_menu.addAction("About Refplane…", self.show_about)
+
+    def _build_status_bar(self) -> None:
+        status = self.statusBar()
+        self.progress = QProgressBar()
+        self.progress.setRange(0, 0)  # the readers report no fraction: an honest "busy"
+        self.progress.setMaximumWidth(160)
+        self.progress.setVisible(False)
+        self.cancel_button = QPushButton("Cancel")
+        self.cancel_button.setVisible(False)
+        self.cancel_button.clicked.connect(self.loader.cancel)
+        self.busy_label = QLabel("")
+        status.addPermanentWidget(self.busy_label)
+        status.addPermanentWidget(self.progress)
+        status.addPermanentWidget(self.cancel_button)
+
+    # ================================================================= files
+    def open_files(self, paths: list[str]) -> None:
+        """Read files in the background; each becomes a trace (errors open a dialog)."""
+        for path in paths:
+            self.loader.load(os.fspath(path))
+
+    def ask_open(self) -> None:
+        from refplane.analysis.loading import SWEEP_PATTERNS
+
+        folder = str(_settings().value("last_folder", ""))
+        patterns = " ".join(SWEEP_PATTERNS)
+        paths, _ = QFileDialog.getOpenFileNames(
+            self, "Open sweeps", folder, f"Sweeps ({patterns});;Touchstone (*.s?p *.snp *.ts);;"
+                                         "CSV (*.csv);;All files (*)")
+        if paths:
+            _settings().setValue("last_folder", os.path.dirname(paths[0]))
+            self.open_files(paths)
+
+    def recent_files(self) -> list[str]:
+        """Recently opened files, newest first."""
+        value = _settings().value("recent_files", [])
+        if isinstance(value, str):
+            value = [value]
+        return [str(v) for v in (value or [])]
+
+    def _remember(self, path: str) -> None:
+        path = os.path.abspath(path)
+        files = [path] + [p for p in self.recent_files() if p != path]
+        _settings().setValue("recent_files", files[:MAX_RECENT])
+
+    def _fill_recent(self) -> None:
+        self.recent_menu.clear()
+        files = self.recent_files()
+        for path in files:
+            action = self.recent_menu.addAction(os.path.basename(path))
+            action.setToolTip(path)
+            action.setStatusTip(path)
+            action.triggered.connect(lambda _c=False, p=path: self.open_files([p]))
+        if not files:
+            self.recent_menu.addAction("No recent files").setEnabled(False)
+        else:
+            self.recent_menu.addSeparator()
+            self.recent_menu.addAction("Forget recent files",
+                                       lambda: _settings().setValue("recent_files", []))
+
+    def _on_loaded(self, request, sweep) -> None:
+        if request.reload_of is not None and request.reload_of in self.state.trace_ids():
+            self.state.replace_sweep(request.reload_of, sweep)
+            self.statusBar().showMessage(f"Reloaded {os.path.basename(request.path)}", 4000)
+            self._watch_files()
+            return
+        self.state.add_sweep(sweep)
+        self._remember(request.path)
+        self.statusBar().showMessage(
+            f"Opened {os.path.basename(request.path)}: {sweep.n_points} points, {sweep.n_ports} port(s)", 5000)
+
+    def _on_load_failed(self, request, message: str) -> None:
+        self.show_error("This file could not be opened", message)
+
+    def _on_busy(self, busy: bool, text: str) -> None:
+        self.progress.setVisible(busy)
+        self.cancel_button.setVisible(busy)
+        self.busy_label.setText(text)
+
+    def _watch_files(self) -> None:
+        wanted = {t.source for t in self.state.traces() if t.source and os.path.exists(t.source)}
+        watched = set(self.watcher.files())
+        if watched - wanted:
+            self.watcher.removePaths(list(watched - wanted))
+        if wanted - watched:
+            self.watcher.addPaths(list(wanted - watched))
+
+    def _on_file_changed(self, path: str) -> None:
+        if not self.reload_action.isChecked():
+            return
+        # Editors and instruments write in bursts; wait for the writing to settle.
+        timer = self._reload_timer.get(path)
+        if timer is None:
+            timer = self._reload_timer[path] = QTimer(self)
+            timer.setSingleShot(True)
+            timer.timeout.connect(lambda p=path: self._reload(p))
+        timer.start(300)
+
+    def _reload(self, path: str) -> None:
+        for t in self.state.traces():
+            if t.source and os.path.abspath(t.source) == os.path.abspath(path) and os.path.exists(path):
+                self.loader.load(path, reload_of=t.id)
+
+    # --------------------------------------------------------- drag and drop
+    def dragEnterEvent(self, ev) -> None:
+        from refplane.analysis.loading import is_sweep_file
+
+        urls = ev.mimeData().urls() if ev.mimeData().hasUrls() else []
+        if any(u.isLocalFile() and is_sweep_file(u.toLocalFile()) for u in urls):
+            ev.acceptProposedAction()
+        else:
+            ev.ignore()
+
+    def dropEvent(self, ev) -> None:
+        paths = [u.toLocalFile() for u in ev.mimeData().urls() if u.isLocalFile()]
+        if paths:
+            self.open_files(paths)
+            ev.acceptProposedAction()
+
+    # ================================================================ export
+    def ask_save_path(self, title: str, suggested: str) -> str | None:
+        """Ask where to save a picture (a method so tests can replace the dialog)."""
+        path, _ = QFileDialog.getSaveFileName(self, title, suggested, "PNG picture (*.png);;SVG drawing (*.svg)")
+        return path or None
+
+    def ask_export(self, what: str) -> None:
+        path = self.ask_save_path(f"Save {what} picture", f"refplane-{what}.png")
+        if not path:
+            return
+        if not os.path.splitext(path)[1]:
+            path += ".png"
+        try:
+            # The file dialog has already asked before replacing an existing file.
+            self.export(what, path, overwrite=True)
+        except Exception as exc:  # noqa: BLE001 - any failure is reported, the window stays up
+            self.show_error("The picture could not be saved", str(exc))
+        else:
+            self.statusBar().showMessage(f"Saved {path}", 5000)
+
+    def export(self, what: str, path: str, *, size: tuple[int, int] | None = None,
+               overwrite: bool = False):
+        """Save the chart (``what="chart"``) or the plots (``"plots"``) as PNG or SVG.
+
+        With ``size`` (width, height) the picture is drawn at that size in pixels by a twin
+        of the widget on the same state; without it, at the widget's present size.
+        """
+        from refplane.views import export
+
+        if what == "chart":
+            widget = self.chart
+        elif what == "plots":
+            widget = self.plots
+        else:
+            raise ValueError(what)
+        if size is None:
+            return export.save_widget(widget, path, overwrite=overwrite, background=self.theme.chart_bg)
+        twin = self._twin(what)
+        try:
+            twin.resize(*size)
+            twin.setAttribute(Qt.WA_DontShowOnScreen, True)
+            twin.show()
+            from PySide6.QtWidgets import QApplication
+
+            QApplication.processEvents()
+            return export.save_widget(twin, path, overwrite=overwrite, background=self.theme.chart_bg)
+        finally:
+            twin.close()
+            twin.deleteLater()
+
+    def _twin(self, what: str) -> QWidget:
+        if what == "chart":
+            twin = SmithChart(self.state, theme=self.theme)
+            twin.set_admittance_grid(self.admittance_action.isChecked())
+            twin.set_vswr_circle(self.chart.vswr)
+            return twin
+        twin = CompanionPlots(self.state, theme=self.theme)
+        twin.set_log_x(self.plots.log_box.isChecked())
+        twin.upper.set_quantity(self.plots.upper.quantity)
+        twin.lower.set_quantity(self.plots.lower.quantity)
+        return twin
+
+    # ================================================================= view
+    def ask_vswr(self) -> None:
+        current = self.chart.vswr or 2.0
+        value, ok = QInputDialog.getDouble(self, "Constant-VSWR circle",
+                                           "VSWR (1 hides the circle):", current, 1.0, 100.0, 2)
+        if ok:
+            self.chart.set_vswr_circle(None if value <= 1.0 else value)
+
+    def set_theme(self, key: str) -> None:
+        """Switch between the light and dark theme (remembered)."""
+        self.theme = THEMES[key]
+        _settings().setValue("theme", key)
+        self.apply_theme(self.theme)
+        self.theme_actions[key].setChecked(True)
+
+    def apply_theme(self, theme: Theme) -> None:
+        from PySide6.QtWidgets import QApplication
+
+        from refplane.views import theme as theme_module
+
+        app = QApplication.instance()
+        if app is not None:
+            theme_module.apply(app, theme)
+        self.chart.set_theme(theme)
+        self.plots.set_theme(theme)
+
+    def _focus_marker_entry(self) -> None:
+        self.docks["Markers"].show()
+        self.marker_table.entry.setFocus()
+
+    def _remove_current_marker(self) -> None:
+        if self.state.current_marker != -1:
+            self.state.remove_marker(self.state.current_marker)
+
+    def _update_title(self) -> None:
+        names = [t.name for t in self.state.traces()]
+        if not names:
+            self.setWindowTitle("Refplane")
+        elif len(names) == 1:
+            self.setWindowTitle(f"{names[0]} — Refplane")
+        else:
+            self.setWindowTitle(f"{names[0]} and {len(names) - 1} more — Refplane")
+
+    # ========================================================== messages
+    def show_error(self, title: str, message: str) -> None:
+        """Show a problem without blocking the window (tests replace this method)."""
+        box = QMessageBox(QMessageBox.Warning, title, message, QMessageBox.Ok, self)
+        box.setAttribute(Qt.WA_DeleteOnClose, True)
+        box.setWindowModality(Qt.NonModal)
+        box.open()
+        self._last_error_box = box
+
+    def show_safety(self) -> None:
+        from refplane.views.help_text import SAFETY_HTML, SAFETY_TITLE
+
+        QMessageBox.information(self, SAFETY_TITLE, SAFETY_HTML)
+
+    def show_usage(self) -> None:
+        from refplane.views.help_text import USAGE_HTML
+
+        QMessageBox.information(self, "Using the window", USAGE_HTML)
+
+    def show_about(self) -> None:
+        from refplane import __version__
+
+        QMessageBox.about(self, "About Refplane",
+                          f"<b>Refplane {__version__}</b><p>Smith chart impedance analysis for saved "
+                          "network-analyzer sweeps: markers, reference planes, offline calibration "
+                          "and equivalent circuits.</p>")
+
+    def closeEvent(self, ev) -> None:
+        self.loader.cancel()
+        self.loader.wait(3000)
+        super().closeEvent(ev)

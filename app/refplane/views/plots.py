@@ -1,0 +1,351 @@
+"""Rectilinear plots over frequency that share the chart's markers and set the selected band.
+
+:class:`FrequencyPlot` shows one quantity (return loss, VSWR, R and X, |Z|, phase; |S21| and
+its phase for two-port sweeps) for every visible trace, with a vertical line per marker
+(drag it to move the marker) and the selected band as a shaded region. Shift-drag across
+the plot, or turn on "Pick band" and drag, to choose a band; click to place a marker on the
+current trace. :class:`CompanionPlots` stacks two of them with a shared frequency axis.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pyqtgraph as pg
+from PySide6.QtCore import Qt, Signal
+from PySide6.QtGui import QColor
+from PySide6.QtWidgets import (QCheckBox, QComboBox, QHBoxLayout, QLabel, QPushButton,
+                               QVBoxLayout, QWidget)
+
+from refplane.views import plot_series
+from refplane.views.state import ViewState
+from refplane.views.theme import LIGHT, Theme
+
+
+class BandViewBox(pg.ViewBox):
+    """A view box where a Shift-drag (or any left drag in band mode) sweeps out a band.
+
+    Emits ``sigBand(x1, x2, finished)`` in view coordinates; ordinary drags pan and zoom.
+    """
+
+    sigBand = Signal(float, float, bool)
+
+    def __init__(self, *args, **kw):
+        super().__init__(*args, **kw)
+        self.band_mode = False
+        self._band_start: float | None = None
+
+    def mouseDragEvent(self, ev, axis=None) -> None:
+        wants_band = ev.button() == Qt.LeftButton and (
+            self.band_mode or bool(ev.modifiers() & Qt.ShiftModifier))
+        if not wants_band and self._band_start is None:
+            super().mouseDragEvent(ev, axis)
+            return
+        ev.accept()
+        x = self.mapSceneToView(ev.scenePos()).x()
+        if ev.isStart() or self._band_start is None:
+            self._band_start = self.mapSceneToView(ev.buttonDownScenePos()).x()
+        self.sigBand.emit(self._band_start, x, bool(ev.isFinish()))
+        if ev.isFinish():
+            self._band_start = None
+
+
+class FrequencyPlot(QWidget):
+    """One rectilinear plot of a chosen quantity for every visible trace."""
+
+    def __init__(self, state: ViewState, quantity: str = "return_loss", parent: QWidget | None = None,
+                 theme: Theme = LIGHT):
+        super().__init__(parent)
+        self.state = state
+        self.theme = theme
+        self.log_x = False
+        self.chooser = QComboBox()
+        for q in plot_series.QUANTITIES:
+            self.chooser.addItem(q.title, q.key)
+        self.chooser.setCurrentIndex(self.chooser.findData(quantity))
+        self.viewbox = BandViewBox()
+        self.plot = pg.PlotWidget(viewBox=self.viewbox, background=theme.chart_bg)
+        self.plot.setMenuEnabled(False)
+        self.plot.hideButtons()
+        self.plot.showGrid(x=True, y=True, alpha=0.25)
+        self.plot.setLabel("bottom", "Frequency", units="Hz")
+        self.plot.getAxis("left").setWidth(56)
+        self.note = QLabel("")
+        self.note.setObjectName("hint")
+        top = QHBoxLayout()
+        top.setContentsMargins(4, 2, 4, 0)
+        top.addWidget(self.chooser)
+        top.addStretch(1)
+        top.addWidget(self.note)
+        layout = QVBoxLayout(self)
+        layout.setContentsMargins(0, 0, 0, 0)
+        layout.setSpacing(2)
+        layout.addLayout(top)
+        layout.addWidget(self.plot, 1)
+        self.setFocusPolicy(Qt.StrongFocus)
+
+        self._curves: list[pg.PlotDataItem] = []
+        self._lines: dict[int, pg.InfiniteLine] = {}
+        self.region = pg.LinearRegionItem(movable=True)
+        self.region.setZValue(-5)
+        self.region.setVisible(False)
+        self.plot.addItem(self.region)
+        self._set_region_theme()
+
+        self.chooser.currentIndexChanged.connect(self.redraw)
+        self.viewbox.sigBand.connect(self._on_band_dragged)
+        self.region.sigRegionChanged.connect(lambda: self._on_region_moved(False))
+        self.region.sigRegionChangeFinished.connect(lambda: self._on_region_moved(True))
+        self.plot.scene().sigMouseClicked.connect(self._on_clicked)
+        for sig in (state.tracesChanged, state.markersChanged):
+            sig.connect(self.redraw)
+        for sig in (state.traceChanged, state.offsetsChanged):
+            sig.connect(lambda _id: self.redraw())
+        state.markerMoving.connect(self._on_marker_moving)
+        state.markerMoved.connect(self._on_marker_moving)
+        state.bandChanging.connect(self._on_band_changed)
+        state.bandChanged.connect(self._on_band_changed)
+        self.redraw()
+
+    # ---------------------------------------------------------------- public
+    @property
+    def quantity(self) -> str:
+        """Key of the quantity shown (see :data:`refplane.views.plot_series.QUANTITIES`)."""
+        return self.chooser.currentData()
+
+    def set_quantity(self, key: str) -> None:
+        """Show another quantity."""
+        self.chooser.setCurrentIndex(self.chooser.findData(key))
+
+    def set_log_x(self, log_x: bool) -> None:
+        """Logarithmic or linear frequency axis."""
+        self.log_x = bool(log_x)
+        self.plot.setLogMode(x=self.log_x, y=False)
+        self.redraw()
+        self.plot.enableAutoRange()
+
+    def set_theme(self, theme: Theme) -> None:
+        self.theme = theme
+        self.plot.setBackground(theme.chart_bg)
+        self._set_region_theme()
+        self.redraw()
+
+    def curve_items(self) -> list[pg.PlotDataItem]:
+        """The curves drawn (for tests and export)."""
+        return list(self._curves)
+
+    def marker_line(self, marker_id: int) -> pg.InfiniteLine:
+        """The vertical line of a marker (for tests)."""
+        return self._lines[marker_id]
+
+    # --------------------------------------------------------------- helpers
+    def _x(self, freq_hz: float) -> float:
+        # In log mode pyqtgraph's view coordinates are log10 of the data.
+        return math.log10(freq_hz) if self.log_x else freq_hz
+
+    def _freq(self, x: float) -> float:
+        return 10.0 ** x if self.log_x else x
+
+    def _set_region_theme(self) -> None:
+        c = QColor(self.theme.accent)
+        c.setAlphaF(0.14)
+        self.region.setBrush(c)
+        edge = QColor(self.theme.accent)
+        for line in self.region.lines:
+            line.setPen(pg.mkPen(edge, width=1.5))
+
+    # ----------------------------------------------------------------- slots
+    def redraw(self, *_args) -> None:
+        for item in self._curves:
+            self.plot.removeItem(item)
+        self._curves = []
+        q = plot_series.BY_KEY[self.quantity]
+        unit = q.unit
+        axis = self.plot.getAxis("left")
+        axis.enableAutoSIPrefix(unit == "Ω")
+        self.plot.setLabel("left", q.axis, units=unit or None)
+        shown = 0
+        for t in self.state.traces():
+            if not t.visible:
+                continue
+            sweeps = [(t.displayed, 1.0)]
+            if t.corrected:
+                sweeps.append((t.raw, 0.3))
+            for sweep, alpha in sweeps:
+                for curve in plot_series.curves(sweep, t.port, q.key):
+                    x, y = plot_series.finite_for_plot(sweep.freq_hz, curve.y, self.log_x)
+                    colour = QColor(t.colour)
+                    colour.setAlphaF(alpha)
+                    pen = pg.mkPen(colour, width=1.8 if alpha == 1.0 else 1.2,
+                                   style=Qt.DashLine if curve.dashed else Qt.SolidLine)
+                    item = pg.PlotDataItem(x, y, pen=pen, connect="finite", antialias=True)
+                    self.plot.addItem(item)
+                    self._curves.append(item)
+                    shown += 1
+            for name, model in t.overlays.items():
+                for curve in plot_series.curves(model, 1, q.key) if not q.two_port else ():
+                    x, y = plot_series.finite_for_plot(model.freq_hz, curve.y, self.log_x)
+                    item = pg.PlotDataItem(x, y, pen=pg.mkPen(t.colour, width=1.4, style=Qt.DotLine),
+                                           connect="finite", antialias=True)
+                    self.plot.addItem(item)
+                    self._curves.append(item)
+        if q.two_port and shown == 0 and self.state.traces():
+            self.note.setText("needs a two-port sweep")
+        else:
+            self.note.setText("R solid, X dashed" if q.key == "r_x" and shown else "")
+        self._sync_lines()
+        self._on_band_changed()
+
+    def _sync_lines(self) -> None:
+        markers = self.state.markers()
+        ids = {m.id for m in markers}
+        for mid in list(self._lines):
+            if mid not in ids:
+                self.plot.removeItem(self._lines.pop(mid))
+        for number, m in enumerate(markers, start=1):
+            t = self.state.trace(m.trace_id)
+            line = self._lines.get(m.id)
+            if line is None:
+                line = pg.InfiniteLine(angle=90, movable=True,
+                                       label=str(number), labelOpts={"position": 0.94, "color": t.colour})
+                line.sigPositionChanged.connect(lambda ln, mid=m.id: self._on_line_dragged(mid, ln, False))
+                line.sigPositionChangeFinished.connect(lambda ln, mid=m.id: self._on_line_dragged(mid, ln, True))
+                self.plot.addItem(line)
+                self._lines[m.id] = line
+            line.label.setFormat(str(number))
+            line.setPen(pg.mkPen(t.colour, width=1.4, style=Qt.DashLine))
+            line.setHoverPen(pg.mkPen(self.theme.accent, width=2.5))
+            line.setVisible(t.visible)
+            self._place_line(m.id)
+
+    def _place_line(self, marker_id: int) -> None:
+        line = self._lines[marker_id]
+        x = self._x(self.state.marker(marker_id).freq_hz) if (
+            not self.log_x or self.state.marker(marker_id).freq_hz > 0) else None
+        if x is not None:
+            line.blockSignals(True)
+            line.setValue(x)
+            line.blockSignals(False)
+
+    def _on_marker_moving(self, marker_id: int) -> None:
+        if marker_id in self._lines:
+            self._place_line(marker_id)
+
+    def _on_line_dragged(self, marker_id: int, line: pg.InfiniteLine, finished: bool) -> None:
+        self.state.set_current_marker(marker_id)
+        self.state.move_marker(marker_id, self._freq(line.value()), finished=finished)
+
+    def _on_band_dragged(self, x1: float, x2: float, finished: bool) -> None:
+        f1, f2 = sorted((self._freq(x1), self._freq(x2)))
+        if f2 > f1:
+            self.state.set_band((f1, f2), finished=finished)
+
+    def _on_region_moved(self, finished: bool) -> None:
+        if self._syncing_region:
+            return
+        x1, x2 = self.region.getRegion()
+        f1, f2 = sorted((self._freq(x1), self._freq(x2)))
+        if f2 > f1:
+            self.state.set_band((f1, f2), finished=finished)
+
+    _syncing_region = False
+
+    def _on_band_changed(self) -> None:
+        band = self.state.band
+        self._syncing_region = True
+        try:
+            if band is None or (self.log_x and band[0] <= 0):
+                self.region.setVisible(False)
+            else:
+                self.region.setRegion((self._x(band[0]), self._x(band[1])))
+                self.region.setVisible(True)
+        finally:
+            self._syncing_region = False
+
+    def _on_clicked(self, ev) -> None:
+        if ev.button() != Qt.LeftButton or ev.double() or ev.modifiers() & Qt.ShiftModifier:
+            return
+        if not self.viewbox.sceneBoundingRect().contains(ev.scenePos()):
+            return
+        if any(isinstance(i, pg.InfiniteLine) for i in self.plot.scene().items(ev.scenePos())):
+            return
+        tid = self.state.current_trace
+        if tid == -1:
+            return
+        f = self._freq(self.viewbox.mapSceneToView(ev.scenePos()).x())
+        freq = self.state.displayed(tid).freq_hz
+        if freq[0] <= f <= freq[-1]:
+            self.setFocus()
+            self.state.add_marker(tid, f)
+
+    def keyPressEvent(self, ev) -> None:
+        mid = self.state.current_marker
+        if ev.key() in (Qt.Key_Left, Qt.Key_Right) and mid != -1:
+            step = 1 if ev.key() == Qt.Key_Right else -1
+            if ev.modifiers() & Qt.ShiftModifier:
+                step *= 10
+            self.state.step_marker(mid, step)
+            ev.accept()
+        else:
+            super().keyPressEvent(ev)
+
+
+class CompanionPlots(QWidget):
+    """Two frequency plots, stacked, sharing the frequency axis, a log/linear switch and band tools."""
+
+    def __init__(self, state: ViewState, parent: QWidget | None = None, theme: Theme = LIGHT):
+        super().__init__(parent)
+        self.state = state
+        self.upper = FrequencyPlot(state, "return_loss", theme=theme)
+        self.lower = FrequencyPlot(state, "r_x", theme=theme)
+        self.lower.plot.setXLink(self.upper.plot)
+        self.log_box = QCheckBox("Log frequency")
+        self.band_button = QPushButton("Pick band")
+        self.band_button.setCheckable(True)
+        self.band_button.setToolTip("Drag across a plot to choose a band (or hold Shift while dragging)")
+        self.clear_band = QPushButton("Clear band")
+        self.band_label = QLabel("")
+        self.band_label.setObjectName("hint")
+        bar = QHBoxLayout()
+        bar.setContentsMargins(4, 0, 4, 0)
+        bar.addWidget(self.log_box)
+        bar.addSpacing(12)
+        bar.addWidget(self.band_button)
+        bar.addWidget(self.clear_band)
+        bar.addWidget(self.band_label, 1)
+        layout = QVBoxLayout(self)
+        layout.setContentsMargins(0, 0, 0, 0)
+        layout.setSpacing(4)
+        layout.addLayout(bar)
+        layout.addWidget(self.upper, 1)
+        layout.addWidget(self.lower, 1)
+        self.log_box.toggled.connect(self.set_log_x)
+        self.band_button.toggled.connect(self._set_band_mode)
+        self.clear_band.clicked.connect(lambda: state.set_band(None))
+        state.bandChanging.connect(self._show_band)
+        state.bandChanged.connect(self._show_band)
+        self._show_band()
+
+    def plots(self) -> list[FrequencyPlot]:
+        return [self.upper, self.lower]
+
+    def set_log_x(self, log_x: bool) -> None:
+        for p in self.plots():
+            p.set_log_x(log_x)
+
+    def set_theme(self, theme: Theme) -> None:
+        for p in self.plots():
+            p.set_theme(theme)
+
+    def _set_band_mode(self, on: bool) -> None:
+        for p in self.plots():
+            p.viewbox.band_mode = on
+
+    def _show_band(self) -> None:
+        from refplane.analysis.units import format_frequency
+
+        band = self.state.band
+        self.clear_band.setEnabled(band is not None)
+        self.band_label.setText(
+            "" if band is None else f"Band {format_frequency(band[0], 5)} – {format_frequency(band[1], 5)}")

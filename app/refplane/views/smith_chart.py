@@ -1,0 +1,538 @@
+"""The Smith chart widget: our own grid, traces, markers and a constant-VSWR circle, in pyqtgraph.
+
+One graphics item per visual element, each fed precomputed arrays:
+
+- :class:`GridItem` — unit circle, impedance grid (and optionally the admittance grid), labels;
+  geometry from :mod:`refplane.views.smith_grid`.
+- :class:`TraceItem` — one trace's Γ curve with a start symbol (open circle) and an end
+  symbol (filled square), so the direction of increasing frequency is visible.
+- :class:`MarkerItem` — one marker, drawn at a fixed pixel size and draggable; it reports
+  drags, the chart turns them into frequencies and tells the state.
+- :class:`VswrCircleItem` — the constant-VSWR circle.
+
+:class:`SmithChart` observes a :class:`~refplane.views.state.ViewState`; its slots only move
+data from the state into items (and the cursor's Γ through ``impedance.gamma_to_z`` for the
+hover line).
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pyqtgraph as pg
+from PySide6.QtCore import QPointF, QRectF, Qt, Signal
+from PySide6.QtGui import QColor, QFont, QPainter, QPainterPath, QPen
+from PySide6.QtWidgets import QGraphicsItem, QLabel, QVBoxLayout, QWidget
+
+from refplane.views import smith_grid
+from refplane.views.state import ViewState
+from refplane.views.theme import LIGHT, Theme
+
+#: How close (in pixels) the cursor must be to a trace to read its frequency or place a marker.
+PICK_PX = 9.0
+#: The view shown at start and by "Reset view": the unit circle plus room for the labels.
+HOME = 1.16
+
+
+def _path(x: np.ndarray, y: np.ndarray) -> QPainterPath:
+    return pg.arrayToQPath(np.asarray(x, float), np.asarray(y, float), connect="finite")
+
+
+def _pen(colour: str, width: float = 1.0, style=Qt.SolidLine, alpha: float = 1.0) -> QPen:
+    c = QColor(colour)
+    c.setAlphaF(alpha)
+    pen = QPen(c, width)
+    pen.setCosmetic(True)  # constant width in pixels: crisp at any zoom and on high-DPI screens
+    pen.setStyle(style)
+    pen.setCapStyle(Qt.RoundCap)
+    pen.setJoinStyle(Qt.RoundJoin)
+    return pen
+
+
+class GridItem(pg.GraphicsObject):
+    """The chart's grid: unit circle, constant-r circles, constant-x arcs, value labels."""
+
+    def __init__(self, theme: Theme = LIGHT):
+        super().__init__()
+        self._theme = theme
+        self._impedance = smith_grid.impedance_grid()
+        self._admittance: smith_grid.GridLines | None = None
+        self._paths: list[tuple[QPainterPath, QPen]] = []
+        self._labels: list[pg.TextItem] = []
+        self._rebuild()
+
+    def set_theme(self, theme: Theme) -> None:
+        """Recolour the grid."""
+        self._theme = theme
+        self._rebuild()
+
+    def set_admittance(self, grid: smith_grid.GridLines | None) -> None:
+        """Show an admittance grid (precomputed) behind the impedance grid, or hide it with None."""
+        self._admittance = grid
+        self._rebuild()
+
+    def _rebuild(self) -> None:
+        t = self._theme
+        paths = []
+        if self._admittance is not None:
+            paths.append((_path(*self._admittance.minor), _pen(t.admittance, 0.8, alpha=0.6)))
+            paths.append((_path(*self._admittance.major), _pen(t.admittance, 1.0)))
+        g = self._impedance
+        paths.append((_path(*g.minor), _pen(t.grid_minor, 0.8)))
+        paths.append((_path(*g.major), _pen(t.grid_major, 1.0)))
+        paths.append((_path(*g.axis), _pen(t.grid_major, 1.0)))
+        paths.append((_path(*smith_grid.unit_circle()), _pen(t.rim, 1.6)))
+        self._paths = paths
+        for item in self._labels:
+            item.setParentItem(None)
+            if item.scene() is not None:
+                item.scene().removeItem(item)
+        font = QFont()
+        font.setPointSizeF(8.0)
+        self._labels = []
+        for lab in g.labels:
+            item = pg.TextItem(lab.text, color=t.label, anchor=lab.anchor)
+            item.setFont(font)
+            item.setParentItem(self)
+            item.setPos(lab.x, lab.y)
+            self._labels.append(item)
+        self.prepareGeometryChange()
+        self.update()
+
+    def boundingRect(self) -> QRectF:
+        return QRectF(-1.02, -1.02, 2.04, 2.04)
+
+    def paint(self, painter: QPainter, *args) -> None:
+        painter.setRenderHint(QPainter.Antialiasing, True)
+        for path, pen in self._paths:
+            painter.setPen(pen)
+            painter.drawPath(path)
+
+
+class TraceItem(pg.ItemGroup):
+    """One curve on the chart with start and end symbols; fed Γ's real and imaginary parts."""
+
+    def __init__(self, colour: str, *, width: float = 2.0, dashed: bool = False,
+                 alpha: float = 1.0, ends: bool = True):
+        super().__init__()
+        self.curve = pg.PlotCurveItem(antialias=True, skipFiniteCheck=True)
+        self.curve.setParentItem(self)
+        self.start = pg.ScatterPlotItem(symbol="o", size=9, pxMode=True)
+        self.end = pg.ScatterPlotItem(symbol="s", size=8, pxMode=True)
+        for item in (self.start, self.end):
+            item.setParentItem(self)
+            item.setVisible(ends)
+        self._ends = ends
+        self.set_style(colour, width=width, dashed=dashed, alpha=alpha)
+
+    def set_style(self, colour: str, *, width: float = 2.0, dashed: bool = False, alpha: float = 1.0) -> None:
+        """Colour, width (px), dash and opacity of the curve and its end symbols."""
+        pen = _pen(colour, width, Qt.DashLine if dashed else Qt.SolidLine, alpha)
+        self.curve.setPen(pen)
+        c = QColor(colour)
+        c.setAlphaF(alpha)
+        self.start.setPen(pg.mkPen(c, width=1.6))
+        self.start.setBrush(pg.mkBrush(255, 255, 255, int(255 * alpha)))
+        self.end.setPen(pg.mkPen(c, width=1))
+        self.end.setBrush(pg.mkBrush(c))
+
+    def set_data(self, x: np.ndarray, y: np.ndarray) -> None:
+        """New points (Γ real, Γ imaginary); the first and last get the start/end symbols."""
+        self.curve.setData(x, y)
+        if self._ends and len(x):
+            self.start.setData([x[0]], [y[0]])
+            self.end.setData([x[-1]], [y[-1]])
+
+
+class MarkerItem(pg.GraphicsObject):
+    """A marker: a ring with its number beside it, fixed in pixels, draggable.
+
+    Emits ``sigDragged(marker_id, scene_pos, finished)`` during a drag and ``sigClicked(marker_id)``.
+    """
+
+    sigDragged = Signal(int, QPointF, bool)
+    sigClicked = Signal(int)
+
+    def __init__(self, marker_id: int, number: int, colour: str, theme: Theme = LIGHT):
+        super().__init__()
+        self.marker_id = marker_id
+        self._number = str(number)
+        self._colour = QColor(colour)
+        self._theme = theme
+        self._current = False
+        self.setFlag(QGraphicsItem.ItemIgnoresTransformations, True)
+        self.setZValue(20)
+        self.setCursor(Qt.SizeAllCursor)
+        self.setAcceptHoverEvents(True)
+
+    def set_current(self, current: bool) -> None:
+        """Draw the marker the arrow keys move with an accent halo."""
+        self._current = current
+        self.update()
+
+    def set_colour(self, colour: str) -> None:
+        self._colour = QColor(colour)
+        self.update()
+
+    def boundingRect(self) -> QRectF:
+        return QRectF(-12, -26, 40, 38)
+
+    def shape(self) -> QPainterPath:
+        path = QPainterPath()
+        path.addEllipse(QPointF(0, 0), 9, 9)
+        return path
+
+    def paint(self, painter: QPainter, *args) -> None:
+        painter.setRenderHint(QPainter.Antialiasing, True)
+        if self._current:
+            halo = QColor(self._theme.accent)
+            halo.setAlphaF(0.35)
+            painter.setPen(Qt.NoPen)
+            painter.setBrush(halo)
+            painter.drawEllipse(QPointF(0, 0), 10, 10)
+        painter.setBrush(QColor(self._theme.chart_bg))
+        painter.setPen(QPen(self._colour, 2.2))
+        painter.drawEllipse(QPointF(0, 0), 5.5, 5.5)
+        painter.setPen(QPen(self._colour, 1.4))
+        painter.drawLine(QPointF(-2, 0), QPointF(2, 0))
+        painter.drawLine(QPointF(0, -2), QPointF(0, 2))
+        font = QFont()
+        font.setPointSizeF(9.0)
+        font.setBold(True)
+        painter.setFont(font)
+        painter.setPen(QColor(self._theme.text))
+        painter.drawText(QRectF(6, -24, 22, 16), Qt.AlignLeft | Qt.AlignBottom, self._number)
+
+    def mouseDragEvent(self, ev) -> None:
+        if ev.button() != Qt.LeftButton:
+            ev.ignore()
+            return
+        ev.accept()
+        if ev.isStart():
+            self.sigClicked.emit(self.marker_id)
+        self.sigDragged.emit(self.marker_id, ev.scenePos(), bool(ev.isFinish()))
+
+    def mouseClickEvent(self, ev) -> None:
+        if ev.button() == Qt.LeftButton:
+            ev.accept()
+            self.sigClicked.emit(self.marker_id)
+
+
+class VswrCircleItem(pg.PlotCurveItem):
+    """The circle of one VSWR value, dashed; fed precomputed points."""
+
+    def __init__(self, theme: Theme = LIGHT):
+        super().__init__(antialias=True)
+        self.set_theme(theme)
+        self.setZValue(5)
+
+    def set_theme(self, theme: Theme) -> None:
+        self.setPen(_pen(theme.vswr, 1.4, Qt.DashLine))
+
+    def set_circle(self, x: np.ndarray | None, y: np.ndarray | None) -> None:
+        """Show the circle through these points, or hide it with None."""
+        if x is None:
+            self.setVisible(False)
+            return
+        self.setData(x, y)
+        self.setVisible(True)
+
+
+class SmithChart(QWidget):
+    """The chart widget observing a :class:`ViewState`.
+
+    Mouse: wheel zooms, drag pans, click near a trace places a marker, drag a marker along
+    its trace. Keys: Left/Right step the current marker one swept point, Home resets the view.
+    """
+
+    hoverTextChanged = Signal(str)
+
+    def __init__(self, state: ViewState, parent: QWidget | None = None, theme: Theme = LIGHT):
+        super().__init__(parent)
+        self.state = state
+        self.theme = theme
+        self.plot = pg.PlotWidget(background=theme.chart_bg)
+        self.plot.setMenuEnabled(False)
+        self.plot.hideButtons()
+        pi = self.plot.getPlotItem()
+        for axis in ("left", "bottom"):
+            pi.hideAxis(axis)
+        self.view: pg.ViewBox = pi.getViewBox()
+        self.view.setAspectLocked(True, 1.0)
+        self.view.setLimits(xMin=-3, xMax=3, yMin=-3, yMax=3, minXRange=0.01, minYRange=0.01)
+        self.grid = GridItem(theme)
+        self.plot.addItem(self.grid)
+        self.vswr_circle = VswrCircleItem(theme)
+        self.vswr_circle.setVisible(False)
+        self.plot.addItem(self.vswr_circle)
+        self.hover = QLabel(" ")
+        self.hover.setObjectName("hover")
+        self.hover.setTextInteractionFlags(Qt.TextSelectableByMouse)
+        layout = QVBoxLayout(self)
+        layout.setContentsMargins(0, 0, 0, 0)
+        layout.setSpacing(0)
+        layout.addWidget(self.plot, 1)
+        layout.addWidget(self.hover)
+        self.setFocusPolicy(Qt.StrongFocus)
+        self.plot.setFocusPolicy(Qt.StrongFocus)
+
+        self._traces: dict[int, TraceItem] = {}
+        self._raw: dict[int, TraceItem] = {}
+        self._overlays: dict[tuple[int, str], TraceItem] = {}
+        self._markers: dict[int, MarkerItem] = {}
+        self._data: dict[int, tuple[np.ndarray, np.ndarray, np.ndarray]] = {}
+        self._vswr: float | None = None
+
+        state.tracesChanged.connect(self._on_traces_changed)
+        state.traceChanged.connect(self._on_trace_changed)
+        state.offsetsChanged.connect(self._on_trace_changed)
+        state.overlaysChanged.connect(self._on_overlays_changed)
+        state.markersChanged.connect(self._on_markers_changed)
+        state.markerMoving.connect(self._on_marker_moving)
+        state.markerMoved.connect(self._on_marker_moving)
+        state.currentMarkerChanged.connect(self._on_current_marker)
+        scene = self.plot.scene()
+        scene.sigMouseMoved.connect(self._on_mouse_moved)
+        scene.sigMouseClicked.connect(self._on_mouse_clicked)
+        self._on_traces_changed()
+        self._on_markers_changed()
+        self.reset_view()
+
+    # ---------------------------------------------------------------- public
+    def reset_view(self) -> None:
+        """Show the whole chart."""
+        self.view.setRange(xRange=(-HOME, HOME), yRange=(-HOME, HOME), padding=0)
+
+    def set_admittance_grid(self, shown: bool) -> None:
+        """Show or hide the admittance grid."""
+        self.grid.set_admittance(smith_grid.admittance_grid() if shown else None)
+
+    def set_vswr_circle(self, vswr: float | None) -> None:
+        """Show the constant-VSWR circle of ``vswr`` (≥ 1), or hide it with None."""
+        self._vswr = vswr
+        if vswr is None:
+            self.vswr_circle.set_circle(None, None)
+        else:
+            self.vswr_circle.set_circle(*smith_grid.vswr_circle(vswr))
+
+    @property
+    def vswr(self) -> float | None:
+        """The VSWR whose circle is shown, or None."""
+        return self._vswr
+
+    def set_theme(self, theme: Theme) -> None:
+        """Recolour everything."""
+        self.theme = theme
+        self.plot.setBackground(theme.chart_bg)
+        self.grid.set_theme(theme)
+        self.vswr_circle.set_theme(theme)
+        for m in self._markers.values():
+            m._theme = theme
+            m.update()
+
+    def trace_item(self, trace_id: int) -> TraceItem:
+        """The item drawing a trace (for tests and export)."""
+        return self._traces[trace_id]
+
+    def marker_item(self, marker_id: int) -> MarkerItem:
+        """The item drawing a marker (for tests)."""
+        return self._markers[marker_id]
+
+    def trace_count(self) -> int:
+        """Number of traces drawn (visible or not)."""
+        return len(self._traces)
+
+    def drag_marker_to(self, marker_id: int, gamma: complex, finished: bool = True) -> None:
+        """Move a marker as a drag to chart position ``gamma`` would (used by the item and tests)."""
+        m = self.state.marker(marker_id)
+        f = self._frequency_near(m.trace_id, gamma.real, gamma.imag)[0]
+        self.state.move_marker(marker_id, f, finished=finished)
+
+    # ------------------------------------------------------------------ keys
+    def keyPressEvent(self, ev) -> None:
+        mid = self.state.current_marker
+        if ev.key() in (Qt.Key_Right, Qt.Key_Up, Qt.Key_Left, Qt.Key_Down) and mid != -1:
+            step = 1 if ev.key() in (Qt.Key_Right, Qt.Key_Up) else -1
+            if ev.modifiers() & Qt.ShiftModifier:
+                step *= 10
+            self.state.step_marker(mid, step)
+            ev.accept()
+        elif ev.key() == Qt.Key_Home:
+            self.reset_view()
+            ev.accept()
+        elif ev.key() == Qt.Key_Delete and mid != -1:
+            self.state.remove_marker(mid)
+            ev.accept()
+        else:
+            super().keyPressEvent(ev)
+
+    # ----------------------------------------------------------------- slots
+    def _on_traces_changed(self) -> None:
+        ids = set(self.state.trace_ids())
+        for tid in list(self._traces):
+            if tid not in ids:
+                for store in (self._traces, self._raw):
+                    item = store.pop(tid, None)
+                    if item is not None:
+                        self.plot.removeItem(item)
+                self._data.pop(tid, None)
+                for key in [k for k in self._overlays if k[0] == tid]:
+                    self.plot.removeItem(self._overlays.pop(key))
+        for tid in self.state.trace_ids():
+            if tid not in self._traces:
+                self._traces[tid] = TraceItem(self.state.trace(tid).colour)
+                self._traces[tid].setZValue(10)
+                self.plot.addItem(self._traces[tid])
+                self._on_trace_changed(tid)
+                self._on_overlays_changed(tid)
+
+    def _on_trace_changed(self, trace_id: int) -> None:
+        if trace_id not in self._traces:
+            return
+        t = self.state.trace(trace_id)
+        g = t.displayed.reflection(t.port)
+        item = self._traces[trace_id]
+        item.set_style(t.colour)
+        item.set_data(g.real, g.imag)
+        item.setVisible(t.visible)
+        self._data[trace_id] = (t.displayed.freq_hz, g.real, g.imag)
+        raw = self._raw.get(trace_id)
+        if t.corrected:
+            if raw is None:
+                raw = self._raw[trace_id] = TraceItem(t.colour, width=1.4, alpha=0.3, ends=False)
+                raw.setZValue(8)
+                self.plot.addItem(raw)
+            r = t.raw.reflection(t.port)
+            raw.set_style(t.colour, width=1.4, alpha=0.3)
+            raw.set_data(r.real, r.imag)
+            raw.setVisible(t.visible)
+        elif raw is not None:
+            self.plot.removeItem(self._raw.pop(trace_id))
+        for key, ov in self._overlays.items():
+            if key[0] == trace_id:
+                ov.set_style(t.colour, width=1.6, dashed=True, alpha=0.9)
+                ov.setVisible(t.visible)
+        for mid, mitem in self._markers.items():
+            if self.state.marker(mid).trace_id == trace_id:
+                mitem.set_colour(t.colour)
+                mitem.setVisible(t.visible)
+                self._place_marker(mid)
+
+    def _on_overlays_changed(self, trace_id: int) -> None:
+        t = self.state.trace(trace_id)
+        for key in [k for k in self._overlays if k[0] == trace_id and k[1] not in t.overlays]:
+            self.plot.removeItem(self._overlays.pop(key))
+        for name, sweep in t.overlays.items():
+            key = (trace_id, name)
+            if key not in self._overlays:
+                self._overlays[key] = TraceItem(t.colour, width=1.6, dashed=True, alpha=0.9, ends=False)
+                self._overlays[key].setZValue(9)
+                self.plot.addItem(self._overlays[key])
+            g = sweep.reflection(1)
+            self._overlays[key].set_data(g.real, g.imag)
+            self._overlays[key].setVisible(t.visible)
+
+    def _on_markers_changed(self) -> None:
+        existing = {m.id for m in self.state.markers()}
+        for mid in list(self._markers):
+            if mid not in existing:
+                self.plot.removeItem(self._markers.pop(mid))
+        for number, m in enumerate(self.state.markers(), start=1):
+            t = self.state.trace(m.trace_id)
+            item = self._markers.get(m.id)
+            if item is None:
+                item = self._markers[m.id] = MarkerItem(m.id, number, t.colour, self.theme)
+                item.sigDragged.connect(self._on_marker_dragged)
+                item.sigClicked.connect(self.state.set_current_marker)
+                self.plot.addItem(item)
+            item._number = str(number)
+            item.set_colour(t.colour)
+            item.setVisible(t.visible)
+            item.set_current(m.id == self.state.current_marker)
+            self._place_marker(m.id)
+
+    def _on_marker_moving(self, marker_id: int) -> None:
+        if marker_id in self._markers:
+            self._place_marker(marker_id)
+
+    def _on_current_marker(self, marker_id: int) -> None:
+        for mid, item in self._markers.items():
+            item.set_current(mid == marker_id)
+
+    def _place_marker(self, marker_id: int) -> None:
+        g = self.state.marker_gamma(marker_id)
+        self._markers[marker_id].setPos(g.real, g.imag)
+
+    def _on_marker_dragged(self, marker_id: int, scene_pos: QPointF, finished: bool) -> None:
+        p = self.view.mapSceneToView(scene_pos)
+        self.drag_marker_to(marker_id, complex(p.x(), p.y()), finished)
+
+    def _pixels_per_unit(self) -> tuple[float, float]:
+        px, py = self.view.viewPixelSize()
+        return 1.0 / px if px else 1.0, 1.0 / py if py else 1.0
+
+    def _frequency_near(self, trace_id: int, x: float, y: float) -> tuple[float, float]:
+        freq, gx, gy = self._data[trace_id]
+        sx, sy = self._pixels_per_unit()
+        return smith_grid.frequency_near(x, y, gx, gy, freq, sx, sy)
+
+    def _nearest_trace(self, x: float, y: float) -> tuple[int, float, float] | None:
+        best = None
+        for tid, item in self._traces.items():
+            if not item.isVisible():
+                continue
+            f, dist = self._frequency_near(tid, x, y)
+            if best is None or dist < best[2]:
+                best = (tid, f, dist)
+        return best
+
+    def _on_mouse_moved(self, scene_pos: QPointF) -> None:
+        if not self.view.sceneBoundingRect().contains(scene_pos):
+            return
+        p = self.view.mapSceneToView(scene_pos)
+        self.hover.setText(self.hover_text(complex(p.x(), p.y())))
+        self.hoverTextChanged.emit(self.hover.text())
+
+    def hover_text(self, gamma: complex) -> str:
+        """The hover line for a chart position: z, Z in ohms, and the nearest trace's frequency."""
+        from refplane.analysis.impedance import gamma_to_z
+        from refplane.analysis.units import format_frequency
+
+        if abs(gamma) > 1.0:
+            return "Outside the chart (|Γ| > 1)"
+        near = self._nearest_trace(gamma.real, gamma.imag)
+        tid = near[0] if near else self.state.current_trace
+        z0 = 50.0
+        if tid in self._traces:
+            t = self.state.trace(tid)
+            z0 = float(t.displayed.z0_ohm[t.port - 1].real)
+        z = complex(gamma_to_z(gamma, z0))
+        zn = z / z0
+        if math.isinf(z.real):
+            text = "z = ∞ (open)"
+        else:
+            text = (f"z = {zn.real:.3f} {'+' if zn.imag >= 0 else '−'} j{abs(zn.imag):.3f}    "
+                    f"Z = {z.real:.2f} {'+' if z.imag >= 0 else '−'} j{abs(z.imag):.2f} Ω  "
+                    f"(ref. {z0:g} Ω)")
+        if near and near[2] <= PICK_PX:
+            text += f"    ·    {format_frequency(near[1], 6)} on {self.state.trace(near[0]).name}"
+        return text
+
+    def _on_mouse_clicked(self, ev) -> None:
+        if ev.button() != Qt.LeftButton or ev.double():
+            return
+        scene_pos = ev.scenePos()
+        if any(isinstance(i, MarkerItem) for i in self.plot.scene().items(scene_pos)):
+            return
+        p = self.view.mapSceneToView(scene_pos)
+        self.setFocus()
+        self.add_marker_near(complex(p.x(), p.y()))
+
+    def add_marker_near(self, gamma: complex) -> int | None:
+        """Place a marker on the visible trace nearest to chart position ``gamma``, if within reach."""
+        near = self._nearest_trace(gamma.real, gamma.imag)
+        if near is None or near[2] > PICK_PX:
+            return None
+        self.state.set_current_trace(near[0])
+        return self.state.add_marker(near[0], near[1])
