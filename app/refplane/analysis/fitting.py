@@ -180,16 +180,20 @@ class FitResult:
         srf = self.derived.get("srf_hz", math.nan)
         if math.isfinite(srf):
             text += f"; self-resonant at {format_with_error(srf, self.derived.get('srf_hz_stderr', math.nan), 'Hz')}"
+            if not self.band_hz[0] <= srf <= self.band_hz[1]:
+                text += " (outside the fitted band: an extrapolation)"
         text = text[0].upper() + text[1:]
         return f"{text} (residual {format_percent(self.residual_rel)})"
 
     def table_rows(self) -> list[tuple[str, str, str]]:
-        """(key, value, ± error) rows for a table, one per parameter, in the model's order."""
+        """(key, value, ± error) rows for a table, one per parameter, in the model's order.
+
+        Value and error share one prefix and one last decimal place, as in the sentence.
+        """
         rows = []
         for key in self.model.param_names:
-            err = self.stderr.get(key, math.nan)
-            rows.append((key, format_si(self.params[key], unit_of(key), 5),
-                         "± " + format_si(err, unit_of(key), 2) if math.isfinite(err) else "± —"))
+            value, _, err = self.value_text(key).partition(" ± ")
+            rows.append((key, value, f"± {err}" if err else "± —"))
         return rows
 
     def json(self) -> dict:

@@ -54,7 +54,7 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
 def run(args: argparse.Namespace) -> int:
     from refplane.analysis.fitting import fit_sweep, ranking_rows
     from refplane.analysis.loading import read_sweep
-    from refplane.analysis.units import format_frequency
+    from refplane.analysis.units import format_frequency, format_si
 
     sweep = read_sweep(args.file)
     result = fit_sweep(sweep, model=args.model, band_hz=args.band_hz, port=args.port, through=args.through)
@@ -79,7 +79,7 @@ def run(args: argparse.Namespace) -> int:
         derived.append(("self-resonance",
                         format_with_error(srf, result.derived.get("srf_hz_stderr", float("nan")), "Hz")
                         if srf == srf else "none"))
-    derived.append((f"Q at {format_frequency(result.derived['q_at_hz'])}", f"{result.derived['q']:.4g}"))
+    derived.append((f"Q at {format_si(result.derived['q_at_hz'], 'Hz', 4)}", f"{result.derived['q']:.4g}"))
     print()
     print(format_table(["derived", "value"], derived))
     if len(result.ranking) > 1:
