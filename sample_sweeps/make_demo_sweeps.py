@@ -306,6 +306,10 @@ def _antenna_grid() -> np.ndarray:
     return 100e6 + 0.25e6 * np.arange(401, dtype=np.float64)   # 100 to 200 MHz
 
 
+def _filter_grid() -> np.ndarray:
+    return 50e6 + 0.5e6 * np.arange(501, dtype=np.float64)     # 50 to 300 MHz
+
+
 def _cal_grid() -> np.ndarray:
     return 2e6 * np.arange(1, 501, dtype=np.float64)           # 2 MHz to 1 GHz, 2 MHz steps
 
@@ -326,7 +330,7 @@ def demo_files() -> list[DemoFile]:
     files.append(DemoFile(
         "chip_capacitor_100pf.s1p", f,
         _reflection_noise(_rng(2), _gamma(chip_capacitor_z(f))),
-        ("A 100 pF chip capacitor on a small test fixture (fixture removed).",
+        ("A 100 pF chip capacitor, read at its own pads (the test fixture already removed).",
          "Model: ESR 0.1 ohm, ESL 0.8 nH, in series with 100 pF; self-resonant near 563 MHz,",
          "inductive above."), freq_unit="kHz"))
     files.append(DemoFile(
@@ -351,9 +355,10 @@ def demo_files() -> list[DemoFile]:
         _reflection_noise(_rng(5), line**2),
         ("The same 1.5 m feed coax with the antenna unscrewed and its far end left open, for finding",
          "the reference plane from the sweep itself: delay 7.581 ns one way, 1.0 dB at 1 GHz (sqrt(f)).")))
+    f = _filter_grid()
     files.append(DemoFile(
-        "bandpass_filter_2m.s2p", np.round(50e6 + 0.5e6 * np.arange(501), 0),
-        _two_port_noise(_rng(6), bandpass_filter_s(50e6 + 0.5e6 * np.arange(501)), passive=True),
+        "bandpass_filter_2m.s2p", f,
+        _two_port_noise(_rng(6), bandpass_filter_s(f), passive=True),
         ("A 3-pole band-pass filter for the 2 m band, to keep FM broadcast out of the receiver:",
          "146 MHz centre, 30 MHz wide (Butterworth, series L-C / shunt L||C / series L-C), 50 ohm,",
          "inductor Q 120 and 80. Noise: -60 dB on reflection, -70 dB on transmission.")))
