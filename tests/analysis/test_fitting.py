@@ -2,8 +2,10 @@
 
 from __future__ import annotations
 
+import importlib.util
 import math
 import re
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -287,3 +289,22 @@ def test_an_exact_open_or_short_point_does_not_upset_the_fit():
     r = fit_reflection(f, g, 50.0, model="series-rc")
     assert all(math.isfinite(v) for v in r.params.values())
     assert r.params["c_f"] == pytest.approx(params["c_f"], rel=0.05)
+
+
+DEMO = Path(__file__).resolve().parents[2] / "sample_sweeps"
+
+
+@pytest.mark.parametrize("name, expected", [
+    ("leaded_resistor_75ohm.s1p", "resistor-leads"),
+    ("chip_capacitor_100pf.s1p", "capacitor"),
+    ("inductor_470nh.s1p", "inductor"),
+])
+def test_demo_sweeps_are_named_correctly(name, expected):
+    # Smoke check only: the demo sweeps are invented data (see sample_sweeps/README.md), so
+    # they are no reference; this checks the automatic choice names each demo part.
+    path = DEMO / name
+    if not path.exists() or importlib.util.find_spec("refplane.analysis.touchstone") is None:
+        pytest.skip("demo sweeps or the Touchstone reader not present")
+    from refplane.analysis.loading import read_sweep
+
+    assert fit_sweep(read_sweep(path)).model_id == expected
