@@ -530,6 +530,13 @@ def save_standards(standards: StandardSet, path: str | os.PathLike, *, overwrite
     return write_text_atomic(target, text + "\n", overwrite=overwrite)
 
 
+def definition_keys(kind: str) -> tuple[str, ...]:
+    """The standards-file keys a model definition of ``kind`` may hold (unit in each name)."""
+    if kind not in KINDS:
+        raise AnalysisError(f"unknown kind of standard {kind!r}")
+    return tuple(_KIND_KEYS[kind]) + tuple(_OFFSET_KEYS)
+
+
 def names_of(pairs: Iterable[tuple[str, Standard]]) -> tuple[str, ...]:
     """The names of ``(name, Standard)`` pairs."""
     return tuple(n for n, _ in pairs)
