@@ -93,6 +93,7 @@ class _Header:
     matrix_line: int | None = None
     comments: list[str] = field(default_factory=list)
     in_information: bool = False
+    reference_open: bool = False
     network_data_line: int | None = None
     keyword_seen: bool = False
 
@@ -201,6 +202,7 @@ class _Header:
                 f"the keyword [{text[1:close].strip()}] belongs to Touchstone 2.0, but the file "
                 "does not start with [Version] 2.0", line)
         self.keyword_seen = True
+        self.reference_open = name == "reference"
         if name == "number of ports":
             n = self._count(value, "[Number of Ports]", line)
             if n < 1:
@@ -324,11 +326,12 @@ def _header_line(head: _Header, text: str, line: int) -> str:
             return "keyword:" + head.keyword(stripped, line)
         return "blank"
     if stripped.startswith("#"):
+        head.reference_open = False
         head.option(stripped, line)
         return "option"
     if stripped.startswith("["):
         return "keyword:" + head.keyword(stripped, line)
-    if head.reference_wanted and head.network_data_line is None:
+    if head.reference_open and head.network_data_line is None:
         head.reference_values(stripped, line)
         return "blank"
     return "data"
@@ -420,6 +423,8 @@ def _fast(handle, name: str, ext_ports: int | None):
         elif kind.startswith("keyword:") and head.network_data_line is not None:
             return None  # e.g. [End] straight after [Network Data]: no data; let the careful pass say so
         elif kind == "data":
+            if "!" in text:
+                head.comments.pop()  # the body pass collects this line's comment
             head.start_data(line)
             first = raw
             break
@@ -580,6 +585,8 @@ def _careful(name: str, ext_ports: int | None):
             head.start_data(number)
             raise head.error("[Network Data] is followed by no numbers", number)
         elif kind == "data":
+            if "!" in text:
+                head.comments.pop()  # collected again below, with the line's numbers
             head.start_data(number)
             first = (number, text)
             break
