@@ -187,3 +187,14 @@ def test_correct_without_terms_or_devices_is_reported(dialog, files):
     dialog.solve()
     assert dialog.correct_devices() == []
     assert "tick at least one" in dialog.errors[-1][1]
+
+
+def test_additional_standards_in_a_loaded_file_are_set_aside(dialog, files, tmp_path):
+    kit = tmp_path / "kit.json"
+    kit.write_text(json.dumps({"format": "refplane-standards", "version": 1,
+                               "additional": {"oshort": {"kind": "short", "offset_delay_s": 4e-11}}}))
+    assert dialog.load_definitions(str(kit))
+    choose_standards(dialog, files)
+    assert dialog.solve() is not None
+    items = [dialog.warning_list.item(i).text() for i in range(dialog.warning_list.count())]
+    assert any("not used here: oshort" in w for w in items)

@@ -19,6 +19,9 @@ examples:
 Corrected files are Touchstone, named <input name>_corrected.sNp inside a folder when
 several devices are given. Inputs are never overwritten; existing outputs only with --force.
 The quality verdict and any warnings go to stderr.
+
+Caution when measuring the standards: discharge long cables before connecting them to the
+analyzer, and never connect a line that a transmitter may still feed.
 """
 
 

@@ -10,6 +10,7 @@ Problems are shown without closing the dialog: a line in the dialog and a non-bl
 from __future__ import annotations
 
 import copy
+import dataclasses
 import os
 from pathlib import Path
 
@@ -23,6 +24,7 @@ from PySide6.QtWidgets import (QCheckBox, QComboBox, QDialog, QFileDialog, QGrid
 
 from refplane.analysis.errors import AnalysisError
 from refplane.views.state import PALETTE, ViewState
+from refplane.views.theme import LIGHT, Theme
 
 #: The measurements the dialog asks for: role, label, whether it is needed.
 ROLES = (
@@ -30,7 +32,7 @@ ROLES = (
     ("open", "Measured open", True),
     ("load", "Measured load", True),
     ("through", "Measured through (optional, 2-port)", False),
-    ("isolation", "Both ports terminated, for leakage (optional, 2-port)", False),
+    ("isolation", "Ports terminated, for leakage (optional, 2-port)", False),
 )
 
 #: Plain labels for the keys of the standards file.
@@ -59,10 +61,11 @@ _EMPTY_DEFINITIONS = {"format": "refplane-standards", "version": 1, "name": "ide
 class CalibrationDialog(QDialog):
     """Calibrate from measured standards and open corrected devices as new traces."""
 
-    def __init__(self, state: ViewState, parent: QWidget | None = None):
+    def __init__(self, state: ViewState, parent: QWidget | None = None, theme: Theme = LIGHT):
         super().__init__(parent)
         self.setWindowTitle("Calibrate from measured standards")
         self.state = state
+        self.theme = theme
         self.calibration = None
         self._sweeps: dict[str, object] = {}
         self._definitions: dict = copy.deepcopy(_EMPTY_DEFINITIONS)
@@ -77,7 +80,7 @@ class CalibrationDialog(QDialog):
         left_layout = QVBoxLayout(left)
         left_layout.setContentsMargins(0, 0, 0, 0)
         left_layout.addWidget(self._build_files())
-        left_layout.addWidget(self._build_definitions())
+        left_layout.addWidget(self._build_definitions(), 1)
         left_layout.addWidget(self._build_devices())
         split.addWidget(left)
         split.addWidget(self._build_results())
@@ -114,6 +117,7 @@ class CalibrationDialog(QDialog):
             edit = QLineEdit()
             edit.setReadOnly(True)
             edit.setPlaceholderText("no file chosen")
+            edit.setMinimumWidth(180)
             self.path_edits[role] = edit
             grid.addWidget(edit, row, 1)
             choose = QPushButton("Choose…")
@@ -122,6 +126,7 @@ class CalibrationDialog(QDialog):
             clear = QPushButton("Clear")
             clear.clicked.connect(lambda _c=False, r=role: self.clear_standard(r))
             grid.addWidget(clear, row, 3)
+        grid.setColumnStretch(1, 1)
         self.interpolate_box = QCheckBox("Allow sweeps on different frequencies (interpolate, less accurate)")
         grid.addWidget(self.interpolate_box, len(ROLES), 0, 1, 4)
         return box
@@ -151,7 +156,8 @@ class CalibrationDialog(QDialog):
         self.definition_table.verticalHeader().setVisible(False)
         self.definition_table.horizontalHeader().setSectionResizeMode(0, QHeaderView.Stretch)
         self.definition_table.itemChanged.connect(self._on_definition_edited)
-        v.addWidget(self.definition_table)
+        self.definition_table.setMinimumHeight(200)
+        v.addWidget(self.definition_table, 1)
         return box
 
     def _build_devices(self) -> QGroupBox:
@@ -162,6 +168,7 @@ class CalibrationDialog(QDialog):
         note.setWordWrap(True)
         v.addWidget(note)
         self.device_list = QListWidget()
+        self.device_list.setMaximumHeight(140)
         v.addWidget(self.device_list)
         row = QHBoxLayout()
         add = QPushButton("Add files…")
@@ -188,7 +195,10 @@ class CalibrationDialog(QDialog):
         row.addWidget(load_terms)
         row.addStretch(1)
         v.addLayout(row)
-        self.plot = pg.PlotWidget()
+        self.plot = pg.PlotWidget(background=self.theme.chart_bg)
+        for side in ("left", "bottom"):
+            self.plot.getAxis(side).setTextPen(self.theme.text)
+            self.plot.getAxis(side).setPen(self.theme.muted)
         self.plot.setLabel("bottom", "Frequency", units="Hz")
         self.plot.setLabel("left", "Magnitude", units="dB")
         self.plot.showGrid(x=True, y=True, alpha=0.3)
@@ -238,6 +248,8 @@ class CalibrationDialog(QDialog):
             return False
         self._sweeps[role] = sweep
         self.path_edits[role].setText(os.fspath(path))
+        self.path_edits[role].setToolTip(os.fspath(path))
+        self.path_edits[role].setCursorPosition(len(os.fspath(path)))  # the file name shows
         self._ok()
         self._update_buttons()
         return True
@@ -392,13 +404,20 @@ class CalibrationDialog(QDialog):
             self.show_error("Standards missing", "choose: " + ", ".join(missing))
             return None
         try:
-            cal = calibrate({r: self._sweeps[r] for r in ("short", "open", "load")}, self.standards(),
+            standards = self.standards()
+            extra = [n for n, _ in standards.additional + standards.checks]
+            # The dialog measures short, open and load only; further standards are a command-line matter.
+            standards = dataclasses.replace(standards, additional=(), checks=())
+            cal = calibrate({r: self._sweeps[r] for r in ("short", "open", "load")}, standards,
                             through=self._sweeps.get("through"), isolation=self._sweeps.get("isolation"),
                             interpolate=self.interpolate_box.isChecked())
         except AnalysisError as exc:
             self.show_error("Cannot work out the error terms", str(exc))
             return None
         self._show_calibration(cal)
+        if extra:
+            self.warning_list.addItem(f"not used here: {', '.join(extra)} (additional and check standards "
+                                      "are measured with 'refplane correct --extra/--check')")
         return cal
 
     def _show_calibration(self, cal) -> None:
