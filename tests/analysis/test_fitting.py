@@ -308,3 +308,9 @@ def test_demo_sweeps_are_named_correctly(name, expected):
     from refplane.analysis.loading import read_sweep
 
     assert fit_sweep(read_sweep(path)).model_id == expected
+
+
+def test_a_complex_reference_is_refused():
+    f, g, _ = _data("series-rl")
+    with pytest.raises(AnalysisError, match="real, positive reference"):
+        fit_reflection(f, g, 50.0 + 5j)

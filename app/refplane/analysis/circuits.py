@@ -341,7 +341,8 @@ class CircuitModel:
         ok = np.isfinite(z) & (z != 0) & (f > 0)
         if np.count_nonzero(ok) < 2:
             raise AnalysisError(
-                f"model {self.id}: fewer than two points with a finite, non-zero impedance to start from")
+                f"model {self.id}: fewer than two points with a finite, non-zero impedance to start from "
+                "(the sweep reads as an ideal open or short throughout the band)")
         with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
             values = self._estimate(2 * np.pi * f[ok], z[ok])
         return dict(zip(self.param_names, (float(v) for v in values)))

@@ -239,19 +239,16 @@ def format_with_error(value: float, err: float, unit: str) -> str:
     >>> format_with_error(9.1034e-9, 2.1e-10, "H")
     '9.10 nH ± 0.21 nH'
     """
-    if not math.isfinite(err) or value == 0:
+    if not math.isfinite(err) or not math.isfinite(value) or value == 0:
         return format_si(value, unit, 4)
     if err < 1e-6 * abs(value):  # an exact fit of clean data: the error rounds to nothing
         shown = format_si(value, unit, 6)
         return f"{shown} ± 0 {shown.partition(' ')[2]}".rstrip()
-    digits = int(math.floor(math.log10(abs(value))) - math.floor(math.log10(err))) + 2
-    digits = min(max(digits, 2), 6)
-    shown = format_si(value, unit, digits)
-    # The error in the value's prefix, to the same last decimal place.
-    number, _, prefixed = shown.partition(" ")
-    scale = abs(value) / abs(float(number.replace("−", "-"))) if float(number) != 0 else 1.0
-    decimals = len(number.split(".")[1]) if "." in number else 0
-    return f"{shown} ± {err / scale:.{decimals}f} {prefixed}".rstrip()
+    # The value's metric prefix, then as many decimals as show the error to two figures.
+    number, _, prefixed = format_si(value, unit, 6).partition(" ")
+    scale = value / float(number)
+    decimals = min(max(1 - math.floor(math.log10(err / abs(scale))), 0), 6)
+    return f"{value / scale:.{decimals}f} {prefixed} ± {err / abs(scale):.{decimals}f} {prefixed}"
 
 
 # ---------------------------------------------------------------------------------------
@@ -526,7 +523,10 @@ def fit_reflection(freq_hz, gamma, z0_ohm: float = 50.0, *, model: str = "auto",
         raise AnalysisError("frequencies and reflection coefficients must be two lists of one length")
     if not np.all(np.isfinite(g)):
         raise AnalysisError("some reflection coefficients are not finite numbers")
-    z0 = float(np.real(z0_ohm))
+    z0c = complex(z0_ohm)
+    if not (math.isfinite(z0c.real) and z0c.real > 0) or abs(z0c.imag) > 1e-12 * abs(z0c):
+        raise AnalysisError(f"a fit needs a real, positive reference impedance; this one is {z0c:g} Ω")
+    z0 = z0c.real
     mask = _select_band(f, band_hz)
     data = _Data(freq_hz=f[mask], target=g[mask], z_ohm=gamma_to_z(g[mask], z0), z_ref=z0, scale=1.0,
                  z0_ohm=z0, measurement="reflection", port=port)
