@@ -220,3 +220,15 @@ def test_several_devices_with_the_same_name_are_refused(bench, tmp_path, capsys)
     code = main(["correct", *std_args(bench), str(bench["ant_a"]), str(twin), "-o", str(tmp_path / "out")])
     assert code == 2 and "both be written" in capsys.readouterr().err
     assert not (tmp_path / "out").exists()
+
+
+def test_wrong_output_extension_and_bad_device_leave_nothing_behind(bench, tmp_path, capsys):
+    code = main(["correct", *std_args(bench), str(bench["ant_a"]), "-o", str(tmp_path / "o.s2p")])
+    assert code == 2 and "name the output .s1p" in capsys.readouterr().err
+    # A device on other frequencies: refused before the calibration file or any output is written.
+    odd = write1(tmp_path / "odd.s1p", raw(np.full(N, 0.1 + 0j))[: N - 1], F[: N - 1])
+    cal = tmp_path / "cal.json"
+    code = main(["correct", *std_args(bench), "--save-cal", str(cal), str(bench["ant_a"]), str(odd),
+                 "-o", str(tmp_path / "out")])
+    assert code == 2 and "allow interpolation" in capsys.readouterr().err
+    assert not cal.exists() and not (tmp_path / "out").exists()

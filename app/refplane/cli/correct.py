@@ -90,6 +90,10 @@ def _output_paths(duts, sweeps, output: str) -> list[Path]:
     if several or out.is_dir() or output.endswith(("/", os.sep)):
         paths = [out / f"{Path(d).stem}_corrected.s{s.n_ports}p" for d, s in zip(duts, sweeps)]
     else:
+        want = f".s{sweeps[0].n_ports}p"
+        if out.suffix.lower() != want:
+            raise AnalysisError(f"name the output {want} (the device is a {sweeps[0].n_ports}-port sweep), "
+                                "or give a folder", file=output)
         paths = [out]
     seen: dict[Path, str] = {}
     for d, p in zip(duts, paths):
@@ -147,19 +151,19 @@ def run(args: argparse.Namespace) -> int:
         cal = load_calibration(args.cal)
     else:
         cal = _calibrate_from_args(args, calibrate, read_sweep)
-        if args.save_cal:
-            from refplane.analysis.calfile import save_calibration
-
-            save_calibration(cal, args.save_cal, overwrite=args.force)
-            print(f"saved error terms: {args.save_cal}")
+    # Every device is corrected before anything is written, so a bad one leaves no files behind.
+    corrected = [correct(cal, d, interpolate=args.interpolate) for d in duts]
 
     print(f"calibration quality: {cal.quality}. {cal.verdict}".rstrip(), file=sys.stderr)
     for w in cal.warnings:
         print(f"warning: {w}", file=sys.stderr)
     for chk in cal.checks:
         print(chk.summary(), file=sys.stderr)
+    if args.save_cal:
+        from refplane.analysis.calfile import save_calibration
 
-    corrected = [correct(cal, d, interpolate=args.interpolate) for d in duts]
+        save_calibration(cal, args.save_cal, overwrite=args.force)
+        print(f"saved error terms: {args.save_cal}")
     if paths:
         multi = len(paths) > 1 or Path(args.output).is_dir() or args.output.endswith(("/", os.sep))
         if multi:
