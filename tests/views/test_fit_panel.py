@@ -104,3 +104,27 @@ def test_closing_the_fitted_trace_clears_the_result(qtbot, panel):
     panel.state.remove_trace(tid)
     assert panel.result is None
     assert panel.parameter_rows() == []
+
+
+def test_changing_the_trace_after_a_fit_asks_for_a_refit(qtbot, panel):
+    from refplane.analysis.deembed import LineOffset
+
+    tid = panel.state.add_sweep(resistor_with_leads())
+    assert _fit(qtbot, panel)
+    assert panel.message.text() == ""
+    panel.state.set_offsets(tid, (LineOffset(delay_s=10e-12),))
+    assert "Fit again" in panel.message.text()
+
+
+def test_the_panel_docks_in_the_window(qtbot):
+    from refplane.views.main_window import MainWindow
+
+    window = MainWindow()
+    qtbot.addWidget(window)
+    fit_panel = FitPanel(window.state)
+    dock = window.add_side_panel("Fit", fit_panel)
+    assert dock.widget() is fit_panel
+    tid = window.state.add_sweep(_bridged_resistor())
+    assert _fit(qtbot, fit_panel)
+    assert OVERLAY_NAME in window.state.trace(tid).overlays
+    fit_panel.wait()

@@ -106,7 +106,9 @@ class FitPanel(QWidget):
         self._signals = _Signals()
         self._signals.done.connect(self._on_done)
         self._job = 0
-        self._fitted_trace: int | None = None
+        self._fitted_trace: int | None = None   # the trace carrying the dashed curve
+        self._result_trace: int | None = None   # the trace the shown result was fitted to
+        self._result_sweep = None               # ... and the sweep it was fitted from
         self._running: FitRequest | None = None
         self.result = None
 
@@ -158,6 +160,8 @@ class FitPanel(QWidget):
         self.clear_button.clicked.connect(self.remove_curve)
         state.bandChanged.connect(self._on_band)
         state.tracesChanged.connect(self._on_traces)
+        state.offsetsChanged.connect(self._on_trace_data)
+        state.traceChanged.connect(self._on_trace_data)
         self._on_band()
         self._show_result(None)
 
@@ -226,6 +230,7 @@ class FitPanel(QWidget):
         self.message.setText("" if overlay is not None else
                              "No curve is drawn for a through fit: the chart shows reflection.")
         self._show_result(result)
+        self._result_trace, self._result_sweep = request.trace_id, request.sweep
         self.remove_curve()
         if overlay is not None:
             self.state.set_overlay(request.trace_id, OVERLAY_NAME, overlay)
@@ -240,9 +245,22 @@ class FitPanel(QWidget):
             self.band_edit.setText(f"{format_frequency(band[0])} : {format_frequency(band[1])}")
 
     def _on_traces(self) -> None:
-        if self._fitted_trace is not None and self._fitted_trace not in self.state.trace_ids():
+        ids = self.state.trace_ids()
+        if self._fitted_trace is not None and self._fitted_trace not in ids:
             self._fitted_trace = None
+        if self._result_trace is not None and self._result_trace not in ids:
+            self._result_trace = self._result_sweep = None
             self._show_result(None)
+
+    def _on_trace_data(self, trace_id: int) -> None:
+        if self.result is not None and trace_id == self._result_trace:
+            if trace_id not in self.state.trace_ids():
+                return
+            trace = self.state.trace(trace_id)
+            moved_port = self.result.measurement == "reflection" and trace.port != self.result.port
+            if trace.displayed is not self._result_sweep or moved_port:
+                self.message.setText("The trace has changed since this fit (offsets, port or reload); "
+                                     "press Fit again to refit it.")
 
     # ---------------------------------------------------------------- helpers
     def _fail(self, message: str) -> None:
