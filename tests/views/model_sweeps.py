@@ -34,10 +34,8 @@ def two_port_attenuator(n: int = 51, name: str = "pad") -> Sweep:
     return Sweep(freq_hz=f, s=s, z0_ohm=50.0, name=name)
 
 
-def write_s1p(sweep: Sweep, path) -> str:
-    """Write a 1-port sweep as Touchstone 1.1 RI (by hand; the format is the open Touchstone standard)."""
-    lines = ["! test sweep made from a closed-form model", "# Hz S RI R 50"]
-    g = sweep.reflection(1)
-    lines += [f"{f:.12g} {v.real:.15g} {v.imag:.15g}" for f, v in zip(sweep.freq_hz, g)]
-    path.write_text("\n".join(lines) + "\n")
-    return str(path)
+def write_sweep(sweep: Sweep, path) -> str:
+    """Write a sweep as Touchstone with Refplane's writer (RI, GHz, version 1.1)."""
+    from refplane.analysis.touchstone import write
+
+    return str(write(sweep, path, fmt="RI", comments=("test sweep made from a closed-form model",)))
