@@ -133,9 +133,17 @@ class LineOffset:
     def gamma_l(self, freq_hz: np.ndarray) -> np.ndarray:
         """The line's γ·l at ``freq_hz``: attenuation in nepers plus j·(phase in radians)."""
         f = np.asarray(freq_hz, dtype=np.float64)
-        ratio = f / self.loss_ref_hz
-        alpha_np = (self.loss_db * np.sqrt(np.abs(ratio)) + self.dielectric_loss_db * ratio) / DB_PER_NEPER
-        return alpha_np + 1j * (2.0 * math.pi * self.delay_s) * f
+        out = np.empty(f.shape, dtype=np.complex128)
+        out.imag = (2.0 * math.pi * self.delay_s) * f
+        if self.loss_db or self.dielectric_loss_db:
+            ratio = f / self.loss_ref_hz
+            alpha = np.sqrt(np.abs(ratio)) * (self.loss_db / DB_PER_NEPER)
+            if self.dielectric_loss_db:
+                alpha += ratio * (self.dielectric_loss_db / DB_PER_NEPER)
+            out.real = alpha
+        else:
+            out.real = 0.0
+        return out
 
     def describe(self, velocity_factor: float | None = None) -> str:
         """One line of plain text for file headers and logs."""
@@ -158,35 +166,82 @@ def _is_matched(offset: LineOffset, z_ref: complex) -> bool:
     return offset.line_z0_ohm is None or (z_ref.imag == 0.0 and offset.line_z0_ohm == z_ref.real)
 
 
+def _exp_gamma_l(offset: LineOffset, freq_hz: np.ndarray, k: float) -> np.ndarray:
+    """e^(k·γl) at ``freq_hz``, with as few temporaries as possible.
+
+    The chart recomputes this on every change of an offset; writing cos and sin straight
+    into the result and reusing one scratch array keeps a 100 000-point sweep quick.
+    """
+    f = freq_hz
+    out = np.empty(f.shape, dtype=np.complex128)
+    scratch = np.multiply(f, k * 2.0 * math.pi * offset.delay_s)
+    np.cos(scratch, out=out.real)
+    np.sin(scratch, out=out.imag)
+    if offset.loss_db or offset.dielectric_loss_db:
+        np.multiply(f, 1.0 / offset.loss_ref_hz, out=scratch)
+        if offset.dielectric_loss_db:
+            alpha = np.sqrt(np.abs(scratch)) * (k * offset.loss_db / DB_PER_NEPER)
+            alpha += scratch * (k * offset.dielectric_loss_db / DB_PER_NEPER)
+            scratch = alpha
+        else:
+            np.sqrt(np.abs(scratch, out=scratch), out=scratch)
+            scratch *= k * offset.loss_db / DB_PER_NEPER
+        np.exp(scratch, out=scratch)
+        out.real *= scratch
+        out.imag *= scratch
+    return out
+
+
+def _line_terms(offset: LineOffset, freq_hz: np.ndarray, z_ref: complex) -> tuple[np.ndarray, np.ndarray]:
+    """The line's (S11 = S22, S21 = S12) at reference ``z_ref`` on both ends."""
+    p = _exp_gamma_l(offset, freq_hz, -1.0)
+    if _is_matched(offset, z_ref):
+        return np.zeros_like(p), p
+    # With ρ = (Zc − Zref)/(Zc + Zref) and P = e^(−γl): S11 = ρ(1 − P²)/(1 − ρ²P²) and
+    # S21 = P(1 − ρ²)/(1 − ρ²P²) — the ABCD → S conversion of a uniform line, rearranged.
+    # |ρ| < 1 and |P| ≤ 1, so the denominator never vanishes.
+    zc = offset.line_z0_ohm
+    rho = (zc - z_ref) / (zc + z_ref)
+    p2 = p * p
+    den = 1.0 - (rho * rho) * p2
+    s11 = rho * (1.0 - p2) / den
+    s21 = p * (1.0 - rho * rho) / den
+    return s11, s21
+
+
 def line_s(offset: LineOffset, freq_hz: np.ndarray, z_ref_ohm: complex = 50.0) -> np.ndarray:
     """The line as a two-port S-matrix, shape (n, 2, 2), at reference ``z_ref_ohm`` on both ends.
 
-    Port 1 of the result faces the instrument and port 2 the device. Uses
+    Port 1 of the result faces the instrument and port 2 the device. Equivalent to
     ABCD = [[cosh γl, Zc·sinh γl], [sinh γl / Zc, cosh γl]] and the usual ABCD → S
     conversion with equal reference impedances (Pozar, Microwave Engineering, table 4.2 —
     from memory). S follows Γ = (Z − Z_ref)/(Z + Z_ref), as the rest of Refplane does.
     """
     f = np.asarray(freq_hz, dtype=np.float64)
-    gl = offset.gamma_l(f)
-    z_ref = complex(z_ref_ohm)
+    s11, s21 = _line_terms(offset, f, complex(z_ref_ohm))
     out = np.empty((f.size, 2, 2), dtype=np.complex128)
-    if _is_matched(offset, z_ref):
-        t = np.exp(-gl)
-        out[:, 0, 0] = 0.0
-        out[:, 1, 1] = 0.0
-        out[:, 0, 1] = t
-        out[:, 1, 0] = t
-        return out
-    zc = offset.line_z0_ohm
-    ch, sh = np.cosh(gl), np.sinh(gl)
-    b = zc * sh / z_ref          # B / Z_ref
-    c = sh / zc * z_ref          # C · Z_ref
-    den = 2.0 * ch + b + c       # A + B/Z + C·Z + D with A = D = cosh
-    out[:, 0, 0] = (b - c) / den
-    out[:, 1, 1] = (b - c) / den
-    out[:, 0, 1] = 2.0 / den     # AD − BC = 1 for a reciprocal line
-    out[:, 1, 0] = 2.0 / den
+    out[:, 0, 0] = s11
+    out[:, 1, 1] = s11
+    out[:, 0, 1] = s21
+    out[:, 1, 0] = s21
     return out
+
+
+def _solve(a: np.ndarray, b: np.ndarray) -> np.ndarray:
+    """Batched solve of a·x = b over the first axis; 2 × 2 in closed form (LAPACK's per-matrix
+    overhead dominates for 100 000 small systems)."""
+    if a.shape[1] == 2:
+        det = a[:, 0, 0] * a[:, 1, 1] - a[:, 0, 1] * a[:, 1, 0]
+        if np.any(det == 0):
+            raise np.linalg.LinAlgError("singular matrix")
+        inv = np.empty_like(a)
+        inv[:, 0, 0] = a[:, 1, 1]
+        inv[:, 1, 1] = a[:, 0, 0]
+        inv[:, 0, 1] = -a[:, 0, 1]
+        inv[:, 1, 0] = -a[:, 1, 0]
+        inv /= det[:, None, None]
+        return inv @ b
+    return np.linalg.solve(a, b)
 
 
 def _normalise(sweep: Sweep, offsets: Sequence[LineOffset | None] | None) -> list[LineOffset | None]:
@@ -206,26 +261,67 @@ def _normalise(sweep: Sweep, offsets: Sequence[LineOffset | None] | None) -> lis
     return [None if (o is None or o.is_zero) else o for o in items]
 
 
-def _fixture_terms(sweep: Sweep, offsets: list[LineOffset | None]):
-    """Per-port fixture terms e11, e12·e21 split, e22 as (n, p) arrays; None for all-matched."""
-    n, p = sweep.n_points, sweep.n_ports
-    matched = all(o is None or _is_matched(o, complex(sweep.z0_ohm[i])) for i, o in enumerate(offsets))
-    if matched:
-        t = np.ones((n, p), dtype=np.complex128)
-        for i, o in enumerate(offsets):
-            if o is not None:
-                t[:, i] = np.exp(-o.gamma_l(sweep.freq_hz))
-        return t, None
-    e11 = np.zeros((n, p), dtype=np.complex128)
-    e22 = np.zeros((n, p), dtype=np.complex128)
-    e21 = np.ones((n, p), dtype=np.complex128)   # transmission, equal both ways (reciprocal)
+def _all_matched(sweep: Sweep, offsets: list[LineOffset | None]) -> bool:
+    return all(o is None or _is_matched(o, complex(sweep.z0_ohm[i])) for i, o in enumerate(offsets))
+
+
+def _matched_factors(sweep: Sweep, offsets: list[LineOffset | None], sign: float) -> np.ndarray:
+    """e^(sign·γl) per port as an (n, p) array (ones where a port has no line)."""
+    u = np.ones((sweep.n_points, sweep.n_ports), dtype=np.complex128)
     for i, o in enumerate(offsets):
         if o is not None:
-            fixture = line_s(o, sweep.freq_hz, complex(sweep.z0_ohm[i]))
-            e11[:, i] = fixture[:, 0, 0]
-            e21[:, i] = fixture[:, 1, 0]
-            e22[:, i] = fixture[:, 1, 1]
-    return e21, (e11, e22)
+            u[:, i] = _exp_gamma_l(o, sweep.freq_hz, sign)
+    return u
+
+
+def _apply_matched(sweep: Sweep, offsets: list[LineOffset | None], sign: float) -> Sweep:
+    if sweep.n_ports == 1:
+        # One exponential of 2γl, multiplied in place: this is the path a live chart takes
+        # on every change of an offset.
+        factor = _exp_gamma_l(offsets[0], sweep.freq_hz, 2.0 * sign)
+        np.multiply(factor, sweep.s[:, 0, 0], out=factor)
+        return sweep.replace(s=factor.reshape(-1, 1, 1))
+    u = _matched_factors(sweep, offsets, sign)
+    return sweep.replace(s=u[:, :, None] * sweep.s * u[:, None, :])
+
+
+def _one_port_through_line(sweep: Sweep, offset: LineOffset, sign: float) -> Sweep:
+    """Add (sign −1) or remove (sign +1) a mismatched line at a 1-port, by renormalising.
+
+    Referred to the line's own impedance Zc the line is matched, so Γ there only turns by
+    e^(∓2γl). With r = (Zc − Zref)/(Zc + Zref), Γ referred to Zc is (Γ − r)/(1 − r·Γ)
+    and back (Γ' + r)/(1 + r·Γ') — the change of reference of Γ = (Z − Zref)/(Z + Zref).
+    Equal to the two-port cascade of :func:`line_s`, with fewer operations per point.
+    """
+    z_ref = complex(sweep.z0_ohm[0])
+    zc = offset.line_z0_ohm
+    r = (zc - z_ref) / (zc + z_ref)
+    g = sweep.s[:, 0, 0]
+    den = 1.0 - r * g
+    if np.any(den == 0):
+        raise AnalysisError("the line cannot be applied: the reading equals minus the line's impedance")
+    g_line = g - r
+    g_line /= den
+    g_line *= _exp_gamma_l(offset, sweep.freq_hz, 2.0 * sign)
+    den = r * g_line
+    den += 1.0
+    if np.any(den == 0):
+        raise AnalysisError("the line cannot be applied: the reading equals minus the line's impedance")
+    g_line += r
+    g_line /= den
+    return sweep.replace(s=g_line.reshape(-1, 1, 1))
+
+
+def _fixture_terms(sweep: Sweep, offsets: list[LineOffset | None]):
+    """Per-port fixture terms as (n, p) arrays: transmission t, input match e11, output match e22."""
+    n, p = sweep.n_points, sweep.n_ports
+    match = np.zeros((n, p), dtype=np.complex128)
+    t = np.ones((n, p), dtype=np.complex128)   # equal both ways: a line is reciprocal
+    for i, o in enumerate(offsets):
+        if o is not None:
+            match[:, i], t[:, i] = _line_terms(o, sweep.freq_hz, complex(sweep.z0_ohm[i]))
+    # A uniform line is symmetric: the match seen from either end is the same.
+    return t, match, match
 
 
 def add_offsets(sweep: Sweep, offsets: Sequence[LineOffset | None] | None) -> Sweep:
@@ -253,19 +349,18 @@ def add_offsets(sweep: Sweep, offsets: Sequence[LineOffset | None] | None) -> Sw
     items = _normalise(sweep, offsets)
     if all(o is None for o in items):
         return sweep
-    t, mismatch = _fixture_terms(sweep, items)
+    if _all_matched(sweep, items):
+        return _apply_matched(sweep, items, -1.0)
+    if sweep.n_ports == 1:
+        return _one_port_through_line(sweep, items[0], -1.0)
+    t, e11, e22 = _fixture_terms(sweep, items)
     s = sweep.s
-    if mismatch is None:
-        out = t[:, :, None] * s * t[:, None, :]
-        return sweep.replace(s=out)
-    e11, e22 = mismatch
     p = sweep.n_ports
-    if p == 1:
-        g = s[:, 0, 0]
-        out = (e11[:, 0] + t[:, 0] ** 2 * g / (1.0 - e22[:, 0] * g)).reshape(-1, 1, 1)
-        return sweep.replace(s=out)
     eye = np.eye(p, dtype=np.complex128)
-    inner = np.linalg.solve(eye - s * e22[:, None, :], s)
+    try:
+        inner = _solve(eye - s * e22[:, None, :], s)
+    except np.linalg.LinAlgError:
+        raise AnalysisError("the lines cannot be added: the cascade is singular at some frequency") from None
     out = t[:, :, None] * inner * t[:, None, :]
     idx = np.arange(p)
     out[:, idx, idx] += e11
@@ -303,28 +398,21 @@ def remove_offsets(sweep: Sweep, offsets: Sequence[LineOffset | None] | None) ->
     items = _normalise(sweep, offsets)
     if all(o is None for o in items):
         return sweep
-    t, mismatch = _fixture_terms(sweep, items)
+    if _all_matched(sweep, items):
+        return _apply_matched(sweep, items, +1.0)
+    if sweep.n_ports == 1:
+        return _one_port_through_line(sweep, items[0], +1.0)
+    t, e11, e22 = _fixture_terms(sweep, items)
     s = sweep.s
-    if mismatch is None:
-        inv = 1.0 / t
-        out = inv[:, :, None] * s * inv[:, None, :]
-        return sweep.replace(s=out)
-    e11, e22 = mismatch
     p = sweep.n_ports
     idx = np.arange(p)
     x = s.copy()
     x[:, idx, idx] -= e11
     inv = 1.0 / t
     x = inv[:, :, None] * x * inv[:, None, :]
-    if p == 1:
-        g = x[:, 0, 0]
-        den = 1.0 + e22[:, 0] * g
-        if np.any(den == 0):
-            raise AnalysisError("the line cannot be removed: the reading is exactly what the line alone gives")
-        return sweep.replace(s=(g / den).reshape(-1, 1, 1))
     eye = np.eye(p, dtype=np.complex128)
     try:
-        out = np.linalg.solve(eye + x * e22[:, None, :], x)
+        out = _solve(eye + x * e22[:, None, :], x)
     except np.linalg.LinAlgError:
         raise AnalysisError("the lines cannot be removed: the cascade is singular at some frequency") from None
     return sweep.replace(s=out)
