@@ -140,3 +140,13 @@ def test_option_values_become_one_line_offset():
     assert offset_from_args(args) == LineOffset(loss_db=0.3, loss_ref_hz=1e9)
     with pytest.raises(AnalysisError):
         offset_from_args(_parser().parse_args(["--vf", "0.5"]))
+
+
+def test_render_takes_the_same_options(open_through_cable, tmp_path, capsys):
+    out = tmp_path / "chart.png"
+    assert _run(["render", open_through_cable, "--at", "100MHz", "-o", str(out),
+                 "--length", "20cm", "--vf", "0.66"]) == 0
+    assert out.stat().st_size > 0
+    assert _run(["render", open_through_cable, "-o", str(tmp_path / "b.png"), "--vf", "0.66"]) == 2
+    assert "--vf applies to --length" in capsys.readouterr().err
+    assert not (tmp_path / "b.png").exists()

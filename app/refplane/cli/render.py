@@ -31,6 +31,9 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--admittance", action="store_true", help="also draw the admittance grid")
     p.add_argument("--theme", choices=("light", "dark"), default="light", help="colours (default light)")
     p.add_argument("--force", action="store_true", help="replace OUT if it exists")
+    from refplane.cli.offsets import add_offset_options
+
+    add_offset_options(p)
     p.set_defaults(run=run)
 
 
@@ -58,8 +61,9 @@ def run(args: argparse.Namespace) -> int:
     _check_output(args.output, args.force)
 
     sweeps = [read_sweep(path) for path in args.files]
-    # Sweeps are loaded above and drawn below; any transformation of them (for example
-    # reference-plane offsets from command-line options) belongs on this line.
+    from refplane.cli.offsets import apply_offsets
+
+    sweeps = [apply_offsets(args, sweep)[0] for sweep in sweeps]  # the same line removed from each
 
     os.environ["QT_QPA_PLATFORM"] = "offscreen"  # before Qt is imported: no display needed
     os.environ.setdefault("QT_LOGGING_RULES", "qt.qpa.*=false")  # no platform chatter on stderr
