@@ -84,7 +84,7 @@ class MainWindow(QMainWindow):
         self._build_status_bar()
         self.state.tracesChanged.connect(self._update_title)
         self.state.tracesChanged.connect(self._watch_files)
-        self.apply_theme(self.theme)
+        self.apply_theme(self.theme, widgets=False)  # chart and plots were built in this theme
         self.resize(1440, 900)
 
     # ================================================================ layout
@@ -369,16 +369,21 @@ class MainWindow(QMainWindow):
         self.apply_theme(self.theme)
         self.theme_actions[key].setChecked(True)
 
-    def apply_theme(self, theme: Theme) -> None:
+    def apply_theme(self, theme: Theme, *, widgets: bool = True) -> None:
+        """Colour the window (palette for the application, style sheet for this window)."""
         from PySide6.QtWidgets import QApplication
 
         from refplane.views import theme as theme_module
 
         app = QApplication.instance()
         if app is not None:
-            theme_module.apply(app, theme)
-        self.chart.set_theme(theme)
-        self.plots.set_theme(theme)
+            theme_module.apply_palette(app, theme)
+        # On the window rather than the application: re-styling every widget of the
+        # application is slow, and dialogs keep the platform's look.
+        self.setStyleSheet(theme_module.stylesheet(theme))
+        if widgets:
+            self.chart.set_theme(theme)
+            self.plots.set_theme(theme)
 
     def _focus_marker_entry(self) -> None:
         self.docks["Markers"].show()

@@ -74,7 +74,13 @@ def stylesheet(theme: Theme) -> str:
 
 
 def apply(app, theme: Theme) -> None:
-    """Apply a theme to a QApplication (palette for native parts, style sheet for the rest)."""
+    """Apply a theme to a whole QApplication: palette and style sheet."""
+    apply_palette(app, theme)
+    app.setStyleSheet(stylesheet(theme))
+
+
+def apply_palette(app, theme: Theme) -> None:
+    """Set the application's palette (native parts, dialogs) from a theme."""
     from PySide6.QtGui import QColor, QPalette
 
     pal = QPalette()
@@ -91,4 +97,3 @@ def apply(app, theme: Theme) -> None:
     pal.setColor(QPalette.ToolTipText, QColor(theme.text))
     pal.setColor(QPalette.PlaceholderText, QColor(theme.muted))
     app.setPalette(pal)
-    app.setStyleSheet(stylesheet(theme))
