@@ -10,7 +10,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from refplane.analysis.deembed import (DB_PER_NEPER, SPEED_OF_LIGHT_M_S, LineOffset, add_offsets,
-                                       describe_offsets, line_s, remove_offsets)
+                                       describe_offsets, line_s, remove_offsets, with_port_offset)
 from refplane.analysis.errors import AnalysisError
 from refplane.analysis.impedance import gamma_to_z, z_to_gamma
 from refplane.analysis.sweep import Sweep
@@ -232,3 +232,16 @@ def test_describe_offsets_names_each_port():
     lines = describe_offsets([None, LineOffset(1.01e-9, 0.4, line_z0_ohm=75.0)])
     assert len(lines) == 1 and lines[0].startswith("Refplane: port 2 line removed: delay 1.010 ns")
     assert "75 Ω" in lines[0] and "0.4 dB" in lines[0]
+
+
+def test_offset_helpers_for_editing():
+    # Delay from length: length / (vf · c), SI definition of c.
+    base = LineOffset(1e-9, 0.4, 2e9, 0.1, 75.0)
+    longer = base.with_length(0.3, 0.8)
+    assert longer.delay_s == pytest.approx(0.3 / (0.8 * SPEED_OF_LIGHT_M_S), rel=1e-15)
+    assert (longer.loss_db, longer.loss_ref_hz, longer.dielectric_loss_db, longer.line_z0_ohm) == (0.4, 2e9, 0.1, 75.0)
+    assert base.stepped(-3, 1e-12).delay_s == pytest.approx(0.997e-9, rel=1e-14)
+    assert with_port_offset((), 2, 2, base) == (LineOffset(), base)
+    assert with_port_offset((base, None), 2, 1, None) == (LineOffset(), LineOffset())
+    with pytest.raises(AnalysisError, match="port 3"):
+        with_port_offset((), 2, 3, base)

@@ -130,6 +130,15 @@ class LineOffset:
 
         return dataclasses.replace(self, **changes)
 
+    def with_length(self, length_m: float, velocity_factor: float) -> "LineOffset":
+        """A copy whose delay is that of ``length_m`` at ``velocity_factor`` (losses and impedance kept)."""
+        delay = LineOffset.from_length(length_m, velocity_factor).delay_s
+        return self.with_changes(delay_s=delay)
+
+    def stepped(self, steps: float, step_s: float) -> "LineOffset":
+        """A copy with the delay moved by ``steps`` steps of ``step_s`` seconds (keys, wheel, slider)."""
+        return self.with_changes(delay_s=self.delay_s + float(steps) * float(step_s))
+
     def gamma_l(self, freq_hz: np.ndarray) -> np.ndarray:
         """The line's γ·l at ``freq_hz``: attenuation in nepers plus j·(phase in radians)."""
         f = np.asarray(freq_hz, dtype=np.float64)
@@ -416,6 +425,17 @@ def remove_offsets(sweep: Sweep, offsets: Sequence[LineOffset | None] | None) ->
     except np.linalg.LinAlgError:
         raise AnalysisError("the lines cannot be removed: the cascade is singular at some frequency") from None
     return sweep.replace(s=out)
+
+
+def with_port_offset(offsets: Sequence[LineOffset | None] | None, n_ports: int, port: int,
+                     offset: LineOffset | None) -> tuple[LineOffset, ...]:
+    """One LineOffset per port (``LineOffset()`` where none), with 1-based ``port`` set to ``offset``."""
+    if not 1 <= int(port) <= int(n_ports):
+        raise AnalysisError(f"port {port} does not exist; this sweep has {n_ports} port(s)")
+    items = [o if o is not None else LineOffset() for o in list(offsets or ())[:n_ports]]
+    items += [LineOffset()] * (n_ports - len(items))
+    items[int(port) - 1] = offset if offset is not None else LineOffset()
+    return tuple(items)
 
 
 def describe_offsets(offsets: Sequence[LineOffset | None] | None, *, removed: bool = True) -> tuple[str, ...]:

@@ -1,0 +1,529 @@
+"""Reference-plane panel: remove a length of line from each port of the current trace.
+
+Per port, the line is given as a delay or as a length with a velocity factor (the two are
+linked: editing one updates the other), a loss in dB at a frequency, and an optional line
+impedance. Up/Down keys and the mouse wheel over the delay or length field, and the slider,
+move the delay in steps; the chart follows at once. "Find from open/short" estimates the line
+from a trace of the bare cable ended in an open or a short (on a worker thread).
+"Save corrected sweep…" writes the displayed sweep as Touchstone with the offsets recorded
+in its header.
+
+The panel assigns whole :class:`~refplane.analysis.deembed.LineOffset` values to the model
+through :meth:`ViewState.set_offsets`; it holds no RF maths (text is parsed by
+:mod:`refplane.analysis.units`, delay ↔ length by ``LineOffset``).
+"""
+
+from __future__ import annotations
+
+import os
+from dataclasses import dataclass
+
+from PySide6.QtCore import QEvent, QObject, QRunnable, Qt, QThreadPool, Signal
+from PySide6.QtWidgets import (QComboBox, QFileDialog, QFormLayout, QHBoxLayout, QLabel, QLineEdit,
+                               QMessageBox, QPushButton, QSlider, QVBoxLayout, QWidget)
+
+from refplane.analysis.deembed import LineOffset, describe_offsets, with_port_offset
+from refplane.analysis.errors import AnalysisError
+from refplane.analysis.units import (format_frequency, format_si, parse_length, parse_loss,
+                                     parse_resistance, parse_time)
+from refplane.views.state import ViewState
+
+#: Delay steps offered for keys, wheel and slider: (label, seconds).
+STEPS = (("0.1 ps", 0.1e-12), ("1 ps", 1e-12), ("10 ps", 10e-12), ("100 ps", 100e-12))
+#: The slider spans this many steps from zero.
+SLIDER_STEPS = 1000
+
+_SAFETY = ("Before connecting a long cable to the analyzer, discharge it (briefly join centre "
+           "and shield); never measure a line a transmitter may still feed. Follow your "
+           "equipment maker's guidance and local practice.")
+
+
+@dataclass(frozen=True)
+class EstimateRequest:
+    """A plane estimate to run off the UI thread."""
+
+    job: int
+    """Sequence number; a later request supersedes this one."""
+    target_trace: int
+    """Trace whose offset receives the result."""
+    target_port: int
+    """1-based port of that trace."""
+    sweep: object
+    """The raw sweep of the bare line ended in the standard."""
+    port: int
+    """Port of ``sweep`` to use."""
+    standard: str
+    """"open" or "short"."""
+    velocity_factor: float | None
+    """For the reported length, if known."""
+
+
+def run_estimate(request: EstimateRequest):
+    """Run the estimate; ("ok", PlaneEstimate) or ("error", message). Never raises."""
+    from refplane.analysis.plane import estimate_plane
+
+    try:
+        return "ok", estimate_plane(request.sweep, standard=request.standard, port=request.port,
+                                    velocity_factor=request.velocity_factor)
+    except AnalysisError as exc:
+        return "error", str(exc)
+    except Exception as exc:  # pragma: no cover - a bug, reported rather than fatal
+        return "error", f"the estimate failed ({type(exc).__name__}: {exc})"
+
+
+class _Signals(QObject):
+    done = Signal(object, str, object)
+
+
+class _EstimateJob(QRunnable):
+    def __init__(self, request: EstimateRequest, signals: _Signals):
+        super().__init__()
+        self.request = request
+        self.signals = signals
+
+    def run(self) -> None:
+        status, payload = run_estimate(self.request)
+        self.signals.done.emit(self.request, status, payload)
+
+
+class _StepFilter(QObject):
+    """Turns Up/Down keys and the mouse wheel over a field into delay steps."""
+
+    def __init__(self, panel: "OffsetsPanel"):
+        super().__init__(panel)
+        self.panel = panel
+
+    def eventFilter(self, watched, event) -> bool:  # noqa: N802 - Qt's name
+        kind = event.type()
+        if kind == QEvent.KeyPress and event.key() in (Qt.Key_Up, Qt.Key_Down):
+            steps = 1 if event.key() == Qt.Key_Up else -1
+            if event.modifiers() & Qt.ShiftModifier:
+                steps *= 10
+            self.panel.step_delay(steps)
+            return True
+        if kind == QEvent.Wheel:
+            notches = event.angleDelta().y() // 120
+            if notches:
+                self.panel.step_delay(notches)
+            return True
+        return False
+
+
+class OffsetsPanel(QWidget):
+    """Line offsets per port of the current trace, with live stepping, estimate and save."""
+
+    #: Emitted on the UI thread when an estimate has been applied (True) or failed (False).
+    estimateFinished = Signal(bool)
+
+    def __init__(self, state: ViewState, parent: QWidget | None = None):
+        super().__init__(parent)
+        self.setObjectName("panel")
+        self.state = state
+        self._vf: dict[tuple[int, int], float] = {}   # (trace, port) → velocity factor typed
+        self._job = 0
+        self.pool = QThreadPool(self)
+        self.pool.setMaxThreadCount(1)
+        self._signals = _Signals()          # unparented: a worker may outlive the panel
+        self._signals.done.connect(self._on_estimate_done)
+        self.last_estimate = None
+        # Dialog hooks, replaced in tests; each returns what the person chose.
+        # ask_save_path returns the chosen path (its dialog has confirmed replacing an existing
+        # file) or None; confirm asks once more before the original measurement is replaced.
+        self.ask_save_path = self._ask_save_path
+        self.confirm = self._confirm
+        self.show_error = self._show_error
+
+        self.trace_label = QLabel()
+        self.port_combo = QComboBox()
+        self.port_combo.setToolTip("The port whose line is edited")
+        self.delay_edit = QLineEdit()
+        self.delay_edit.setPlaceholderText("e.g. 1.01 ns")
+        self.delay_edit.setToolTip("One-way delay of the line to remove. Up/Down or the mouse "
+                                   "wheel step it (Shift: ten steps).")
+        self.length_edit = QLineEdit()
+        self.length_edit.setPlaceholderText("e.g. 20 cm (needs a velocity factor)")
+        self.length_edit.setToolTip("Physical length of the line; sets the delay through the velocity factor.")
+        self.vf_edit = QLineEdit()
+        self.vf_edit.setPlaceholderText("e.g. 0.66")
+        self.vf_edit.setToolTip("Velocity factor of the line: about 0.66 for solid polyethylene, "
+                                "0.78–0.85 for foam (typical values; check the cable's data sheet)")
+        self.loss_edit = QLineEdit()
+        self.loss_edit.setPlaceholderText("e.g. 0.4 dB @ 1 GHz")
+        self.loss_edit.setToolTip("One-way loss of the line at a frequency; taken to grow as √f")
+        self.z0_edit = QLineEdit()
+        self.z0_edit.setPlaceholderText("same as the port's reference")
+        self.z0_edit.setToolTip("Characteristic impedance of the line, e.g. 75 Ω; blank: the port's reference")
+        self.step_combo = QComboBox()
+        for label, _ in STEPS:
+            self.step_combo.addItem(label)
+        self.step_combo.setCurrentIndex(1)
+        self.step_combo.setToolTip("Delay step for keys, wheel and slider")
+        self.slider = QSlider(Qt.Horizontal)
+        self.slider.setRange(0, SLIDER_STEPS)
+        self.slider.setToolTip("Delay from zero to a thousand steps")
+        self.reset_button = QPushButton("Reset port")
+        self.reset_all_button = QPushButton("Reset all")
+
+        self.standard_combo = QComboBox()
+        self.standard_combo.addItem("open", "open")
+        self.standard_combo.addItem("short", "short")
+        self.source_combo = QComboBox()
+        self.source_combo.setToolTip("Trace of the bare cable or fixture ended in the standard")
+        self.estimate_button = QPushButton("Find from open/short")
+        self.estimate_label = QLabel()
+        self.estimate_label.setWordWrap(True)
+        self.save_button = QPushButton("Save corrected sweep…")
+        self.message = QLabel()
+        self.message.setWordWrap(True)
+        self.message.setObjectName("panelMessage")
+        safety = QLabel(_SAFETY)
+        safety.setWordWrap(True)
+        safety.setObjectName("panelHint")
+
+        form = QFormLayout()
+        form.addRow("Trace", self.trace_label)
+        form.addRow("Port", self.port_combo)
+        form.addRow("Delay", self.delay_edit)
+        form.addRow("Length", self.length_edit)
+        form.addRow("Velocity factor", self.vf_edit)
+        form.addRow("Loss", self.loss_edit)
+        form.addRow("Line impedance", self.z0_edit)
+        step_row = QHBoxLayout()
+        step_row.addWidget(self.slider, 1)
+        step_row.addWidget(self.step_combo)
+        form.addRow("Adjust", step_row)
+        resets = QHBoxLayout()
+        resets.addWidget(self.reset_button)
+        resets.addWidget(self.reset_all_button)
+        estimate_form = QFormLayout()
+        estimate_form.addRow("Bare line", self.source_combo)
+        estimate_form.addRow("Ended in", self.standard_combo)
+        layout = QVBoxLayout(self)
+        layout.addLayout(form)
+        layout.addLayout(resets)
+        layout.addWidget(QLabel("<b>Find the line from a measured open or short</b>"))
+        layout.addLayout(estimate_form)
+        layout.addWidget(self.estimate_button)
+        layout.addWidget(self.estimate_label)
+        layout.addWidget(safety)
+        layout.addWidget(self.save_button)
+        layout.addWidget(self.message)
+        layout.addStretch(1)
+
+        steps = _StepFilter(self)
+        for edit in (self.delay_edit, self.length_edit):
+            edit.installEventFilter(steps)
+        self.delay_edit.editingFinished.connect(self._on_delay_edited)
+        self.length_edit.editingFinished.connect(self._on_length_edited)
+        self.vf_edit.editingFinished.connect(self._on_vf_edited)
+        self.loss_edit.editingFinished.connect(self._on_loss_edited)
+        self.z0_edit.editingFinished.connect(self._on_z0_edited)
+        self.port_combo.currentIndexChanged.connect(lambda _: self._refresh())
+        self.step_combo.currentIndexChanged.connect(lambda _: self._refresh())
+        self.slider.valueChanged.connect(self._on_slider)
+        self.reset_button.clicked.connect(self.reset_port)
+        self.reset_all_button.clicked.connect(self.reset_all)
+        self.estimate_button.clicked.connect(self.start_estimate)
+        self.save_button.clicked.connect(self.save_corrected)
+
+        state.currentTraceChanged.connect(lambda _: self._on_trace_switched())
+        state.tracesChanged.connect(self._on_traces_changed)
+        state.traceChanged.connect(self._on_trace_changed)
+        state.offsetsChanged.connect(self._on_offsets_changed)
+        self._on_traces_changed()
+
+    # ------------------------------------------------------------------ what is edited
+    @property
+    def trace_id(self) -> int:
+        """The trace the panel edits (the model's current trace), or −1."""
+        tid = self.state.current_trace
+        # While a trace is being closed the model may still name it as current.
+        return tid if tid in self.state.trace_ids() else -1
+
+    @property
+    def port(self) -> int:
+        """The 1-based port being edited."""
+        return max(self.port_combo.currentIndex(), 0) + 1
+
+    @property
+    def step_s(self) -> float:
+        """The delay step of keys, wheel and slider, in seconds."""
+        return STEPS[max(self.step_combo.currentIndex(), 0)][1]
+
+    def offset(self) -> LineOffset:
+        """The line at the edited port (a zero line when none is set)."""
+        if self.trace_id == -1:
+            return LineOffset()
+        offsets = self.state.trace(self.trace_id).offsets
+        if self.port <= len(offsets) and offsets[self.port - 1] is not None:
+            return offsets[self.port - 1]
+        return LineOffset()
+
+    def velocity_factor(self) -> float | None:
+        """The velocity factor typed for this trace and port, if any."""
+        return self._vf.get((self.trace_id, self.port))
+
+    # ------------------------------------------------------------------ changing the model
+    def set_offset(self, offset: LineOffset) -> bool:
+        """Give the edited port this line (the chart follows); False if the model refused it."""
+        if self.trace_id == -1:
+            return False
+        trace = self.state.trace(self.trace_id)
+        try:
+            offsets = with_port_offset(trace.offsets, trace.raw.n_ports, self.port, offset)
+            self.state.set_offsets(self.trace_id, offsets)
+        except AnalysisError as exc:
+            self._say(str(exc), error=True)
+            self._refresh()
+            return False
+        self._say("")
+        return True
+
+    def step_delay(self, steps: float) -> None:
+        """Move the edited port's delay by ``steps`` steps."""
+        self.set_offset(self.offset().stepped(steps, self.step_s))
+
+    def reset_port(self) -> None:
+        """Remove the line from the edited port."""
+        self.set_offset(LineOffset())
+
+    def reset_all(self) -> None:
+        """Remove the lines from every port of the trace."""
+        if self.trace_id != -1:
+            self.state.set_offsets(self.trace_id, ())
+            self._say("")
+
+    # ------------------------------------------------------------------ text fields
+    def _parsed(self, parse, text: str, what: str):
+        try:
+            return parse(text)
+        except AnalysisError as exc:
+            self._say(f"{what}: {exc}", error=True)
+            self._refresh_fields()
+            return None
+
+    def _on_delay_edited(self) -> None:
+        text = self.delay_edit.text().strip()
+        delay = 0.0 if not text else self._parsed(parse_time, text, "delay")
+        if delay is not None and delay != self.offset().delay_s:
+            self.set_offset(self.offset().with_changes(delay_s=delay))
+
+    def _on_length_edited(self) -> None:
+        text = self.length_edit.text().strip()
+        if not text:
+            return
+        vf = self.velocity_factor()
+        if vf is None:
+            self._say("length: give the velocity factor first (e.g. 0.66)", error=True)
+            self._refresh_fields()
+            return
+        length = self._parsed(parse_length, text, "length")
+        if length is not None:
+            self.set_offset(self.offset().with_length(length, vf))
+
+    def _on_vf_edited(self) -> None:
+        text = self.vf_edit.text().strip()
+        key = (self.trace_id, self.port)
+        if not text:
+            self._vf.pop(key, None)
+            self._refresh_fields()
+            return
+        try:
+            # Checked by the offset's own rule (above 0, at most 1).
+            LineOffset.from_length(0.0, text)
+        except AnalysisError as exc:
+            self._say(f"velocity factor: {exc}", error=True)
+            self._refresh_fields()
+            return
+        self._vf[key] = float(text)
+        self._say("")
+        self._refresh_fields()   # the length follows; the delay stays as it is
+
+    def _on_loss_edited(self) -> None:
+        text = self.loss_edit.text().strip()
+        loss = (0.0, self.offset().loss_ref_hz) if not text else self._parsed(parse_loss, text, "loss")
+        if loss is not None and loss != (self.offset().loss_db, self.offset().loss_ref_hz):
+            self.set_offset(self.offset().with_changes(loss_db=loss[0], loss_ref_hz=loss[1]))
+
+    def _on_z0_edited(self) -> None:
+        text = self.z0_edit.text().strip()
+        z0 = None if not text else self._parsed(parse_resistance, text, "line impedance")
+        if text and z0 is None:
+            return
+        if z0 != self.offset().line_z0_ohm:
+            self.set_offset(self.offset().with_changes(line_z0_ohm=z0))
+
+    def _on_slider(self, value: int) -> None:
+        self.set_offset(self.offset().with_changes(delay_s=0.0).stepped(value, self.step_s))
+
+    # ------------------------------------------------------------------ estimate
+    def start_estimate(self) -> None:
+        """Estimate the line from the chosen trace and standard; the result lands on the edited port."""
+        source = self.source_combo.currentData()
+        if self.trace_id == -1 or source is None:
+            self._say("open a trace of the bare line ended in an open or a short first", error=True)
+            return
+        src = self.state.trace(source)
+        self._job += 1
+        request = EstimateRequest(job=self._job, target_trace=self.trace_id, target_port=self.port,
+                                  sweep=src.raw, port=src.port, standard=self.standard_combo.currentData(),
+                                  velocity_factor=self.velocity_factor())
+        self.estimate_button.setEnabled(False)
+        self.estimate_label.setText("estimating…")
+        self.pool.start(_EstimateJob(request, self._signals))
+
+    def _on_estimate_done(self, request: EstimateRequest, status: str, payload) -> None:
+        self.estimate_button.setEnabled(self.trace_id != -1)
+        if request.job != self._job:
+            return
+        if status != "ok":
+            self.estimate_label.setText("")
+            self._say(f"estimate: {payload}", error=True)
+            self.estimateFinished.emit(False)
+            return
+        est = payload
+        self.last_estimate = est
+        length = f", {format_si(est.length_m, 'm', 5)}" if est.length_m is not None else ""
+        verdict = est.verdict()
+        self.estimate_label.setText(
+            f"Found {format_si(est.delay_s, 's', 5)}{length}, {est.loss_db:.3f} dB at "
+            f"{format_frequency(est.loss_ref_hz)}; residual {est.residual:.4f}. "
+            f"{verdict[:1].upper()}{verdict[1:]}.")
+        applied = False
+        if request.target_trace in self.state.trace_ids():
+            trace = self.state.trace(request.target_trace)
+            if request.target_port <= trace.raw.n_ports:
+                current = (trace.offsets[request.target_port - 1]
+                           if request.target_port <= len(trace.offsets) else None) or LineOffset()
+                found = current.with_changes(delay_s=est.delay_s, loss_db=est.loss_db,
+                                             loss_ref_hz=est.loss_ref_hz, dielectric_loss_db=0.0,
+                                             line_z0_ohm=None)
+                try:
+                    self.state.set_offsets(request.target_trace, with_port_offset(
+                        trace.offsets, trace.raw.n_ports, request.target_port, found))
+                    applied = True
+                except AnalysisError as exc:
+                    self._say(str(exc), error=True)
+        self.estimateFinished.emit(applied)
+
+    # ------------------------------------------------------------------ save
+    def save_corrected(self) -> str | None:
+        """Write the displayed sweep as Touchstone, the offsets noted in its header; returns the path."""
+        if self.trace_id == -1:
+            return None
+        from refplane.analysis import touchstone
+
+        trace = self.state.trace(self.trace_id)
+        n = trace.raw.n_ports
+        folder = os.path.dirname(trace.source) if trace.source else ""
+        suggested = os.path.join(folder, f"{trace.name or 'sweep'}_corrected.s{n}p")
+        path = self.ask_save_path(suggested)
+        if not path:
+            return None
+        exists = os.path.exists(path)
+        same_as_source = (bool(trace.source) and exists and os.path.exists(trace.source)
+                          and os.path.samefile(path, trace.source))
+        if same_as_source and not self.confirm(
+                "This is the original measurement. Replace it with the corrected sweep? "
+                "The uncorrected data in it will be lost."):
+            return None
+        comments = tuple(trace.raw.comments) + (
+            f"Refplane: corrected from {trace.source or trace.name}",) + describe_offsets(trace.offsets)
+        try:
+            # The save dialog has already asked before replacing an existing file.
+            written = touchstone.write(trace.displayed, path, comments=comments, overwrite=exists)
+        except (AnalysisError, OSError) as exc:
+            self.show_error("Could not save the corrected sweep", str(exc))
+            return None
+        self._say(f"saved {written}")
+        return str(written)
+
+    def _ask_save_path(self, suggested: str) -> str | None:
+        path, _ = QFileDialog.getSaveFileName(self, "Save corrected sweep", suggested,
+                                              "Touchstone (*.s1p *.s2p *.s3p *.s4p *.snp)")
+        return path or None
+
+    def _confirm(self, text: str) -> bool:
+        answer = QMessageBox.question(self, "Replace the original file?", text,
+                                      QMessageBox.Yes | QMessageBox.No, QMessageBox.No)
+        return answer == QMessageBox.Yes
+
+    def _show_error(self, title: str, text: str) -> None:
+        QMessageBox.warning(self, title, text)
+
+    # ------------------------------------------------------------------ following the model
+    def _on_traces_changed(self) -> None:
+        keep = self.source_combo.currentData()
+        self.source_combo.blockSignals(True)
+        self.source_combo.clear()
+        for trace in self.state.traces():
+            self.source_combo.addItem(trace.name or f"trace {trace.id}", trace.id)
+        index = self.source_combo.findData(keep)
+        if index < 0:
+            index = self.source_combo.findData(self.state.current_trace)
+        self.source_combo.setCurrentIndex(max(index, 0))
+        self.source_combo.blockSignals(False)
+        alive = set(self.state.trace_ids())
+        self._vf = {k: v for k, v in self._vf.items() if k[0] in alive}
+        self._on_trace_switched()
+
+    def _on_trace_switched(self) -> None:
+        self._fill_ports()
+        self._refresh()
+
+    def _on_trace_changed(self, trace_id: int) -> None:
+        if trace_id == self.trace_id:
+            self._on_trace_switched()
+        else:
+            self._on_traces_changed()
+
+    def _on_offsets_changed(self, trace_id: int) -> None:
+        if trace_id == self.trace_id:
+            self._refresh()
+
+    def _fill_ports(self) -> None:
+        keep = self.port_combo.currentIndex()
+        n = self.state.trace(self.trace_id).raw.n_ports if self.trace_id != -1 else 0
+        self.port_combo.blockSignals(True)
+        self.port_combo.clear()
+        for port in range(1, n + 1):
+            self.port_combo.addItem(f"port {port}")
+        if n:
+            trace = self.state.trace(self.trace_id)
+            self.port_combo.setCurrentIndex(keep if 0 <= keep < n else trace.port - 1)
+        self.port_combo.blockSignals(False)
+
+    def _refresh(self) -> None:
+        enabled = self.trace_id != -1
+        for widget in (self.port_combo, self.delay_edit, self.length_edit, self.vf_edit, self.loss_edit,
+                       self.z0_edit, self.slider, self.step_combo, self.reset_button,
+                       self.reset_all_button, self.save_button, self.estimate_button):
+            widget.setEnabled(enabled)
+        self.trace_label.setText(self.state.trace(self.trace_id).name if enabled else "no trace open")
+        self._refresh_fields()
+
+    def _refresh_fields(self) -> None:
+        offset = self.offset()
+        vf = self.velocity_factor()
+        widgets = (self.delay_edit, self.length_edit, self.vf_edit, self.loss_edit, self.z0_edit, self.slider)
+        for widget in widgets:
+            widget.blockSignals(True)
+        try:
+            self.delay_edit.setText(format_si(offset.delay_s, "s", 5) if not offset.is_zero or offset.delay_s
+                                    else "")
+            self.vf_edit.setText(f"{vf:g}" if vf is not None else "")
+            self.length_edit.setText(format_si(offset.length_m(vf), "m", 5)
+                                     if vf is not None and offset.delay_s else "")
+            self.loss_edit.setText(f"{offset.loss_db:g} dB @ {format_frequency(offset.loss_ref_hz)}"
+                                   if offset.loss_db else "")
+            self.z0_edit.setText(f"{offset.line_z0_ohm:g} Ω" if offset.line_z0_ohm is not None else "")
+            # The slider shows the delay in steps, pinned at its ends when the delay lies outside.
+            steps = offset.delay_s / self.step_s
+            self.slider.setValue(int(round(min(max(steps, 0), SLIDER_STEPS))))
+        finally:
+            for widget in widgets:
+                widget.blockSignals(False)
+
+    def _say(self, text: str, *, error: bool = False) -> None:
+        self.message.setText(text)
+        self.message.setProperty("error", error)
