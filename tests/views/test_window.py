@@ -171,16 +171,19 @@ def test_delta_readout_and_tsv_copy(qtbot, window, files):
     tid = window.state.trace_ids()[0]
     a = window.state.add_marker(tid, 200e6)
     b = window.state.add_marker(tid, 400e6)
-    delta = window.marker_table.delta_column()
+    delta = window.marker_table.delta_row()
     ra, rb = window.state.marker_readout(a), window.state.marker_readout(b)
     assert delta["Frequency"] == "+200 MHz"
     # ΔX of a series inductor: ω2·L − ω1·L = 2π·200 MHz·9 nH ≈ 11.31 Ω (closed form).
     assert delta["X"] == f"+{rb.x_ohm - ra.x_ohm:.2f} Ω"
     assert rb.x_ohm - ra.x_ohm == pytest.approx(2 * np.pi * 200e6 * 9e-9, rel=1e-3)
-    tsv = window.marker_table.as_tsv().splitlines()
-    assert tsv[0].split("\t")[1:] == ["Marker 1", "Marker 2", "Difference 2 − 1"]
-    row_r = next(line.split("\t") for line in tsv if line.startswith("R\t"))
-    assert row_r[1:3] == [window.state.marker_cells(a)["R"], window.state.marker_cells(b)["R"]]
+    tsv = [line.split("\t") for line in window.marker_table.as_tsv().splitlines()]
+    header = tsv[0]
+    assert header[:3] == ["", "Trace", "Frequency"] and "Return loss" in header
+    assert [row[0] for row in tsv[1:]] == ["1", "2", "Δ"]
+    col_r = header.index("R")
+    assert [tsv[1][col_r], tsv[2][col_r]] == [window.state.marker_cells(a)["R"], window.state.marker_cells(b)["R"]]
+    assert tsv[3][header.index("Trace")] == "marker 2 − marker 1"
     window.marker_table.copy_to_clipboard()
     from PySide6.QtGui import QGuiApplication
     assert QGuiApplication.clipboard().text() == window.marker_table.as_tsv()
@@ -330,7 +333,9 @@ def test_tools_menu_and_side_panel_hooks(qtbot, window):
     action.trigger()
     assert hits == [1]
     dock = window.add_side_panel("Extra", QLabel("hello"))
-    assert window.dockWidgetArea(dock) == Qt.RightDockWidgetArea
+    assert window.dockWidgetArea(dock) == Qt.LeftDockWidgetArea
+    right = window.add_side_panel("Right", QLabel("there"), area=Qt.RightDockWidgetArea)
+    assert window.dockWidgetArea(right) == Qt.RightDockWidgetArea
     assert dock.toggleViewAction() in window._panels_menu.actions()
 
 

@@ -2,11 +2,13 @@
 
 Adding panels later
 -------------------
-- :meth:`MainWindow.add_side_panel` puts any widget in a dock (right side by default) and
+- :meth:`MainWindow.add_side_panel` puts any widget in a dock (left column by default) and
   lists it under View ▸ Panels; e.g. the reference-plane offsets panel and the fit panel::
 
       window.add_side_panel("Reference plane", OffsetsPanel(window.state))
       window.add_side_panel("Fit", FitPanel(window.state), area=Qt.RightDockWidgetArea)
+
+  (by default a panel goes in the left column under "Traces"; ``area`` puts it elsewhere).
 
 - :meth:`MainWindow.add_tool_action` adds an entry to the Tools menu (shown once it has an
   entry), e.g. a calibration dialog::
@@ -59,8 +61,8 @@ class MainWindow(QMainWindow):
         self.splitter = QSplitter(Qt.Horizontal)
         self.splitter.addWidget(self.chart)
         self.splitter.addWidget(self.plots)
-        self.splitter.setStretchFactor(0, 5)
-        self.splitter.setStretchFactor(1, 4)
+        self.splitter.setStretchFactor(0, 1)
+        self.splitter.setStretchFactor(1, 1)
         self.splitter.setChildrenCollapsible(False)
         self.setCentralWidget(self.splitter)
 
@@ -69,10 +71,13 @@ class MainWindow(QMainWindow):
         self.docks: dict[str, QDockWidget] = {}
         self._panels_menu = None
         self._build_menus()
+        # Traces (and panels added later) down the left; markers along the bottom, where a
+        # column per marker has room.
+        self.setCorner(Qt.BottomLeftCorner, Qt.LeftDockWidgetArea)
         traces = self._dock("Traces", self.trace_list, Qt.LeftDockWidgetArea)
-        markers = self._dock("Markers", self.marker_table, Qt.LeftDockWidgetArea)
-        self.resizeDocks([traces], [400], Qt.Horizontal)
-        self.resizeDocks([traces, markers], [190, 600], Qt.Vertical)
+        markers = self._dock("Markers", self.marker_table, Qt.BottomDockWidgetArea)
+        self.resizeDocks([traces], [330], Qt.Horizontal)
+        self.resizeDocks([markers], [210], Qt.Vertical)
 
         self.loader = SweepLoader(self)
         self.loader.loaded.connect(self._on_loaded)
@@ -99,8 +104,8 @@ class MainWindow(QMainWindow):
         self._panels_menu.addAction(dock.toggleViewAction())
         return dock
 
-    def add_side_panel(self, title: str, widget: QWidget, area=Qt.RightDockWidgetArea) -> QDockWidget:
-        """Add a panel in a dock (right side unless ``area`` says otherwise); returns the dock.
+    def add_side_panel(self, title: str, widget: QWidget, area=Qt.LeftDockWidgetArea) -> QDockWidget:
+        """Add a panel in a dock, below the trace list unless ``area`` says otherwise; returns the dock.
 
         The panel appears under View ▸ Panels so it can be hidden and shown. Docks in the same
         area are stacked; drag a dock's title to tab or float it.

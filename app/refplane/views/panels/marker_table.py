@@ -1,4 +1,4 @@
-"""Marker readouts: one column per marker, a difference column, typed frequencies, copy as text.
+"""Marker readouts: one row per marker, a difference row, typed frequencies, copy as text.
 
 Every cell is exactly :func:`refplane.analysis.readings.readout_cells` of the marker's
 reading (through :meth:`ViewState.marker_cells`), so the table shows what ``refplane read``
@@ -35,8 +35,9 @@ class MarkerTable(QWidget):
         self.table.setEditTriggers(QAbstractItemView.NoEditTriggers)
         self.table.setSelectionMode(QAbstractItemView.ContiguousSelection)
         self.table.horizontalHeader().setSectionResizeMode(QHeaderView.ResizeToContents)
-        self.table.horizontalHeader().setStretchLastSection(True)
+        self.table.horizontalHeader().setStretchLastSection(False)
         self.table.verticalHeader().setDefaultSectionSize(22)
+        self.table.setAlternatingRowColors(True)
         self.delta_a = QComboBox()
         self.delta_b = QComboBox()
         self.copy_button = QPushButton("Copy table")
@@ -44,27 +45,28 @@ class MarkerTable(QWidget):
         self.remove_button = QPushButton("Remove marker")
         self.clear_button = QPushButton("Remove all")
 
-        entry_row = QHBoxLayout()
-        entry_row.addWidget(self.entry, 1)
-        entry_row.addWidget(self.add_button)
-        delta_row = QHBoxLayout()
-        delta_row.addWidget(QLabel("Difference"))
-        delta_row.addWidget(self.delta_b)
-        delta_row.addWidget(QLabel("−"))
-        delta_row.addWidget(self.delta_a)
-        delta_row.addStretch(1)
-        delta_row.addWidget(self.remove_button)
-        delta_row.addWidget(self.clear_button)
-        delta_row.addWidget(self.copy_button)
+        self.entry.setMaximumWidth(260)
+        row = QHBoxLayout()
+        row.addWidget(self.entry, 1)
+        row.addWidget(self.add_button)
+        row.addSpacing(18)
+        row.addWidget(QLabel("Difference: marker"))
+        row.addWidget(self.delta_b)
+        row.addWidget(QLabel("− marker"))
+        row.addWidget(self.delta_a)
+        row.addStretch(1)
+        row.addWidget(self.remove_button)
+        row.addWidget(self.clear_button)
+        row.addWidget(self.copy_button)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(4, 4, 4, 4)
-        layout.addLayout(entry_row)
+        layout.addLayout(row)
         layout.addWidget(self.message)
         layout.addWidget(self.table, 1)
-        layout.addLayout(delta_row)
+        self.message.hide()
 
         self._ids: list[int] = []
-        self._rows: list[str] = []
+        self._cols: list[str] = []
         self.entry.returnPressed.connect(self.add_from_entry)
         self.add_button.clicked.connect(self.add_from_entry)
         self.copy_button.clicked.connect(self.copy_to_clipboard)
@@ -92,60 +94,64 @@ class MarkerTable(QWidget):
             return None
         tid = self.state.current_trace
         if tid == -1:
-            self.message.setText("Open a sweep first.")
+            self._say("Open a sweep first.")
             return None
         try:
             mid = self.state.add_marker(tid, parse_frequency(text))
         except AnalysisError as exc:
-            self.message.setText(str(exc))
+            self._say(str(exc))
             return None
-        self.message.setText("")
+        self._say("")
         self.entry.clear()
         return mid
 
-    def column_of(self, marker_id: int) -> int:
-        """Table column of a marker."""
+    def row_of(self, marker_id: int) -> int:
+        """Table row of a marker."""
         return self._ids.index(marker_id)
 
     def cells(self, marker_id: int) -> dict[str, str]:
-        """What the table shows for a marker, row label → text (without the trace row)."""
-        col = self.column_of(marker_id)
+        """What the table shows for a marker, column label → text (without the trace column)."""
+        row = self.row_of(marker_id)
         return {label: self.table.item(row, col).text()
-                for row, label in enumerate(self._rows) if label != "Trace"}
+                for col, label in enumerate(self._cols) if label != "Trace"}
 
-    def delta_column(self) -> dict[str, str]:
-        """What the difference column shows, row label → text (empty when not shown)."""
-        col = len(self._ids)
-        if self.table.columnCount() <= col:
+    def delta_row(self) -> dict[str, str]:
+        """What the difference row shows, column label → text (empty when not shown)."""
+        row = len(self._ids)
+        if self.table.rowCount() <= row:
             return {}
-        return {label: self.table.item(row, col).text() for row, label in enumerate(self._rows)
+        return {label: self.table.item(row, col).text() for col, label in enumerate(self._cols)
                 if self.table.item(row, col) is not None and self.table.item(row, col).text()}
 
     def as_tsv(self) -> str:
-        """The whole table as tab-separated text, headers first."""
-        headers = [""] + [self.table.horizontalHeaderItem(c).text() for c in range(self.table.columnCount())]
-        lines = ["\t".join(headers)]
-        for row, label in enumerate(self._rows):
-            cells = [label] + [(self.table.item(row, c).text() if self.table.item(row, c) else "")
-                               for c in range(self.table.columnCount())]
-            lines.append("\t".join(cells))
+        """The whole table as tab-separated text: a header line, then a line per row."""
+        lines = ["\t".join([""] + self._cols)]
+        for row in range(self.table.rowCount()):
+            head = self.table.verticalHeaderItem(row).text()
+            cells = [(self.table.item(row, c).text() if self.table.item(row, c) else "")
+                     for c in range(self.table.columnCount())]
+            lines.append("\t".join([head] + cells))
         return "\n".join(lines) + "\n"
 
     def copy_to_clipboard(self) -> None:
         QGuiApplication.clipboard().setText(self.as_tsv())
-        self.message.setText("Table copied as tab-separated text.")
+        self._say("Table copied as tab-separated text.")
+
+    def _say(self, text: str) -> None:
+        self.message.setText(text)
+        self.message.setVisible(bool(text))
 
     # ----------------------------------------------------------------- slots
     def rebuild(self) -> None:
         markers = self.state.markers()
         self._ids = [m.id for m in markers]
-        self._rows = ["Trace"] + (list(self.state.marker_cells(markers[0].id)) if markers else [])
+        self._cols = ["Trace"] + (list(self.state.marker_cells(markers[0].id)) if markers else [])
         show_delta = len(markers) >= 2
-        self.table.setRowCount(len(self._rows) if markers else 0)
-        self.table.setColumnCount(len(markers) + (1 if show_delta else 0))
-        self.table.setVerticalHeaderLabels(self._rows)
-        headers = [f"Marker {i}" for i in range(1, len(markers) + 1)] + (["Difference"] if show_delta else [])
-        self.table.setHorizontalHeaderLabels(headers)
+        self.table.setColumnCount(len(self._cols) if markers else 0)
+        self.table.setRowCount(len(markers) + (1 if show_delta else 0))
+        self.table.setHorizontalHeaderLabels(self._cols)
+        rows = [str(i) for i in range(1, len(markers) + 1)] + (["Difference"] if show_delta else [])
+        self.table.setVerticalHeaderLabels(rows)
         for m in markers:
             self.refresh_marker(m.id)
         for combo, default in ((self.delta_a, -2), (self.delta_b, -1)):
@@ -166,19 +172,19 @@ class MarkerTable(QWidget):
     def refresh_marker(self, marker_id: int) -> None:
         if marker_id not in self._ids:
             return
-        col = self._ids.index(marker_id)
+        row = self._ids.index(marker_id)
         m = self.state.marker(marker_id)
         t = self.state.trace(m.trace_id)
         values = {"Trace": f"{t.name} · S{t.port}{t.port}", **self.state.marker_cells(marker_id)}
-        for row, label in enumerate(self._rows):
-            self._set(row, col, values.get(label, ""))
+        for col, label in enumerate(self._cols):
+            self._set(row, col, values.get(label, ""), left=(label == "Trace"))
         self._fill_delta()
 
-    def _set(self, row: int, col: int, text: str) -> None:
+    def _set(self, row: int, col: int, text: str, left: bool = False) -> None:
         item = self.table.item(row, col)
         if item is None:
             item = QTableWidgetItem(text)
-            item.setTextAlignment(Qt.AlignRight | Qt.AlignVCenter)
+            item.setTextAlignment((Qt.AlignLeft if left else Qt.AlignRight) | Qt.AlignVCenter)
             self.table.setItem(row, col, item)
         elif item.text() != text:
             item.setText(text)
@@ -186,30 +192,31 @@ class MarkerTable(QWidget):
     def _fill_delta(self) -> None:
         from refplane.views.marker_delta import delta_cells
 
-        col = len(self._ids)
-        if self.table.columnCount() <= col:
+        row = len(self._ids)
+        if self.table.rowCount() <= row:
             return
         a, b = self.delta_a.currentData(), self.delta_b.currentData()
         if a is None or b is None or a not in self._ids or b not in self._ids:
             return
         cells = delta_cells(self.state.marker_readout(a), self.state.marker_readout(b))
         na, nb = self._ids.index(a) + 1, self._ids.index(b) + 1
-        self.table.horizontalHeaderItem(col).setText(f"Difference {nb} − {na}")
-        for row, label in enumerate(self._rows):
-            self._set(row, col, cells.get(label, ""))
+        cells["Trace"] = f"marker {nb} − marker {na}"
+        self.table.verticalHeaderItem(row).setText("Δ")
+        for col, label in enumerate(self._cols):
+            self._set(row, col, cells.get(label, ""), left=(label == "Trace"))
 
     def _remove_current(self) -> None:
         if self.state.current_marker != -1:
             self.state.remove_marker(self.state.current_marker)
 
     def _on_current_cell(self, row: int, col: int, *_):
-        if 0 <= col < len(self._ids) and self.state.current_marker != self._ids[col]:
-            self.state.set_current_marker(self._ids[col])
+        if 0 <= row < len(self._ids) and self.state.current_marker != self._ids[row]:
+            self.state.set_current_marker(self._ids[row])
 
     def _select_current(self, marker_id: int) -> None:
-        for c in range(len(self._ids)):
-            header = self.table.horizontalHeaderItem(c)
+        for r in range(len(self._ids)):
+            header = self.table.verticalHeaderItem(r)
             if header is not None:
                 font = header.font()
-                font.setBold(self._ids[c] == marker_id)
+                font.setBold(self._ids[r] == marker_id)
                 header.setFont(font)
