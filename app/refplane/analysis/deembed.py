@@ -240,16 +240,17 @@ def _solve(a: np.ndarray, b: np.ndarray) -> np.ndarray:
     """Batched solve of a·x = b over the first axis; 2 × 2 in closed form (LAPACK's per-matrix
     overhead dominates for 100 000 small systems)."""
     if a.shape[1] == 2:
-        det = a[:, 0, 0] * a[:, 1, 1] - a[:, 0, 1] * a[:, 1, 0]
+        a00, a01, a10, a11 = a[:, 0, 0], a[:, 0, 1], a[:, 1, 0], a[:, 1, 1]
+        det = a00 * a11 - a01 * a10
         if np.any(det == 0):
             raise np.linalg.LinAlgError("singular matrix")
-        inv = np.empty_like(a)
-        inv[:, 0, 0] = a[:, 1, 1]
-        inv[:, 1, 1] = a[:, 0, 0]
-        inv[:, 0, 1] = -a[:, 0, 1]
-        inv[:, 1, 0] = -a[:, 1, 0]
-        inv /= det[:, None, None]
-        return inv @ b
+        inv_det = 1.0 / det
+        out = np.empty_like(b)
+        for col in (0, 1):
+            b0, b1 = b[:, 0, col], b[:, 1, col]
+            out[:, 0, col] = (a11 * b0 - a01 * b1) * inv_det
+            out[:, 1, col] = (a00 * b1 - a10 * b0) * inv_det
+        return out
     return np.linalg.solve(a, b)
 
 
