@@ -100,9 +100,9 @@ def test_error_bound_on_a_pure_delay(deg_per_point):
     got_mid = gamma_at(sw, mid)
     np.testing.assert_allclose(np.abs(got_mid), math.cos(dtheta / 2), rtol=1e-12)
     np.testing.assert_allclose(np.abs(got_mid - np.exp(-4j * np.pi * mid * tau)), bound, rtol=1e-6, atol=1e-14)
-    # Elsewhere the full complex error stays within the bound up to the tangential part, which is
-    # of higher order (≈ Δθ³/(9√3)/... ≪ bound for a few degrees per point).
-    assert np.max(np.abs(got - true)) <= bound * (1 + dtheta)
+    # For a pure delay (phase linear in f) the full complex error, radial and along the arc, is
+    # largest at the midpoint too, so the documented bound holds for the error as a whole.
+    assert np.max(np.abs(got - true)) <= bound * (1 + 1e-9) + 1e-15
 
 
 def test_documented_accuracy_figure():
