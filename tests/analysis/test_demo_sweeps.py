@@ -66,7 +66,9 @@ def test_generator_reproduces_committed_files_byte_for_byte(regenerated):
     names = sorted(pathlib.Path(p).relative_to(out).as_posix() for p in written)
     assert names == _committed(), "the committed demo files and the generator's list differ"
     for name in names:
-        assert (out / name).read_bytes() == (DEMO / name).read_bytes(), f"{name} differs from a fresh run"
+        assert (out / name).read_bytes() == (DEMO / name).read_bytes(), (
+            f"{name} differs from a fresh run; if the models or the Touchstone writer changed on purpose, "
+            "regenerate with: python sample_sweeps/make_demo_sweeps.py --overwrite")
 
 
 def test_generator_twice_is_identical_and_refuses_to_overwrite(tmp_path):
