@@ -272,3 +272,18 @@ def test_one_port_shortcut_agrees_with_the_general_cascade():
     one = add_offsets(Sweep(f, g, 50 + 10j), [line]).s[:, 0, 0]
     two = add_offsets(Sweep(f, s2, np.array([50 + 10j, 50])), [line]).s[:, 0, 0]
     np.testing.assert_allclose(one, two, rtol=0, atol=1e-14)
+
+
+@pytest.mark.parametrize("freq", [np.linspace(1e6, 6e9, 50_001), np.geomspace(1e5, 6e9, 20_001),
+                                  np.arange(1, 30_002) * 2e5], ids=["even", "log", "integer-steps"])
+@pytest.mark.parametrize("delay_s", [1.0108e-9, 47.3e-9, -2e-12])
+def test_long_sweeps_match_the_plain_exponential(freq, delay_s):
+    # Definition of a matched line: Γ at the far end = Γ · e^(+2γl). Long sweeps are worked
+    # in blocks with a faster phase evaluation; they must agree with numpy's exponential to
+    # the rounding of the phase itself (|2ωτ| up to about 3600 rad here).
+    rng = np.random.default_rng(5)
+    gamma = 0.8 * np.exp(1j * rng.uniform(-np.pi, np.pi, freq.size))
+    line = LineOffset(delay_s, 0.4)
+    out = remove_offsets(Sweep(freq, gamma, 50.0), [line]).s[:, 0, 0]
+    expected = gamma * np.exp(2 * line.gamma_l(freq))
+    np.testing.assert_allclose(out, expected, rtol=0, atol=5e-12)
