@@ -275,3 +275,86 @@ def test_large_ports_wrap_four_pairs_per_line(tmp_path):
     assert len(data) == 3 * 6 * 2
     assert np.array_equal(touchstone.read(path).s, sweep.s)
     np.testing.assert_allclose(_skrf_network(path).s, sweep.s, rtol=1e-12)
+
+
+# --------------------------------------------------------------------------------------
+# The fixed-layout fast path must give exactly what a correctly rounded parser gives.
+# Reference: Python's float() (correctly rounded decimal-to-binary conversion, IEEE 754).
+# --------------------------------------------------------------------------------------
+
+def _fixed_block(values: np.ndarray, fmt: str, per_line: int) -> bytes:
+    rows = values.reshape(-1, per_line)
+    return ("".join(" ".join(fmt % v for v in row) + "\n" for row in rows.tolist())).encode()
+
+
+@pytest.mark.parametrize("fmt", ["%+.16e", "%+.9E", "%.6e", "%+.15f", "%+.17e", "%+.18e"])
+def test_fixed_layout_conversion_is_bit_exact(fmt):
+    rng = np.random.default_rng(abs(hash(fmt)) % 2**32)
+    n = 60_000
+    mags = 10.0 ** rng.uniform(-9, 9, n) if "f" not in fmt else rng.uniform(0, 9.9, n)
+    values = mags * rng.choice([-1.0, 1.0], n)
+    if fmt.startswith("%."):
+        values = np.abs(values)
+    block = _fixed_block(values, fmt, 6)
+    parsed = touchstone._fixed_width(block)
+    if np.finfo(np.longdouble).nmant != 63:
+        assert parsed is None  # no 80-bit floats: the reader uses numpy's parser instead
+        return
+    assert parsed is not None, "this block has one layout and should take the fast path"
+    expected = np.array([float(tok) for tok in block.split()])
+    assert np.array_equal(parsed.view(np.uint64), expected.view(np.uint64))
+
+
+def test_fixed_layout_handles_signed_zero_and_halfway_cases():
+    # About one number in 2048 lands exactly half-way after the 64-bit step and is redone
+    # with float(); 200 000 numbers exercise that path many times over.
+    rng = np.random.default_rng(77)
+    values = rng.uniform(-1, 1, 200_000)
+    values[::1000] = -0.0
+    values[1::1000] = 0.0
+    block = _fixed_block(values, "%+.16e", 8)
+    parsed = touchstone._fixed_width(block)
+    if parsed is None:
+        pytest.skip("no 80-bit extended floats on this platform")
+    expected = np.array([float(tok) for tok in block.split()])
+    assert np.array_equal(parsed.view(np.uint64), expected.view(np.uint64))
+
+
+@pytest.mark.parametrize("block", [
+    b"1.0e+00 2.0e+00\n1.0e+00 2.0e+0x\n",      # a letter
+    b"1.0e+00 2.0e+00\n1.0e+00\x012.0e+00\n",  # a control character as separator
+    b"1.0e+00 2.0e+00\n1.0e+00 2.0e+000\n",    # a line of another length
+    b"1.0e+00 2.0e+00\n1.0e+00  2.0e+00\n",    # a wider gap
+    b"1.0e+00 2.0e+00\n1.0e+00 2.0.e+00\n"[:-1],  # not whole lines
+    b"1.0e+00 2.0e+00\n1.0e+00 -.0e+001\n",
+    b"12345678901234567890.0 1\n12345678901234567890.0 1\n",  # more than 19 digits
+    b"1.0e+00 2.0e+00\n1.0e+00 2.0E+00\n",     # exponent letter differs
+    b"1.0 2.0\n1.0 -2.\n",                      # sign where the first line has a digit
+])
+def test_fixed_layout_declines_what_it_cannot_read(block):
+    assert touchstone._fixed_width(block) is None
+
+
+def test_bad_digit_in_a_fixed_layout_file_reports_its_line(tmp_path):
+    sweep = _random_sweep(2, points=50_000, seed=8)
+    path = touchstone.write(sweep, tmp_path / "big.s2p", comments=["one"])
+    lines = path.read_text().splitlines(keepends=True)
+    # line 2 is the option line; point k sits on line k + 3
+    bad = lines[40_002]
+    lines[40_002] = bad[:30] + "x" + bad[31:]
+    (tmp_path / "bad.s2p").write_text("".join(lines))
+    with pytest.raises(SweepFileError) as info:
+        touchstone.read(tmp_path / "bad.s2p")
+    assert info.value.line == 40_003 and "is not a number" in info.value.reason
+
+
+def test_fixed_layout_file_with_comments_and_crlf(tmp_path):
+    sweep = _random_sweep(1, points=5_000, seed=12)
+    path = touchstone.write(sweep, tmp_path / "a.s1p")
+    lines = path.read_text().splitlines()
+    lines.insert(1000, "! a note in the middle")
+    lines[2000] += " ! and one at a line end"
+    (tmp_path / "b.s1p").write_bytes(("\r\n".join(lines) + "\r\n").encode())
+    back = touchstone.read(tmp_path / "b.s1p")
+    assert np.array_equal(back.s, sweep.s)
+    assert back.comments == ("a note in the middle", "and one at a line end")

@@ -58,7 +58,7 @@ _NUMBER = re.compile(rb"[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?")
 _COMMENT = re.compile(rb"![^\n]*")
 _LATER_OPTION = re.compile(rb"(?m)^[ \t]*#[^\n]*")
 _BLANK_LINE = re.compile(rb"\n[ \t\r]*(?=\n)")
-_CHUNK = 1 << 20
+_CHUNK = 1 << 19
 
 #: Numbers per line the writer puts in a matrix row of three or more ports (1.x allows at most 4 pairs).
 _PAIRS_PER_LINE = 4
@@ -454,8 +454,9 @@ def _fast(handle, name: str, ext_ports: int | None):
                 tail = rest + pending + handle.read()
                 ended = True
             if body:
-                parts.append(_numbers(body))
-                n_lines += _data_lines(body)
+                numbers, lines = _numbers(body)
+                parts.append(numbers)
+                n_lines += lines if lines is not None else _data_lines(body)
     except _Irregular:
         return None
     if head.version == 2:
@@ -521,13 +522,261 @@ def _data_lines(body: bytes) -> int:
     return text.count(b"\n") - 1
 
 
-def _numbers(body: bytes) -> np.ndarray:
-    """Every number of ``body`` (whitespace-separated), parsed by numpy's C parser."""
+#: At most this many numbers of a block are redone one by one before the block goes to numpy's parser.
+_MAX_FIXUPS = 2000
+_NUMBER_BYTES = frozenset(b"0123456789+-.eE")
+_POW10_LD: list = []
+
+
+def _pow10_extended() -> np.ndarray | None:
+    """10**0 … 10**27 as x86 80-bit extended floats (exact), or None where there are none."""
+    if not _POW10_LD:
+        ok = np.finfo(np.longdouble).nmant == 63 and np.dtype(np.longdouble).itemsize == 16
+        _POW10_LD.append(np.array([10 ** k for k in range(28)], dtype=np.longdouble) if ok else None)
+    return _POW10_LD[0]
+
+
+def _template_token(tok: bytes, a: int):
+    """Parse one number of the first line of a block, starting at column ``a``.
+
+    Returns (sign column, mantissa digit columns, digits after the point, exponent sign
+    column, exponent digit columns, {column: required byte}) or None if it is no number.
+    """
+    i = 0
+    n = len(tok)
+    sign = None
+    fixed = {}
+    if tok[:1] in (b"+", b"-"):
+        sign = a
+        i = 1
+    mant = []
+    nfrac = 0
+    seen_dot = False
+    while i < n and (tok[i:i + 1].isdigit() or tok[i:i + 1] == b"."):
+        if tok[i:i + 1] == b".":
+            if seen_dot:
+                return None
+            seen_dot = True
+            fixed[a + i] = 46
+        else:
+            mant.append(a + i)
+            if seen_dot:
+                nfrac += 1
+        i += 1
+    if not mant:
+        return None
+    esign = None
+    exp = []
+    if i < n:
+        if tok[i:i + 1] not in (b"e", b"E"):
+            return None
+        fixed[a + i] = tok[i]
+        i += 1
+        if tok[i:i + 1] in (b"+", b"-"):
+            esign = a + i
+            i += 1
+        while i < n and tok[i:i + 1].isdigit():
+            exp.append(a + i)
+            i += 1
+        if not exp or i != n or len(exp) > 3:
+            return None
+    return sign, mant, nfrac, esign, exp, fixed
+
+
+@dataclass(frozen=True)
+class _Group:
+    """Numbers of a line with the same count of mantissa and exponent digits."""
+
+    ks: list
+    nd: int
+    ne: int
+    cols: np.ndarray
+    ecols: np.ndarray
+    nfrac: np.ndarray
+    sign_pos: np.ndarray
+    sign_cols: np.ndarray
+    esign_pos: np.ndarray
+    esign_cols: np.ndarray
+
+
+@dataclass(frozen=True)
+class _Layout:
+    """Where the numbers of a fixed-layout line sit (see :func:`_fixed_width`)."""
+
+    spans: list
+    tokens: list
+    groups: list
+    fixed_cols: np.ndarray
+    fixed_bytes: np.ndarray
+    sign_cols: np.ndarray
+
+
+_LAYOUTS: dict[bytes, _Layout | None] = {}
+_SHAPE = bytes.maketrans(b"0123456789-", b"0000000000+")
+_SPACE_BYTES = frozenset(b" \t\r\n")
+
+
+def _layout(template: bytes) -> _Layout | None:
+    """The layout of a first line (cached by its shape: digits and signs blanked)."""
+    key = template.translate(_SHAPE)
+    if key in _LAYOUTS:
+        return _LAYOUTS[key]
+    layout = None
+    if all(c in _SPACE_BYTES or c in _NUMBER_BYTES for c in template):
+        space = [c in _SPACE_BYTES for c in template]
+        spans, tokens, start = [], [], None
+        for i, sp in enumerate(space + [True]):
+            if not sp and start is None:
+                start = i
+            elif sp and start is not None:
+                spans.append((start, i))
+                start = None
+        for a, b in spans:
+            t = _template_token(template[a:b], a)
+            if t is None or len(t[1]) > 19:
+                tokens = None
+                break
+            tokens.append(t)
+        if tokens:
+            by_shape: dict = {}
+            for k, t in enumerate(tokens):
+                by_shape.setdefault((len(t[1]), len(t[4])), []).append(k)
+            groups = []
+            for (nd, ne), ks in by_shape.items():
+                msign = [(g, tokens[k][0]) for g, k in enumerate(ks) if tokens[k][0] is not None]
+                esign = [(g, tokens[k][3]) for g, k in enumerate(ks) if tokens[k][3] is not None]
+                groups.append(_Group(
+                    ks=ks, nd=nd, ne=ne,
+                    cols=np.array([c for k in ks for c in tokens[k][1]], dtype=np.intp),
+                    ecols=np.array([c for k in ks for c in tokens[k][4]], dtype=np.intp),
+                    nfrac=np.array([tokens[k][2] for k in ks], dtype=np.int64),
+                    sign_pos=np.array([g for g, _ in msign], dtype=np.intp),
+                    sign_cols=np.array([c for _, c in msign], dtype=np.intp),
+                    esign_pos=np.array([g for g, _ in esign], dtype=np.intp),
+                    esign_cols=np.array([c for _, c in esign], dtype=np.intp)))
+            fixed = {i: template[i] for i, sp in enumerate(space) if sp}
+            for t in tokens:
+                fixed.update(t[5])
+            cols = sorted(fixed)
+            layout = _Layout(spans=spans, tokens=tokens, groups=groups,
+                             fixed_cols=np.array(cols, dtype=np.intp),
+                             fixed_bytes=np.array([fixed[c] for c in cols], dtype=np.uint8),
+                             sign_cols=np.array([c for t in tokens for c in (t[0], t[3])
+                                                 if c is not None], dtype=np.intp))
+    if len(_LAYOUTS) > 64:
+        _LAYOUTS.clear()
+    _LAYOUTS[key] = layout
+    return layout
+
+
+def _fixed_width(body: bytes) -> np.ndarray | None:
+    """Numbers of a block of lines that all share one layout, converted exactly; else None.
+
+    Every line must have the same length, with digits, signs, points and exponent letters
+    in the same columns (the usual fixed-width E-notation of instruments and of
+    :func:`write`). The digits are then gathered column-wise and each number is built as an
+    integer mantissa M (≤ 19 digits, exact in uint64) times 10**E. M·10**E (or M/10**−E) for
+    |E| ≤ 27 is computed in x86 extended precision, where both operands are exact and the
+    single operation rounds once to 64 bits; the cast to float64 then rounds again. That
+    double rounding can differ from a correctly rounded conversion only when the 64-bit
+    result lies exactly half-way between two doubles (its 11 extra bits read 10000000000),
+    so exactly those numbers, and any with |E| > 27, are converted one by one with
+    Python's correctly rounded ``float``. The result is bit-for-bit what ``float(text)``
+    gives for each number. Platforms without 80-bit extended floats use numpy's parser.
+    """
+    p10 = _pow10_extended()
+    if p10 is None:
+        return None
+    width = body.find(b"\n") + 1
+    if width <= 1 or len(body) % width:
+        return None
+    layout = _layout(body[:width])
+    if layout is None:
+        return None
+    rows = np.frombuffer(body, dtype=np.uint8).reshape(-1, width)
+    # Every column of every line must be of the template's kind: the same white space, the
+    # same points and exponent letters, a sign where it has one, and digits where it has them.
+    if not (rows[:, layout.fixed_cols] == layout.fixed_bytes).all():
+        return None
+    if layout.sign_cols.size:
+        s = rows[:, layout.sign_cols]
+        if not ((s == 43) | (s == 45)).all():
+            return None
+    spans = layout.spans
+    n_lines = rows.shape[0]
+    out = np.empty((n_lines, len(layout.tokens)), dtype=np.float64)
+    for grp in layout.groups:
+        width_g = len(grp.ks)
+        digits = rows[:, grp.cols] - np.uint8(48)
+        if not (digits < 10).all():
+            return None
+        digits = digits.reshape(n_lines, width_g, grp.nd)
+        m = digits[:, :, 0].astype(np.uint64)
+        for j in range(1, grp.nd):
+            m *= np.uint64(10)
+            m += digits[:, :, j]
+        e = np.broadcast_to(-grp.nfrac, (n_lines, width_g))
+        if grp.ne:
+            edig = rows[:, grp.ecols] - np.uint8(48)
+            if not (edig < 10).all():
+                return None
+            edig = edig.reshape(n_lines, width_g, grp.ne)
+            x = edig[:, :, 0].astype(np.int64)
+            for j in range(1, grp.ne):
+                x *= 10
+                x += edig[:, :, j]
+            if grp.esign_pos.size:
+                neg = rows[:, grp.esign_cols] == 45
+                sub = x[:, grp.esign_pos]
+                x[:, grp.esign_pos] = np.where(neg, -sub, sub)
+            e = x - grp.nfrac
+        big = np.abs(e) > 27
+        if big.any():
+            e = np.where(big, 0, e)
+        ld = m.astype(np.longdouble)
+        if (e <= 0).all():
+            value = ld / p10[-e]
+        elif (e >= 0).all():
+            value = ld * p10[e]
+        else:
+            up = e >= 0
+            value = np.where(up, ld * p10[np.where(up, e, 0)], ld / p10[np.where(up, 0, -e)])
+        low = np.ascontiguousarray(value).reshape(-1).view(np.uint64)[::2].reshape(n_lines, width_g)
+        # Rounding first to 64 bits and then to 53 can err only when the 64-bit result sits
+        # exactly half-way between two doubles; those (about 1 in 2048) are redone exactly.
+        redo = (low & np.uint64(0x7FF)) == np.uint64(0x400)
+        redo |= big
+        result = value.astype(np.float64)
+        if grp.sign_pos.size:
+            neg = rows[:, grp.sign_cols] == 45
+            sub = result[:, grp.sign_pos]
+            result[:, grp.sign_pos] = np.where(neg, -sub, sub)
+        if redo.any():
+            where = np.argwhere(redo)
+            if len(where) > _MAX_FIXUPS:
+                return None
+            for r, g in where.tolist():
+                a, b = spans[grp.ks[g]]
+                result[r, g] = float(body[r * width + a:r * width + b])
+        out[:, grp.ks] = result
+    return out.reshape(-1)
+
+
+def _numbers(body: bytes) -> tuple[np.ndarray, int | None]:
+    """Every number of ``body`` (whitespace-separated), in order, and the count of lines
+    holding them when that comes for free (else None).
+
+    Lines of one identical layout (as instruments and Refplane's writer produce) go through
+    :func:`_fixed_width`; anything else through numpy's C number parser.
+    """
+    values = _fixed_width(body)
+    if values is not None:
+        return values, len(body) // (body.find(b"\n") + 1)
     try:
         with warnings.catch_warnings():
             # Before numpy 2.3 unparsable text only warned (DeprecationWarning); make it an error.
             warnings.simplefilter("error", DeprecationWarning)
-            return np.fromstring(body, dtype=np.float64, sep=" ")
+            return np.fromstring(body, dtype=np.float64, sep=" "), None
     except (ValueError, DeprecationWarning):
         raise _Irregular from None
 
@@ -772,6 +1021,14 @@ def _to_s(head: _Header, values: np.ndarray) -> np.ndarray:
     n = head.ports
     order, mirror = _element_order(head)
     m = np.empty((values.shape[0], n, n), dtype=np.complex128)
+    if head.fmt == "ri" and not mirror:
+        # Real and imaginary parts go straight into place: one gather, no temporaries.
+        columns = np.empty(2 * n * n, dtype=np.intp)
+        for k, (i, j) in enumerate(order):
+            columns[2 * (i * n + j)] = 1 + 2 * k
+            columns[2 * (i * n + j) + 1] = 2 + 2 * k
+        np.take(values, columns, axis=1, out=m.reshape(-1, n * n).view(np.float64))
+        order = []
     for k, (i, j) in enumerate(order):
         a = values[:, 1 + 2 * k]
         b = values[:, 2 + 2 * k]
@@ -861,7 +1118,8 @@ def write(sweep: Sweep, path: str | os.PathLike, *, fmt: str = "RI", freq_unit: 
 
     Notes
     -----
-    Numbers are written with 17 significant digits, so RI data read back bit for bit.
+    Numbers are written in fixed-width E-notation with 17 significant digits
+    (``%.16e``), so RI data read back bit for bit.
     Each frequency is written as the 17-digit value that, multiplied by the unit, gives the
     original frequency in hertz exactly whenever such a value exists (nearly always; in
     rare cases the read-back frequency differs in the last bit).
@@ -957,15 +1215,17 @@ def _format_body(sweep: Sweep, order: Sequence[tuple[int, int]], fmt: str, scale
             # An exact zero has no dB value; write a level far below any measurement.
             columns += [np.where(np.isfinite(db), db, -400.0), np.degrees(np.angle(v))]
     table = np.column_stack(columns)
+    # Fixed-width E-notation with 17 significant digits: exact, aligned in columns, and
+    # read back by the reader's fixed-layout path.
+    first, pair = "%.16e", " %+.16e %+.16e"
     if n <= 2:
-        template = "%.17g" + " %.17g %.17g" * len(order)
+        template = first + pair * len(order)
     else:
         # Each matrix row starts a new line, at most four pairs per line (as 1.x requires).
         segments = []
         for i in range(n):
             for start in range(0, n, _PAIRS_PER_LINE):
                 count = min(_PAIRS_PER_LINE, n - start)
-                segments.append(("%.17g" if i == 0 and start == 0 else "")
-                                + " %.17g %.17g" * count)
+                segments.append((first if i == 0 and start == 0 else "") + pair * count)
         template = "\n".join(segments)
     return "".join(template % tuple(row) + "\n" for row in table.tolist())

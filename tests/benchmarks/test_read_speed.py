@@ -1,0 +1,167 @@
+"""Reading a 200 001-point two-port Touchstone file (RI, ~36 MB), as ratios measured in one run.
+
+Run on demand: ``pytest tests/benchmarks/test_read_speed.py -s`` (needs pandas, the ``bench``
+extra). The file is written by Refplane's own writer into a temporary folder.
+
+Targets
+-------
+1. ``touchstone.read`` at least 8× faster than ``skrf.Network(file)``.
+2. ``touchstone.read`` within 1.5× of a raw pass of pandas' C tokenizer over the same text.
+   The reference is ``pandas.read_csv(path, sep=r"\\s+", comment="!", header=None,
+   skiprows=<lines before the data>, engine="c")``: pandas' C engine splitting the
+   whitespace-separated numbers into a float table and nothing more (no option line, no
+   reshaping into S, no checks). It is pandas' fastest text path for this layout and uses
+   its own (not correctly rounded in every case) float parser; the result's dtype and shape
+   are the same as the raw numbers Refplane parses.
+3. Peak memory while reading (``tracemalloc``: allocations made after tracing starts,
+   i.e. above the interpreter's baseline, numpy arrays included) under 3× the size of the
+   final arrays (frequencies + S).
+4. The whole process ``refplane read FILE --at 1GHz`` well under half the time of a process
+   that only does ``import skrf; skrf.Network(FILE)`` (here: at most 0.5×).
+
+Each comparison runs the two sides alternately and takes the shortest time of each, so both
+see the same machine load; the shortest run is the usual estimate of a piece of code's own
+cost (as the ``timeit`` documentation advises).
+"""
+
+from __future__ import annotations
+
+import pathlib
+import subprocess
+import sys
+import tempfile
+import time
+import tracemalloc
+import warnings
+
+import numpy as np
+import pytest
+
+from refplane.analysis import touchstone
+from refplane.analysis.sweep import Sweep
+
+pytestmark = pytest.mark.benchmark
+
+N_POINTS = 200_001
+REPEATS = 3
+
+
+@pytest.fixture(scope="module")
+def big_file():
+    # A folder of our own: pytest's numbered temporary folders can be pruned by other pytest
+    # sessions running at the same time.
+    with tempfile.TemporaryDirectory(prefix="refplane-read-speed-") as folder:
+        yield _write_big(pathlib.Path(folder))
+
+
+def _write_big(folder):
+    rng = np.random.default_rng(2024)
+    f = np.linspace(1e6, 6e9, N_POINTS)
+    s = (rng.uniform(-1, 1, (N_POINTS, 2, 2)) + 1j * rng.uniform(-1, 1, (N_POINTS, 2, 2))) * 0.7
+    sweep = Sweep(freq_hz=f, s=s, z0_ohm=50.0, name="bench")
+    path = touchstone.write(sweep, folder / "big.s2p", fmt="RI",
+                            freq_unit="GHz", comments=["invented benchmark data"])
+    size_mb = path.stat().st_size / 1e6
+    print(f"\nbenchmark file: {path} ({size_mb:.1f} MB, {N_POINTS} points, 2-port RI)")
+    return path
+
+
+def _paired(reference, candidate, repeats: int = REPEATS) -> tuple[float, float]:
+    ref_times, cand_times = [], []
+    for _ in range(repeats):
+        start = time.perf_counter()
+        reference()
+        middle = time.perf_counter()
+        candidate()
+        end = time.perf_counter()
+        ref_times.append(middle - start)
+        cand_times.append(end - middle)
+    return float(np.min(ref_times)), float(np.min(cand_times))
+
+
+def _skrf_read(path):
+    import skrf
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        return skrf.Network(str(path))
+
+
+def _header_lines(path) -> int:
+    with open(path, "rb") as handle:
+        for number, line in enumerate(handle):
+            if line[:1] not in (b"!", b"#"):
+                return number
+    return 0
+
+
+def test_read_is_8x_faster_than_skrf(big_file):
+    ref = _skrf_read(big_file)
+    sweep = touchstone.read(big_file)
+    # Same numbers as scikit-rf's reader (a correctness guard for the benchmark itself).
+    np.testing.assert_allclose(sweep.s, ref.s, rtol=1e-12, atol=1e-15)
+    skrf_s, ours_s = _paired(lambda: _skrf_read(big_file), lambda: touchstone.read(big_file))
+    ratio = skrf_s / ours_s
+    print(f"skrf.Network {skrf_s:.3f} s, touchstone.read {ours_s:.3f} s: {ratio:.1f}x faster "
+          "(target >= 8x)")
+    assert ratio >= 8
+
+
+def test_read_within_1_5x_of_pandas_c_tokenizer(big_file):
+    pd = pytest.importorskip("pandas")
+    skip = _header_lines(big_file)
+
+    def raw_pass():
+        return pd.read_csv(big_file, sep=r"\s+", comment="!", header=None, skiprows=skip,
+                           engine="c").to_numpy()
+
+    table = raw_pass()
+    assert table.shape == (N_POINTS, 9)
+    pandas_s, ours_s = _paired(raw_pass, lambda: touchstone.read(big_file))
+    ratio = ours_s / pandas_s
+    print(f"pandas C tokenizer {pandas_s:.3f} s, touchstone.read {ours_s:.3f} s: "
+          f"{ratio:.2f}x the raw pass (target <= 1.5x)")
+    # For context: numpy's own C text parsers on the same numbers.
+    with open(big_file, "rb") as handle:
+        for _ in range(skip):
+            handle.readline()
+        body = handle.read()
+    start = time.perf_counter()
+    np.fromstring(body, sep=" ")
+    numpy_s = time.perf_counter() - start
+    print(f"  (np.fromstring over the whole body alone: {numpy_s:.3f} s)")
+    assert ratio <= 1.5
+
+
+def test_peak_memory_under_3x_final_arrays(big_file):
+    touchstone.read(big_file)  # warm caches and imports outside the traced run
+    tracemalloc.start()
+    try:
+        sweep = touchstone.read(big_file)
+        _, peak = tracemalloc.get_traced_memory()
+    finally:
+        tracemalloc.stop()
+    final = sweep.freq_hz.nbytes + sweep.s.nbytes
+    ratio = peak / final
+    print(f"peak traced memory {peak / 1e6:.1f} MB for {final / 1e6:.1f} MB of final arrays: "
+          f"{ratio:.2f}x (target < 3x)")
+    assert ratio < 3
+
+
+def _process_s(args) -> float:
+    start = time.perf_counter()
+    done = subprocess.run(args, capture_output=True, text=True, timeout=600)
+    elapsed = time.perf_counter() - start
+    assert done.returncode == 0, done.stderr
+    return elapsed
+
+
+def test_cli_process_well_under_half_a_skrf_process(big_file):
+    ours = [sys.executable, "-m", "refplane", "read", str(big_file), "--at", "1GHz"]
+    theirs = [sys.executable, "-W", "ignore", "-c",
+              f"import skrf; skrf.Network({str(big_file)!r})"]
+    skrf_s, ours_s = _paired(lambda: _process_s(theirs), lambda: _process_s(ours))
+    ratio = ours_s / skrf_s
+    print(f"process 'import skrf; skrf.Network(FILE)' {skrf_s:.3f} s, "
+          f"'refplane read FILE --at 1GHz' {ours_s:.3f} s: {ratio:.2f}x (target <= 0.5x)")
+    assert ratio <= 0.5
