@@ -10,6 +10,7 @@ import json
 
 import numpy as np
 import pytest
+from PySide6.QtCore import Qt
 
 from refplane.analysis import touchstone
 from refplane.analysis.impedance import z_to_gamma
@@ -63,16 +64,19 @@ def choose_standards(dialog, files):
         assert dialog.set_standard_file(role, files[role])
 
 
-def test_solve_shows_terms_verdict_and_corrects_a_file_into_a_new_trace(dialog, files):
+def test_solve_shows_terms_verdict_and_corrects_a_file_into_a_new_trace(dialog, files, qtbot):
     assert not dialog.solve_button.isEnabled()
     choose_standards(dialog, files)
     assert dialog.solve_button.isEnabled() and not dialog.correct_button.isEnabled()
-    cal = dialog.solve()
+    qtbot.mouseClick(dialog.solve_button, Qt.LeftButton)
+    cal = dialog.calibration
     assert cal is not None and dialog.errors == []
     assert set(dialog.plotted_curves()) == {"Directivity", "Source match", "Reflection tracking"}
     assert "Quality: good" in dialog.verdict.text()
     dialog.add_device_files([files["dut"]])
-    ids = dialog.correct_devices()
+    assert dialog.correct_button.isEnabled()
+    qtbot.mouseClick(dialog.correct_button, Qt.LeftButton)
+    ids = dialog.state.trace_ids()
     assert len(ids) == 1
     trace = dialog.state.trace(ids[0])
     assert trace.name == "r75_raw (calibrated)"
@@ -198,3 +202,4 @@ def test_additional_standards_in_a_loaded_file_are_set_aside(dialog, files, tmp_
     assert dialog.solve() is not None
     items = [dialog.warning_list.item(i).text() for i in range(dialog.warning_list.count())]
     assert any("not used here: oshort" in w for w in items)
+
