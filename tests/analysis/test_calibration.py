@@ -135,14 +135,12 @@ def test_shipped_set_through_calibrate_with_named_additional_standards():
     import skrf as rf
 
     f, names, meas, ideal = _shipped_one_port()
-    # The shipped set has no open: its first delay short stands in the "open" slot by definition.
-    kw = {}
-    mapping = {"short": 0, "open": 1, "load": 3}
-    defs = {k: Standard(k if k != "open" else "open", data=sweep(ideal[i], k, f)) for k, i in mapping.items()}
-    std = StandardSet(short=Standard("short", data=defs["short"].data),
-                      open=Standard("open", data=defs["open"].data),
-                      load=Standard("load", data=defs["load"].data),
-                      additional=(("delay short 85um", Standard("short", data=sweep(ideal[2], "ds", f))),), **kw)
+    # The shipped set has no open: its first delay short stands in the "open" slot, defined by
+    # its shipped known response (a data definition); the second delay short is an additional one.
+    std = StandardSet(short=Standard("short", data=sweep(ideal[0], "short", f)),
+                      open=Standard("open", data=sweep(ideal[1], "delay short 132um", f)),
+                      load=Standard("load", data=sweep(ideal[3], "load", f)),
+                      additional=(("delay short 85um", Standard("short", data=sweep(ideal[2], "ds", f))),))
     measured = {"short": sweep(meas[0], "s", f), "open": sweep(meas[1], "o", f),
                 "load": sweep(meas[3], "l", f), "delay short 85um": sweep(meas[2], "d", f)}
     cal = calibrate(measured, std)
