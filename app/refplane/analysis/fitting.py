@@ -31,10 +31,13 @@ AICc the one with fewest parameters wins (the simplest adequate model). Residual
 1e-8 RMS, far under any instrument's noise, count as equal, so noise-free data does not rank
 on rounding. The winner is then named by :func:`refplane.analysis.circuits.reading_for`
 (a series R-L-C that behaves as a capacitor is reported as ``capacitor``, and so on).
+On sweeps longer than :data:`SCREEN_POINTS` the candidates are compared on that many points
+spread evenly over the band, and the chosen circuit is then fitted to every point.
 """
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import dataclass, field
 from typing import Mapping
@@ -49,6 +52,9 @@ from refplane.analysis.units import format_frequency, format_si
 
 #: RMS residual below which fits count as exact (see the module notes).
 RESIDUAL_FLOOR = 1e-8
+
+#: Longest sweep on which the candidate circuits are compared point for point (see _fit).
+SCREEN_POINTS = 1000
 
 #: AICc margin within which a simpler circuit is preferred.
 SIMPLER_WITHIN = 2.0
@@ -112,6 +118,10 @@ class FitResult:
         The reflection port, or the driving port of a through.
     automatic : bool
         True when the model was chosen automatically.
+    ranked_points : int
+        Number of points the ranking was computed on: every point, or for sweeps longer than
+        :data:`SCREEN_POINTS` that many spread evenly over the band (the reported fit itself
+        always uses every point in the band).
     """
 
     model_id: str
@@ -127,6 +137,7 @@ class FitResult:
     measurement: str = "reflection"
     port: int = 1
     automatic: bool = False
+    ranked_points: int = 0
     criterion: str = field(default="AICc")
 
     @property
@@ -210,6 +221,7 @@ class FitResult:
             "derived": dict(self.derived),
             "band_hz": list(self.band_hz),
             "n_points": self.n_points,
+            "ranked_points": self.ranked_points,
             "measurement": self.measurement,
             "port": self.port,
             "z0_ohm": self.z0_ohm,
@@ -345,7 +357,13 @@ def _starts(model: CircuitModel, data: _Data) -> list[np.ndarray]:
     return starts
 
 
-def _fit_model(model: CircuitModel, data: _Data) -> _Trial:
+def _thin(data: _Data, count: int) -> _Data:
+    """Every so-many point of the data, ``count`` points spread evenly across the band."""
+    idx = np.unique(np.round(np.linspace(0, data.freq_hz.size - 1, count)).astype(int))
+    return dataclasses.replace(data, freq_hz=data.freq_hz[idx], target=data.target[idx], z_ohm=data.z_ohm[idx])
+
+
+def _fit_model(model: CircuitModel, data: _Data, start: np.ndarray | None = None) -> _Trial:
     from scipy.optimize import least_squares
 
     def solve(x0: np.ndarray, budget: int):
@@ -355,13 +373,13 @@ def _fit_model(model: CircuitModel, data: _Data) -> _Trial:
         return sol.x, float(np.sum(sol.fun**2))
 
     exact = data.freq_hz.size * RESIDUAL_FLOOR**2
-    starts = _starts(model, data)
+    starts = _starts(model, data) if start is None else [start]
     k = starts[0].size
     # The closed-form start gets the full budget; the others are screened briefly and only
     # the best of them, if it beats the first, is refined. A model that does not describe
     # the data wanders along a valley and would otherwise use every evaluation it is given.
     best = solve(starts[0], 100 * (k + 1))
-    if best[1] > exact:
+    if best[1] > exact and len(starts) > 1:
         screened = min((solve(x0, 10 * (k + 1)) for x0 in starts[1:]), key=lambda t: t[1])
         if screened[1] < best[1]:
             refined = solve(screened[0], 100 * (k + 1))
@@ -415,7 +433,7 @@ def _derived(trial: _Trial, cov: np.ndarray, centre_hz: float) -> dict[str, floa
 
 
 def _result(trial: _Trial, data: _Data, ranking: tuple[RankEntry, ...], *, report_as: CircuitModel,
-            automatic: bool) -> FitResult:
+            automatic: bool, ranked_points: int) -> FitResult:
     cov = _covariance(trial)
     params = trial.params
     sig = np.sqrt(np.clip(np.diag(cov), 0, np.inf))
@@ -430,7 +448,7 @@ def _result(trial: _Trial, data: _Data, ranking: tuple[RankEntry, ...], *, repor
         residual_rms=trial.residual_rms, residual_rel=trial.residual_rel,
         band_hz=(float(data.freq_hz[0]), float(data.freq_hz[-1])), n_points=int(data.freq_hz.size),
         ranking=ranking, derived=derived, z0_ohm=data.z0_ohm, measurement=data.measurement,
-        port=data.port, automatic=automatic)
+        port=data.port, automatic=automatic, ranked_points=ranked_points)
 
 
 def _select_band(freq_hz: np.ndarray, band_hz: tuple[float, float] | None) -> np.ndarray:
@@ -464,7 +482,11 @@ def _fit(data: _Data, model: str) -> FitResult:
                 f"too few points for model {chosen.id}: it has {chosen.n_params} parameters and needs "
                 f"at least {chosen.n_params + 1} swept points in the band; found {n}")
         candidates = [MODELS[chosen.circuit]]
-    trials = [_fit_model(m, data) for m in candidates]
+    # Long sweeps: candidates are compared on SCREEN_POINTS points spread evenly over the
+    # band (a thousand points pin a two-terminal circuit down well), and the chosen one is
+    # then refitted to every point, starting from where the comparison left it.
+    screen = _thin(data, SCREEN_POINTS) if n > SCREEN_POINTS else data
+    trials = [_fit_model(m, screen) for m in candidates]
     best_aicc = min(t.aicc for t in trials)
     order = sorted(trials, key=lambda t: t.aicc)
     centre = math.sqrt(data.freq_hz[0] * data.freq_hz[-1])
@@ -478,8 +500,13 @@ def _fit(data: _Data, model: str) -> FitResult:
     if model == "auto":
         adequate = [t for t in order if t.aicc - best_aicc <= SIMPLER_WITHIN]
         winner = min(adequate, key=lambda t: (t.model.n_params, t.aicc))
-        return _result(winner, data, ranking, report_as=MODELS[name(winner)], automatic=True)
-    return _result(trials[0], data, ranking, report_as=get_model(model), automatic=False)
+        report_as, automatic = MODELS[name(winner)], True
+    else:
+        winner, report_as, automatic = trials[0], get_model(model), False
+    if screen is not data:
+        winner = _fit_model(winner.model, data, start=winner.log_p)
+    return _result(winner, data, ranking, report_as=report_as, automatic=automatic,
+                   ranked_points=int(screen.freq_hz.size))
 
 
 def _check_model_id(model: str) -> str:
