@@ -180,11 +180,11 @@ def test_least_squares_with_five_standards_matches_scikit_rf():
 # --------------------------------------------------------------------------- non-ideal standards
 
 REAL_KIT = StandardSet(
-    # Invented but realistic values of the kind calibration-standard definitions list.
-    short=Standard("short", offset_delay_s=31.8e-12, offset_loss_ohm_per_s=2.36e9, l0_h=2.08e-12,
+    # Invented round values, of the size calibration-standard definitions list for coaxial kits.
+    short=Standard("short", offset_delay_s=30e-12, offset_loss_ohm_per_s=2.0e9, l0_h=2e-12,
                    l1_h_per_hz=-1.4e-22, l2_h_per_hz2=2.0e-33, l3_h_per_hz3=-1.0e-44),
-    open=Standard("open", offset_delay_s=29.2e-12, offset_loss_ohm_per_s=2.2e9, c0_f=49.4e-15,
-                  c1_f_per_hz=-310e-27, c2_f_per_hz2=23e-36, c3_f_per_hz3=-0.16e-45),
+    open=Standard("open", offset_delay_s=28e-12, offset_loss_ohm_per_s=2.2e9, c0_f=50e-15,
+                  c1_f_per_hz=-300e-27, c2_f_per_hz2=20e-36, c3_f_per_hz3=-0.2e-45),
     load=Standard("load", r_ohm=50.0, series_l_h=5e-12),
 )
 

@@ -32,8 +32,8 @@ The standards file
 A small JSON file of Refplane's own design, every number with its unit in the key::
 
     {"format": "refplane-standards", "version": 1, "reference_z0_ohm": 50.0,
-     "short": {"l0_h": 0, "offset_delay_s": 31.8e-12, "offset_loss_gohm_per_s": 2.36},
-     "open":  {"c0_f": 49.4e-15, "c1_f_per_hz": -310e-27, "offset_delay_s": 29.2e-12},
+     "short": {"l0_h": 0, "offset_delay_s": 30e-12, "offset_loss_gohm_per_s": 2.0},
+     "open":  {"c0_f": 50e-15, "c1_f_per_hz": -300e-27, "offset_delay_s": 28e-12},
      "load":  {"r_ohm": 50.0},
      "through": {"offset_delay_s": 0},
      "additional": {"offset short": {"kind": "short", "offset_delay_s": 60e-12}},
