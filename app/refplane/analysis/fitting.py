@@ -177,8 +177,15 @@ class FitResult:
                      comments=(f"model fitted by Refplane: {self.sentence()}",))
 
     def value_text(self, key: str) -> str:
-        """One parameter as "9.10 nH ± 0.20 nH" (digits to match its error)."""
-        return format_with_error(self.params[key], self.stderr.get(key, math.nan), unit_of(key))
+        """One parameter as "9.10 nH ± 0.20 nH" (digits to match its error).
+
+        A parameter the data does not determine reads "≈ 0 fF (not determined by the data)"
+        when the fit drove it to the bottom of its range (the element is not seen at all).
+        """
+        value, err, unit = self.params[key], self.stderr.get(key, math.nan), unit_of(key)
+        if math.isinf(err):
+            return f"{_bare_value(value, unit)} (not determined by the data)"
+        return format_with_error(value, err, unit)
 
     def sentence(self) -> str:
         """The fit in one plain sentence.
@@ -189,7 +196,8 @@ class FitResult:
         """
         text = self.model.phrase.format(**{k: self.value_text(k) for k in self.model.param_names})
         srf = self.derived.get("srf_hz", math.nan)
-        if math.isfinite(srf):
+        # A resonance the data does not pin down (an element not seen) is left unsaid.
+        if math.isfinite(srf) and not math.isinf(self.derived.get("srf_hz_stderr", math.nan)):
             text += f"; self-resonant at {format_with_error(srf, self.derived.get('srf_hz_stderr', math.nan), 'Hz')}"
             if not self.band_hz[0] <= srf <= self.band_hz[1]:
                 text += " (outside the fitted band: an extrapolation)"
@@ -203,6 +211,9 @@ class FitResult:
         """
         rows = []
         for key in self.model.param_names:
+            if math.isinf(self.stderr.get(key, math.nan)):
+                rows.append((key, _bare_value(self.params[key], unit_of(key)), "not determined"))
+                continue
             value, _, err = self.value_text(key).partition(" ± ")
             rows.append((key, value, f"± {err}" if err else "± —"))
         return rows
@@ -229,6 +240,16 @@ class FitResult:
         }
 
 
+def _bare_value(value: float, unit: str) -> str:
+    # At the edge of the fitting range the value only says "none seen" or "no limit seen".
+    lo, hi = _RANGE[unit]
+    if value <= lo * 1.001:
+        return f"≈ 0 {unit}"
+    if value >= hi / 1.001:
+        return f"∞ {unit}"
+    return format_si(value, unit, 4)
+
+
 def format_percent(fraction: float) -> str:
     """A fraction as a percentage with two significant figures at most: 0.0042 → "0.42 %"."""
     if not math.isfinite(fraction):
@@ -251,6 +272,8 @@ def format_with_error(value: float, err: float, unit: str) -> str:
     >>> format_with_error(9.1034e-9, 2.1e-10, "H")
     '9.10 nH ± 0.21 nH'
     """
+    if math.isinf(err):
+        return f"{format_si(value, unit, 4)} (not determined by the data)"
     if not math.isfinite(err) or not math.isfinite(value) or value == 0:
         return format_si(value, unit, 4)
     if err < 1e-6 * abs(value):  # an exact fit of clean data: the error rounds to nothing
@@ -395,19 +418,29 @@ def _fit_model(model: CircuitModel, data: _Data, start: np.ndarray | None = None
 
 
 def _covariance(trial: _Trial) -> np.ndarray:
-    """Covariance of the log-parameters, s²·(JᵀJ)⁻¹; ∞ on the diagonal when not determined."""
+    """Covariance of the log-parameters, s²·(JᵀJ)⁻¹.
+
+    A parameter the data does not determine (its Jacobian column is nil, e.g. a shunt C
+    driven to its lower limit on data without one, or the whole problem is singular) gets
+    an infinite variance and no covariance with the others; the rest are computed without it.
+    """
     k = trial.model.n_params
     dof = trial.n_real - k
     s2 = trial.ssr / dof
     jtj = trial.jac.T @ trial.jac
+    cov = np.zeros((k, k))
+    d = np.sqrt(np.abs(np.diag(jtj)))
+    if not np.all(np.isfinite(d)) or not np.any(d > 0):
+        return np.diag(np.full(k, np.inf))
+    free = d > 1e-9 * d.max()
+    sub = np.ix_(free, free)
     # Equilibrate before inverting: columns can differ by many decades.
-    d = np.sqrt(np.diag(jtj))
-    if np.any(~np.isfinite(d)) or np.any(d == 0):
-        return np.full((k, k), np.inf)
-    scaled = jtj / np.outer(d, d)
+    scaled = jtj[sub] / np.outer(d[free], d[free])
     if np.linalg.cond(scaled) > 1e14:
-        return np.full((k, k), np.inf)
-    return s2 * np.linalg.inv(scaled) / np.outer(d, d)
+        return np.diag(np.full(k, np.inf))
+    cov[sub] = s2 * np.linalg.inv(scaled) / np.outer(d[free], d[free])
+    cov[~free, ~free] = np.inf
+    return cov
 
 
 def _derived(trial: _Trial, cov: np.ndarray, centre_hz: float) -> dict[str, float]:
@@ -422,8 +455,12 @@ def _derived(trial: _Trial, cov: np.ndarray, centre_hz: float) -> dict[str, floa
         if math.isfinite(value):
             grad = np.array([(srf(trial.log_p + h) - srf(trial.log_p - h)) / 2e-6
                              for h in np.eye(trial.log_p.size) * 1e-6])
-            var = float(grad @ cov @ grad) if np.all(np.isfinite(cov)) else math.inf
-            err = math.sqrt(var) if var >= 0 else math.nan
+            undetermined = ~np.isfinite(np.diag(cov))
+            if np.any(undetermined & (grad != 0)):
+                err = math.inf
+            else:
+                var = float(grad[~undetermined] @ cov[np.ix_(~undetermined, ~undetermined)] @ grad[~undetermined])
+                err = math.sqrt(var) if var >= 0 else math.nan
         out["srf_hz"] = float(value)
         out["srf_hz_stderr"] = err
     z = complex(model._z(np.array([2 * np.pi * centre_hz]), *np.exp(trial.log_p))[0])
