@@ -145,3 +145,14 @@ def test_malformed_csv(tmp_path, name, content, line, fragment):
     assert info.value.line == line, str(info.value)
     assert fragment in info.value.reason, str(info.value)
     assert info.value.file == str(path)
+
+
+def test_z_data_without_s_parameters_is_a_file_error(tmp_path):
+    # Z = −R (normalised z = −1) has no scattering matrix: (z + 1) is singular
+    # (Pozar ch. 4, from memory: S = (z − 1)(z + 1)⁻¹).
+    path = tmp_path / "z.s1p"
+    path.write_text("# MHz Z RI R 50\n100 0.5 0.1\n200 -1 0\n")
+    with pytest.raises(SweepFileError) as info:
+        touchstone.read(path)
+    assert info.value.file == str(path)
+    assert "frequency point 2" in info.value.reason and "singular" in info.value.reason

@@ -46,7 +46,7 @@ from typing import Iterable, Iterator, Sequence
 
 import numpy as np
 
-from refplane.analysis.errors import SweepFileError
+from refplane.analysis.errors import AnalysisError, SweepFileError
 from refplane.analysis.sweep import Sweep
 
 _FREQ_UNITS = {"hz": 1.0, "khz": 1e3, "mhz": 1e6, "ghz": 1e9}
@@ -396,8 +396,13 @@ def read(path: str | os.PathLike) -> Sweep:
     if result is None:
         result = _careful(name, ext_ports)
     head, freq_hz, s = result
-    return Sweep(freq_hz=freq_hz, s=s, z0_ohm=head.z0(), name=Path(name).stem, source=name,
-                 comments=tuple(head.comments))
+    try:
+        return Sweep(freq_hz=freq_hz, s=s, z0_ohm=head.z0(), name=Path(name).stem, source=name,
+                     comments=tuple(head.comments))
+    except SweepFileError:
+        raise
+    except AnalysisError as exc:  # e.g. Z data of a network that has no S-parameters
+        raise SweepFileError(exc.reason, file=name) from None
 
 
 class _Irregular(Exception):
@@ -591,7 +596,7 @@ class _Group:
     nd: int
     ne: int
     cols: np.ndarray
-    ecols: np.ndarray
+    ecols_by_digit: list
     nfrac: np.ndarray
     sign_pos: np.ndarray
     sign_cols: np.ndarray
@@ -648,7 +653,8 @@ def _layout(template: bytes) -> _Layout | None:
                 groups.append(_Group(
                     ks=ks, nd=nd, ne=ne,
                     cols=np.array([c for k in ks for c in tokens[k][1]], dtype=np.intp),
-                    ecols=np.array([c for k in ks for c in tokens[k][4]], dtype=np.intp),
+                    ecols_by_digit=[np.array([tokens[k][4][j] for k in ks], dtype=np.intp)
+                                    for j in range(ne)],
                     nfrac=np.array([tokens[k][2] for k in ks], dtype=np.int64),
                     sign_pos=np.array([g for g, _ in msign], dtype=np.intp),
                     sign_cols=np.array([c for _, c in msign], dtype=np.intp),
@@ -715,21 +721,23 @@ def _fixed_width(body: bytes) -> np.ndarray | None:
         for j in range(1, grp.nd):
             m *= np.uint64(10)
             m += digits[:, :, j]
-        e = np.broadcast_to(-grp.nfrac, (n_lines, width_g))
         if grp.ne:
-            edig = rows[:, grp.ecols] - np.uint8(48)
-            if not (edig < 10).all():
-                return None
-            edig = edig.reshape(n_lines, width_g, grp.ne)
-            x = edig[:, :, 0].astype(np.int64)
-            for j in range(1, grp.ne):
-                x *= 10
-                x += edig[:, :, j]
-            if grp.esign_pos.size:
-                neg = rows[:, grp.esign_cols] == 45
-                sub = x[:, grp.esign_pos]
-                x[:, grp.esign_pos] = np.where(neg, -sub, sub)
-            e = x - grp.nfrac
+            e = np.zeros((n_lines, width_g), dtype=np.int16)
+            for cols_j in grp.ecols_by_digit:
+                d = rows[:, cols_j] - np.uint8(48)
+                if not (d < 10).all():
+                    return None
+                e *= 10
+                e += d
+            if grp.esign_pos.size == width_g:
+                # '+' is 43 and '-' is 45: 44 − byte is the sign itself.
+                e *= np.int16(44) - rows[:, grp.esign_cols]
+            elif grp.esign_pos.size:
+                sub = e[:, grp.esign_pos]
+                e[:, grp.esign_pos] = np.where(rows[:, grp.esign_cols] == 45, -sub, sub)
+            e = e.astype(np.int64) - grp.nfrac
+        else:
+            e = np.broadcast_to(-grp.nfrac, (n_lines, width_g))
         big = np.abs(e) > 27
         if big.any():
             e = np.where(big, 0, e)
@@ -747,7 +755,9 @@ def _fixed_width(body: bytes) -> np.ndarray | None:
         redo = (low & np.uint64(0x7FF)) == np.uint64(0x400)
         redo |= big
         result = value.astype(np.float64)
-        if grp.sign_pos.size:
+        if grp.sign_pos.size == width_g:
+            result *= np.int16(44) - rows[:, grp.sign_cols]
+        elif grp.sign_pos.size:
             neg = rows[:, grp.sign_cols] == 45
             sub = result[:, grp.sign_pos]
             result[:, grp.sign_pos] = np.where(neg, -sub, sub)
@@ -1027,7 +1037,8 @@ def _to_s(head: _Header, values: np.ndarray) -> np.ndarray:
         for k, (i, j) in enumerate(order):
             columns[2 * (i * n + j)] = 1 + 2 * k
             columns[2 * (i * n + j) + 1] = 2 + 2 * k
-        np.take(values, columns, axis=1, out=m.reshape(-1, n * n).view(np.float64))
+        # mode="clip": the indices are valid, and "raise" would buffer the whole output.
+        np.take(values, columns, axis=1, out=m.reshape(-1, n * n).view(np.float64), mode="clip")
         order = []
     for k, (i, j) in enumerate(order):
         a = values[:, 1 + 2 * k]
@@ -1044,7 +1055,10 @@ def _to_s(head: _Header, values: np.ndarray) -> np.ndarray:
             m[:, j, i] = m[:, i, j]
     if head.param == "s":
         return m
-    return _network_to_s(m, head.param, head.z0().real, normalised=head.version == 1)
+    try:
+        return _network_to_s(m, head.param, head.z0().real, normalised=head.version == 1)
+    except SweepFileError as exc:
+        raise SweepFileError(exc.reason, file=head.file) from None
 
 
 #: For each kind: is each port's independent quantity a current (True) or a voltage?
@@ -1080,8 +1094,9 @@ def _network_to_s(m: np.ndarray, kind: str, z0_ohm: np.ndarray, *, normalised: b
         try:
             s = np.linalg.solve(lhs, rhs)
         except np.linalg.LinAlgError:
-            raise SweepFileError("the network data cannot be converted to S-parameters "
-                                 "(a singular matrix)") from None
+            k = int(np.argmax(~np.isfinite(1.0 / np.linalg.det(lhs))))
+            raise SweepFileError(f"the network data of frequency point {k + 1} cannot be "
+                                 "converted to S-parameters (a singular matrix)") from None
     return np.ascontiguousarray(s)
 
 
