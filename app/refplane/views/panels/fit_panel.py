@@ -20,6 +20,7 @@ from PySide6.QtWidgets import (QAbstractItemView, QComboBox, QFormLayout, QHBoxL
                                QVBoxLayout, QWidget)
 
 from refplane.analysis.errors import AnalysisError
+from refplane.analysis.sweep import Sweep
 from refplane.views.state import ViewState
 
 #: Name of the dashed overlay the panel puts on the fitted trace.
@@ -41,8 +42,8 @@ class FitRequest:
     """Sequence number; results of superseded requests are dropped."""
     trace_id: int
     """The trace fitted."""
-    sweep: object
-    """The trace's displayed (corrected) Sweep."""
+    sweep: Sweep
+    """The trace's displayed (corrected) sweep."""
     model: str
     """Model id or "auto"."""
     band_hz: tuple[float, float] | None
