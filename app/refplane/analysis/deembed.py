@@ -46,7 +46,8 @@ def _finite(value, what: str) -> float:
     return number
 
 
-def _check_velocity_factor(velocity_factor) -> float:
+def check_velocity_factor(velocity_factor) -> float:
+    """A velocity factor as a float, or :class:`AnalysisError` unless it lies in (0, 1]."""
     vf = _finite(velocity_factor, "velocity factor")
     if not 0.0 < vf <= 1.0:
         raise AnalysisError(f"a velocity factor must lie above 0 and at most 1, not {vf:g}")
@@ -112,12 +113,12 @@ class LineOffset:
         keyword arguments (losses, ``line_z0_ohm``) pass through to the constructor.
         """
         length = _finite(length_m, "length")
-        vf = _check_velocity_factor(velocity_factor)
+        vf = check_velocity_factor(velocity_factor)
         return cls(delay_s=length / (vf * SPEED_OF_LIGHT_M_S), **kw)
 
     def length_m(self, velocity_factor: float) -> float:
         """The physical length in metres this delay stands for at ``velocity_factor``."""
-        return self.delay_s * _check_velocity_factor(velocity_factor) * SPEED_OF_LIGHT_M_S
+        return self.delay_s * check_velocity_factor(velocity_factor) * SPEED_OF_LIGHT_M_S
 
     @property
     def is_zero(self) -> bool:

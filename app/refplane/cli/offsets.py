@@ -23,13 +23,9 @@ from refplane.cli.common import arg_type
 
 
 def _parse_vf(text: str) -> float:
-    try:
-        value = float(text)
-    except ValueError:
-        raise AnalysisError(f"{text!r} is not a velocity factor (a number such as 0.66)") from None
-    if not 0.0 < value <= 1.0:
-        raise AnalysisError(f"a velocity factor must lie above 0 and at most 1, not {text}")
-    return value
+    from refplane.analysis.deembed import check_velocity_factor
+
+    return check_velocity_factor(text)
 
 
 def _parse_line_z0(text: str) -> float:

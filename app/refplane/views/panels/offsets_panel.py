@@ -22,7 +22,7 @@ from PySide6.QtCore import QEvent, QObject, QRunnable, Qt, QThreadPool, Signal
 from PySide6.QtWidgets import (QComboBox, QFileDialog, QFormLayout, QHBoxLayout, QLabel, QLineEdit,
                                QMessageBox, QPushButton, QSlider, QVBoxLayout, QWidget)
 
-from refplane.analysis.deembed import LineOffset, describe_offsets, with_port_offset
+from refplane.analysis.deembed import LineOffset, check_velocity_factor, describe_offsets, with_port_offset
 from refplane.analysis.errors import AnalysisError
 from refplane.analysis.units import (format_frequency, format_si, parse_length, parse_loss,
                                      parse_resistance, parse_time)
@@ -329,13 +329,12 @@ class OffsetsPanel(QWidget):
             self._refresh_fields()
             return
         try:
-            # Checked by the offset's own rule (above 0, at most 1).
-            LineOffset.from_length(0.0, text)
+            vf = check_velocity_factor(text)
         except AnalysisError as exc:
             self._say(f"velocity factor: {exc}", error=True)
             self._refresh_fields()
             return
-        self._vf[key] = float(text)
+        self._vf[key] = vf
         self._say("")
         self._refresh_fields()   # the length follows; the delay stays as it is
 
