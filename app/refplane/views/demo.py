@@ -10,7 +10,9 @@ from __future__ import annotations
 from pathlib import Path
 
 #: The file the window opens when started without files.
-DEMO_SWEEP = "workshop_resistor_75ohm.s1p"
+DEMO_SWEEP = "leaded_resistor_75ohm.s1p"
+#: Markers placed on the demo sweep when it opens (Hz): UHF TV, where its leads show.
+DEMO_MARKERS_HZ = (470e6,)
 
 
 def demo_folders() -> list[Path]:

@@ -118,6 +118,9 @@ def run_window(files: list[str]) -> int:
     if problem:
         print(problem, file=sys.stderr)
         return 2
+    from refplane.views.qt_compat import guard_singletons
+
+    guard_singletons()
     from PySide6.QtWidgets import QApplication
 
     from refplane.views import demo
@@ -139,7 +142,7 @@ def run_window(files: list[str]) -> int:
     else:
         path = demo.demo_path()
         if path is not None:
-            window.open_files([str(path)])
+            window.open_files([str(path)], markers_hz=demo.DEMO_MARKERS_HZ)
         else:
             window.statusBar().showMessage("Open a sweep with File ▸ Open, or drop files on the window.")
     return int(app.exec())

@@ -48,6 +48,9 @@ class MainWindow(QMainWindow):
     """Chart in the middle, frequency plots beside it, traces and markers in docks."""
 
     def __init__(self, state: ViewState | None = None, *, theme: str | None = None):
+        from refplane.views.qt_compat import guard_singletons
+
+        guard_singletons()  # see qt_compat: a PySide6 6.12 fault on Python < 3.12
         super().__init__()
         self.state = state if state is not None else ViewState(self)
         self.setWindowTitle("Refplane")
@@ -86,6 +89,7 @@ class MainWindow(QMainWindow):
         self.watcher = QFileSystemWatcher(self)
         self.watcher.fileChanged.connect(self._on_file_changed)
         self._reload_timer: dict[str, QTimer] = {}
+        self._pending_markers: dict[str, tuple[float, ...]] = {}
         self._build_status_bar()
         self.state.tracesChanged.connect(self._update_title)
         self.state.tracesChanged.connect(self._watch_files)
@@ -194,10 +198,16 @@ class MainWindow(QMainWindow):
         status.addPermanentWidget(self.cancel_button)
 
     # ================================================================= files
-    def open_files(self, paths: list[str]) -> None:
-        """Read files in the background; each becomes a trace (errors open a dialog)."""
+    def open_files(self, paths: list[str], *, markers_hz: tuple[float, ...] = ()) -> None:
+        """Read files in the background; each becomes a trace (errors open a dialog).
+
+        ``markers_hz`` places markers on each new trace once it has loaded (used for the demo).
+        """
         for path in paths:
-            self.loader.load(os.fspath(path))
+            path = os.fspath(path)
+            if markers_hz:
+                self._pending_markers[path] = tuple(markers_hz)
+            self.loader.load(path)
 
     def ask_open(self) -> None:
         from refplane.analysis.loading import SWEEP_PATTERNS
@@ -244,7 +254,10 @@ class MainWindow(QMainWindow):
             self.statusBar().showMessage(f"Reloaded {os.path.basename(request.path)}", 4000)
             self._watch_files()
             return
-        self.state.add_sweep(sweep)
+        tid = self.state.add_sweep(sweep)
+        for f in self._pending_markers.pop(request.path, ()):
+            if sweep.freq_hz[0] <= f <= sweep.freq_hz[-1]:
+                self.state.add_marker(tid, f)
         self._remember(request.path)
         self.statusBar().showMessage(
             f"Opened {os.path.basename(request.path)}: {sweep.n_points} points, {sweep.n_ports} port(s)", 5000)
