@@ -182,20 +182,22 @@ def _fit_loss(freq_hz: np.ndarray, mag: np.ndarray, loss_ref_hz: float) -> float
     return max(float(fit.x[0]), 0.0)
 
 
-def _fit(freq_hz: np.ndarray, gamma: np.ndarray, ideal: float, loss_ref_hz: float):
+def _fit(freq_hz: np.ndarray, gamma: np.ndarray, ideal: float, loss_ref_hz: float, coarse=None):
     r = gamma / ideal
     mag = np.abs(r)
     ok = mag > 0
     if np.count_nonzero(ok) < 3:
         raise AnalysisError("the reflection is zero at nearly every point; this is not an open or a short")
     u = np.where(ok, r / np.where(ok, mag, 1.0), 0.0)
-    tau0, step = _coarse_delay(freq_hz, u)
+    # |Σ u·e^(j4πfτ)| does not change when u changes sign, so the coarse delay found for one
+    # standard serves for the other.
+    tau0, step = coarse if coarse is not None else _coarse_delay(freq_hz, u)
     tau = _fine_delay(freq_hz, u, tau0, step)
     loss_db = _fit_loss(freq_hz, mag, loss_ref_hz)
     offset = LineOffset(delay_s=tau, loss_db=loss_db, loss_ref_hz=loss_ref_hz)
     corrected = gamma * np.exp(2.0 * offset.gamma_l(freq_hz))
     error = np.abs(corrected - ideal)
-    return tau, loss_db, float(np.sqrt(np.mean(error ** 2))), float(np.median(error))
+    return tau, loss_db, float(np.sqrt(np.mean(error ** 2))), float(np.median(error)), (tau0, step)
 
 
 def estimate_plane(sweep: Sweep, *, standard: str = "open", port: int = 1,
@@ -264,9 +266,9 @@ def estimate_plane(sweep: Sweep, *, standard: str = "open", port: int = 1,
         freq, gamma = freq[inside], gamma[inside]
     if freq.size < 3:
         raise AnalysisError(f"a plane estimate needs at least 3 swept points in the band; found {freq.size}")
-    tau, loss_db, residual, typical = _fit(freq, gamma, _IDEAL[key], ref)
+    tau, loss_db, residual, typical, coarse = _fit(freq, gamma, _IDEAL[key], ref)
     other = "short" if key == "open" else "open"
-    _, _, other_residual, _ = _fit(freq, gamma, _IDEAL[other], ref)
+    _, _, other_residual, _, _ = _fit(freq, gamma, _IDEAL[other], ref, coarse)
     length = tau * vf * SPEED_OF_LIGHT_M_S if vf is not None else None
     return PlaneEstimate(delay_s=tau, loss_db=loss_db, loss_ref_hz=ref, length_m=length,
                          residual=residual, n_points=int(freq.size), standard=key,
