@@ -14,8 +14,13 @@ Matched lines (``line_z0_ohm`` None, or equal to the port's reference) only rota
 attenuate the waves, so each S_ij is multiplied by e^(−γ_i l_i)·e^(−γ_j l_j) when a line is
 added and by the inverse when it is removed. A line of another impedance is a full two-port
 (ABCD → S at the port's reference) cascaded in front of the port; removing it uses the exact
-inverse of that cascade. Both paths are vectorised over frequency (no Python loops over
-points); adding and then removing the same offsets returns the input to rounding.
+inverse of that cascade; a 1-port takes a shortcut (Γ referred to the line's own impedance,
+where the line is matched) and a 2-port has the 2 × 2 algebra written out. Every path is
+vectorised over frequency and worked in blocks of a few thousand points (no Python loop
+over points); adding and then removing the same offsets returns the input to rounding.
+
+A line of another impedance uses the same Γ = (Z − Z_ref)/(Z + Z_ref) definition as the rest
+of Refplane, also for complex port references.
 """
 
 from __future__ import annotations
