@@ -713,8 +713,9 @@ def _fixed_width(body: bytes) -> np.ndarray | None:
     out = np.empty((n_lines, len(layout.tokens)), dtype=np.float64)
     for grp in layout.groups:
         width_g = len(grp.ks)
-        digits = rows[:, grp.cols] - np.uint8(48)
-        if not (digits < 10).all():
+        digits = rows[:, grp.cols]
+        digits -= np.uint8(48)
+        if digits.max() >= 10:  # a byte below '0' wraps round to a large value
             return None
         digits = digits.reshape(n_lines, width_g, grp.nd)
         m = digits[:, :, 0].astype(np.uint64)
@@ -724,8 +725,9 @@ def _fixed_width(body: bytes) -> np.ndarray | None:
         if grp.ne:
             e = np.zeros((n_lines, width_g), dtype=np.int16)
             for cols_j in grp.ecols_by_digit:
-                d = rows[:, cols_j] - np.uint8(48)
-                if not (d < 10).all():
+                d = rows[:, cols_j]
+                d -= np.uint8(48)
+                if d.max() >= 10:
                     return None
                 e *= 10
                 e += d
@@ -733,34 +735,35 @@ def _fixed_width(body: bytes) -> np.ndarray | None:
                 # '+' is 43 and '-' is 45: 44 − byte is the sign itself.
                 e *= np.int16(44) - rows[:, grp.esign_cols]
             elif grp.esign_pos.size:
-                sub = e[:, grp.esign_pos]
-                e[:, grp.esign_pos] = np.where(rows[:, grp.esign_cols] == 45, -sub, sub)
-            e = e.astype(np.int64) - grp.nfrac
+                e[:, grp.esign_pos] *= np.int16(44) - rows[:, grp.esign_cols]
+            e = e - grp.nfrac
         else:
             e = np.broadcast_to(-grp.nfrac, (n_lines, width_g))
-        big = np.abs(e) > 27
-        if big.any():
+        low_e, high_e = int(e.min()), int(e.max())
+        big = None
+        if low_e < -27 or high_e > 27:
+            big = np.abs(e) > 27
             e = np.where(big, 0, e)
+            low_e, high_e = int(e.min()), int(e.max())
         ld = m.astype(np.longdouble)
-        if (e <= 0).all():
+        if high_e <= 0:
             value = ld / p10[-e]
-        elif (e >= 0).all():
+        elif low_e >= 0:
             value = ld * p10[e]
         else:
             up = e >= 0
             value = np.where(up, ld * p10[np.where(up, e, 0)], ld / p10[np.where(up, 0, -e)])
-        low = np.ascontiguousarray(value).reshape(-1).view(np.uint64)[::2].reshape(n_lines, width_g)
+        low = value.reshape(-1).view(np.uint64)[::2].reshape(n_lines, width_g)
         # Rounding first to 64 bits and then to 53 can err only when the 64-bit result sits
         # exactly half-way between two doubles; those (about 1 in 2048) are redone exactly.
         redo = (low & np.uint64(0x7FF)) == np.uint64(0x400)
-        redo |= big
+        if big is not None:
+            redo |= big
         result = value.astype(np.float64)
         if grp.sign_pos.size == width_g:
             result *= np.int16(44) - rows[:, grp.sign_cols]
         elif grp.sign_pos.size:
-            neg = rows[:, grp.sign_cols] == 45
-            sub = result[:, grp.sign_pos]
-            result[:, grp.sign_pos] = np.where(neg, -sub, sub)
+            result[:, grp.sign_pos] *= np.int16(44) - rows[:, grp.sign_cols]
         if redo.any():
             where = np.argwhere(redo)
             if len(where) > _MAX_FIXUPS:
