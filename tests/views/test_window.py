@@ -285,6 +285,7 @@ def test_companion_plot_values_equal_analysis(qtbot, window, files):
 
     _open(qtbot, window, [files["r75"]])
     sweep = read_sweep(files["r75"])
+    window.plots.upper.flush()  # plots redraw on the next turn of the event loop
     (curve,) = window.plots.upper.curve_items()
     np.testing.assert_allclose(curve.getData()[1], return_loss_db(sweep.reflection(1)))
 

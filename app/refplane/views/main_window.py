@@ -343,6 +343,8 @@ class MainWindow(QMainWindow):
             widget = self.chart
         elif what == "plots":
             widget = self.plots
+            for plot in self.plots.plots():
+                plot.flush()
         else:
             raise ValueError(what)
         if size is None:

@@ -13,10 +13,10 @@ import math
 
 import numpy as np
 import pyqtgraph as pg
-from PySide6.QtCore import Qt, Signal
+from PySide6.QtCore import Qt, QTimer, Signal
 from PySide6.QtGui import QColor
-from PySide6.QtWidgets import (QCheckBox, QComboBox, QHBoxLayout, QLabel, QPushButton,
-                               QVBoxLayout, QWidget)
+from PySide6.QtWidgets import (QCheckBox, QComboBox, QGraphicsItem, QHBoxLayout, QLabel,
+                               QPushButton, QVBoxLayout, QWidget)
 
 from refplane.views import plot_series
 from refplane.views.state import ViewState
@@ -71,6 +71,10 @@ class FrequencyPlot(QWidget):
         self.plot.showGrid(x=True, y=True, alpha=0.25)
         self.plot.setLabel("bottom", "Frequency", units="Hz")
         self.plot.getAxis("left").setWidth(56)
+        for name in ("left", "bottom"):
+            # The axes also draw the grid across the plot, so every marker-line move would
+            # repaint them; keep their pixels until the range or size changes.
+            self.plot.getAxis(name).setCacheMode(QGraphicsItem.DeviceCoordinateCache)
         self.note = QLabel("")
         self.note.setObjectName("hint")
         top = QHBoxLayout()
@@ -93,17 +97,23 @@ class FrequencyPlot(QWidget):
         self.plot.addItem(self.region)
         self._set_region_theme()
 
+        # State changes redraw on the next turn of the event loop, once however many signals
+        # arrived: a new 100 000-point trace then costs the UI thread several short steps
+        # (chart, each plot, painting) instead of one long one.
+        self._redraw_timer = QTimer(self)
+        self._redraw_timer.setSingleShot(True)
+        self._redraw_timer.setInterval(0)
+        self._redraw_timer.timeout.connect(self.redraw)
         self.chooser.currentIndexChanged.connect(self.redraw)
         self.viewbox.sigBand.connect(self._on_band_dragged)
         self.region.sigRegionChanged.connect(lambda: self._on_region_moved(False))
         self.region.sigRegionChangeFinished.connect(lambda: self._on_region_moved(True))
         self.plot.scene().sigMouseClicked.connect(self._on_clicked)
-        for sig in (state.tracesChanged, state.markersChanged):
-            sig.connect(self.redraw)
-        for sig in (state.traceChanged, state.offsetsChanged):
-            sig.connect(lambda _id: self.redraw())
+        state.tracesChanged.connect(self.schedule_redraw)
+        state.markersChanged.connect(self._sync_lines)
+        for sig in (state.traceChanged, state.offsetsChanged, state.overlaysChanged):
+            sig.connect(lambda _id: self.schedule_redraw())
         state.markerMoving.connect(self._on_marker_moving)
-        state.markerMoved.connect(self._on_marker_moving)
         state.bandChanging.connect(self._on_band_changed)
         state.bandChanged.connect(self._on_band_changed)
         self.redraw()
@@ -139,6 +149,16 @@ class FrequencyPlot(QWidget):
         """The vertical line of a marker (for tests)."""
         return self._lines[marker_id]
 
+    def schedule_redraw(self) -> None:
+        """Redraw on the next turn of the event loop (several changes make one redraw)."""
+        self._redraw_timer.start()
+
+    def flush(self) -> None:
+        """Redraw now if a redraw is pending (tests, export)."""
+        if self._redraw_timer.isActive():
+            self._redraw_timer.stop()
+            self.redraw()
+
     # --------------------------------------------------------------- helpers
     def _x(self, freq_hz: float) -> float:
         # In log mode pyqtgraph's view coordinates are log10 of the data.
@@ -157,6 +177,8 @@ class FrequencyPlot(QWidget):
 
     # ----------------------------------------------------------------- slots
     def redraw(self, *_args) -> None:
+        """Draw every visible trace's curves for the chosen quantity (now)."""
+        self._redraw_timer.stop()
         for item in self._curves:
             self.plot.removeItem(item)
         self._curves = []
@@ -179,23 +201,30 @@ class FrequencyPlot(QWidget):
                     colour.setAlphaF(alpha)
                     pen = pg.mkPen(colour, width=1.8 if alpha == 1.0 else 1.2,
                                    style=Qt.DashLine if curve.dashed else Qt.SolidLine)
-                    item = pg.PlotDataItem(x, y, pen=pen, connect="finite", antialias=True)
-                    self.plot.addItem(item)
-                    self._curves.append(item)
+                    self._add_curve(x, y, pen)
                     shown += 1
             for name, model in t.overlays.items():
                 for curve in plot_series.curves(model, 1, q.key) if not q.two_port else ():
                     x, y = plot_series.finite_for_plot(model.freq_hz, curve.y, self.log_x)
-                    item = pg.PlotDataItem(x, y, pen=pg.mkPen(t.colour, width=1.4, style=Qt.DotLine),
-                                           connect="finite", antialias=True)
-                    self.plot.addItem(item)
-                    self._curves.append(item)
+                    self._add_curve(x, y, pg.mkPen(t.colour, width=1.4, style=Qt.DotLine))
         if q.two_port and shown == 0 and self.state.traces():
             self.note.setText("needs a two-port sweep")
         else:
             self.note.setText("R solid, X dashed" if q.key == "r_x" and shown else "")
         self._sync_lines()
         self._on_band_changed()
+
+    def _add_curve(self, x: np.ndarray, y: np.ndarray, pen) -> pg.PlotDataItem:
+        item = pg.PlotDataItem(x, y, pen=pen, connect="finite", antialias=True)
+        self.plot.addItem(item)
+        # Long sweeps: draw only what is in view, thinned to about two points per pixel
+        # column keeping each column's extremes, so nothing visible is lost. (Set after
+        # adding: the item needs its view box to clip.)
+        item.opts["autoDownsampleFactor"] = 1.5  # "peak" keeps 2 values per step: ~3 per pixel
+        item.setDownsampling(auto=True, method="peak")
+        item.setClipToView(True)
+        self._curves.append(item)
+        return item
 
     def _sync_lines(self) -> None:
         markers = self.state.markers()
@@ -299,6 +328,8 @@ class CompanionPlots(QWidget):
         self.state = state
         self.upper = FrequencyPlot(state, "return_loss", theme=theme)
         self.lower = FrequencyPlot(state, "r_x", theme=theme)
+        # Stagger the two redraws so the event loop (and the user) gets a turn between them.
+        self.lower._redraw_timer.setInterval(25)
         self.lower.plot.setXLink(self.upper.plot)
         self.log_box = QCheckBox("Log frequency")
         self.band_button = QPushButton("Pick band")

@@ -60,6 +60,10 @@ class GridItem(pg.GraphicsObject):
         self._admittance: smith_grid.GridLines | None = None
         self._paths: list[tuple[QPainterPath, QPen]] = []
         self._labels: list[pg.TextItem] = []
+        # The grid changes only with zoom or theme: keep its pixels (at device resolution, so
+        # still crisp on high-DPI screens) instead of redrawing thousands of segments each time
+        # a marker moves over it.
+        self.setCacheMode(QGraphicsItem.DeviceCoordinateCache)
         self._rebuild()
 
     def set_theme(self, theme: Theme) -> None:
@@ -139,10 +143,30 @@ class TraceItem(pg.ItemGroup):
 
     def set_data(self, x: np.ndarray, y: np.ndarray) -> None:
         """New points (Γ real, Γ imaginary); the first and last get the start/end symbols."""
-        self.curve.setData(x, y)
+        self._x = np.asarray(x, float)
+        self._y = np.asarray(y, float)
+        self._draw()
         if self._ends and len(x):
             self.start.setData([x[0]], [y[0]])
             self.end.setData([x[-1]], [y[-1]])
+
+    def set_pixel_size(self, units_per_pixel: float) -> None:
+        """Tell the item how large a pixel is (chart units), so it can thin what it draws."""
+        if units_per_pixel != self._pixel:
+            self._pixel = units_per_pixel
+            if self._x.size > self.THIN_ABOVE:
+                self._draw()
+
+    #: Curves with more points than this are thinned to half-pixel steps for drawing.
+    THIN_ABOVE = 4000
+    _pixel = 0.0
+    _x = _y = np.empty(0)
+
+    def _draw(self) -> None:
+        x, y = self._x, self._y
+        if x.size > self.THIN_ABOVE and self._pixel > 0:
+            x, y = smith_grid.thin_polyline(x, y, 0.5 * self._pixel)
+        self.curve.setData(x, y)
 
 
 class MarkerItem(pg.GraphicsObject):
@@ -290,8 +314,8 @@ class SmithChart(QWidget):
         state.overlaysChanged.connect(self._on_overlays_changed)
         state.markersChanged.connect(self._on_markers_changed)
         state.markerMoving.connect(self._on_marker_moving)
-        state.markerMoved.connect(self._on_marker_moving)
         state.currentMarkerChanged.connect(self._on_current_marker)
+        self.view.sigRangeChanged.connect(self._on_range_changed)
         scene = self.plot.scene()
         scene.sigMouseMoved.connect(self._on_mouse_moved)
         scene.sigMouseClicked.connect(self._on_mouse_clicked)
@@ -368,6 +392,22 @@ class SmithChart(QWidget):
             super().keyPressEvent(ev)
 
     # ----------------------------------------------------------------- slots
+    def _trace_items(self):
+        yield from self._traces.values()
+        yield from self._raw.values()
+        yield from self._overlays.values()
+
+    def _on_range_changed(self, *_args) -> None:
+        px = min(self.view.viewPixelSize())
+        for item in self._trace_items():
+            item.set_pixel_size(px)
+
+    def _add_trace_item(self, item: TraceItem) -> TraceItem:
+        px = self.view.viewPixelSize()
+        item.set_pixel_size(min(px) if px[0] and px[1] else 0.0)
+        self.plot.addItem(item)
+        return item
+
     def _on_traces_changed(self) -> None:
         ids = set(self.state.trace_ids())
         for tid in list(self._traces):
@@ -383,7 +423,7 @@ class SmithChart(QWidget):
             if tid not in self._traces:
                 self._traces[tid] = TraceItem(self.state.trace(tid).colour)
                 self._traces[tid].setZValue(10)
-                self.plot.addItem(self._traces[tid])
+                self._add_trace_item(self._traces[tid])
                 self._on_trace_changed(tid)
                 self._on_overlays_changed(tid)
 
@@ -402,7 +442,7 @@ class SmithChart(QWidget):
             if raw is None:
                 raw = self._raw[trace_id] = TraceItem(t.colour, width=1.4, alpha=0.3, ends=False)
                 raw.setZValue(8)
-                self.plot.addItem(raw)
+                self._add_trace_item(raw)
             r = t.raw.reflection(t.port)
             raw.set_style(t.colour, width=1.4, alpha=0.3)
             raw.set_data(r.real, r.imag)
@@ -428,7 +468,7 @@ class SmithChart(QWidget):
             if key not in self._overlays:
                 self._overlays[key] = TraceItem(t.colour, width=1.6, dashed=True, alpha=0.9, ends=False)
                 self._overlays[key].setZValue(9)
-                self.plot.addItem(self._overlays[key])
+                self._add_trace_item(self._overlays[key])
             g = sweep.reflection(1)
             self._overlays[key].set_data(g.real, g.imag)
             self._overlays[key].setVisible(t.visible)

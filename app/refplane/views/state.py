@@ -114,9 +114,11 @@ class ViewState(QObject):
     markersChanged = Signal()
     """A marker was added or removed, or markers moved with their traces' data."""
     markerMoving = Signal(int)
-    """A marker moved during a drag (live; many per drag)."""
+    """A marker's frequency changed (live: many per drag, and once per programmatic move).
+    Views that show the position listen to this one."""
     markerMoved = Signal(int)
-    """A marker's move finished (once per drag, and on every programmatic move)."""
+    """A marker's move finished (once per drag, and after every programmatic move); for work
+    that should wait until the user lets go."""
     currentMarkerChanged = Signal(int)
     """The marker that keys and the table act on changed (−1 for none)."""
     bandChanging = Signal()
@@ -219,7 +221,10 @@ class ViewState(QObject):
         self.traceChanged.emit(trace_id)
         if offsets != old.offsets:
             self.offsetsChanged.emit(trace_id)
-        self._clamp_markers(trace_id)
+        # Readings of markers on this trace change with the data even when they stay put.
+        if not self._clamp_markers(trace_id) and self.markers(trace_id):
+            for m in self.markers(trace_id):
+                self.markerMoving.emit(m.id)
 
     def set_offsets(self, trace_id: int, offsets: Sequence) -> None:
         """Set a trace's per-port reference-plane offsets (one ``LineOffset`` per port, or empty).
@@ -418,15 +423,16 @@ class ViewState(QObject):
             raise AnalysisError("a marker frequency is not a finite number")
         return min(max(value, float(f[0])), float(f[-1]))
 
-    def _clamp_markers(self, trace_id: int) -> None:
+    def _clamp_markers(self, trace_id: int) -> bool:
         changed = False
         for m in self.markers(trace_id):
             f = self._clamp(trace_id, m.freq_hz)
             if f != m.freq_hz:
                 self._markers[m.id] = replace(m, freq_hz=f)
-            changed = True
+                changed = True
         if changed:
             self.markersChanged.emit()
+        return changed
 
     def _set_current_marker(self, marker_id: int) -> None:
         if marker_id != self._current_marker:

@@ -34,7 +34,9 @@ class MarkerTable(QWidget):
         self.table = QTableWidget(0, 0)
         self.table.setEditTriggers(QAbstractItemView.NoEditTriggers)
         self.table.setSelectionMode(QAbstractItemView.ContiguousSelection)
-        self.table.horizontalHeader().setSectionResizeMode(QHeaderView.ResizeToContents)
+        # Column widths follow the contents after each change that ends (not on every step of
+        # a drag: measuring every cell at each step is what makes a table feel slow).
+        self.table.horizontalHeader().setSectionResizeMode(QHeaderView.Interactive)
         self.table.horizontalHeader().setStretchLastSection(False)
         self.table.verticalHeader().setDefaultSectionSize(22)
         self.table.setAlternatingRowColors(True)
@@ -80,7 +82,7 @@ class MarkerTable(QWidget):
         state.traceChanged.connect(lambda _id: self.rebuild())
         state.offsetsChanged.connect(lambda _id: self.rebuild())
         state.markerMoving.connect(self.refresh_marker)
-        state.markerMoved.connect(self.refresh_marker)
+        state.markerMoved.connect(lambda _id: self.table.resizeColumnsToContents())
         state.currentMarkerChanged.connect(self._select_current)
         self.rebuild()
 
@@ -168,6 +170,7 @@ class MarkerTable(QWidget):
             button.setEnabled(bool(markers))
         self._fill_delta()
         self._select_current(self.state.current_marker)
+        self.table.resizeColumnsToContents()
 
     def refresh_marker(self, marker_id: int) -> None:
         if marker_id not in self._ids:
