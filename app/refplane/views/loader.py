@@ -1,16 +1,19 @@
 """Reading sweep files off the UI thread, with cancel.
 
 Small files are read in a worker thread. Large files (above :data:`PROCESS_THRESHOLD_BYTES`)
-are read in a separate Python process: a text parser holds the interpreter lock for long
-stretches, which would freeze the window even from a thread, while a separate process
-leaves the window's thread free, and cancelling it really stops the work. Results arrive on
-the UI thread through Qt signals.
+are read in a separate Python process (:mod:`refplane.views.child_reader`, started with
+``subprocess``, so it does not depend on how the main program was started): a text parser
+holds the interpreter lock for long stretches, which would freeze the window even from a
+thread, while a separate process leaves the window's thread free, and cancelling it really
+stops the work. Results arrive on the UI thread through Qt signals.
 """
 
 from __future__ import annotations
 
-import multiprocessing
 import os
+import subprocess
+import sys
+import tempfile
 from dataclasses import dataclass
 
 from PySide6.QtCore import QObject, QThread, Signal
@@ -19,7 +22,7 @@ from PySide6.QtCore import QObject, QThread, Signal
 PROCESS_THRESHOLD_BYTES = 4 * 1024 * 1024
 
 
-def _read(path: str):
+def read_one(path: str):
     """Read one sweep; returns ("ok", sweep) or ("error", one-line message). Never raises."""
     from refplane.analysis.errors import AnalysisError
     from refplane.analysis.loading import read_sweep
@@ -34,13 +37,6 @@ def _read(path: str):
         return "error", f"{path}: {exc.strerror or exc}"
     except Exception as exc:  # a reader bug must not take the window down
         return "error", f"{path}: could not be read ({type(exc).__name__}: {exc})"
-
-
-def _child(path: str, conn) -> None:
-    try:
-        conn.send(_read(path))
-    finally:
-        conn.close()
 
 
 @dataclass(frozen=True)
@@ -59,51 +55,58 @@ class _Job(QThread):
     def __init__(self, request: LoadRequest, parent: QObject | None = None):
         super().__init__(parent)
         self.request = request
-        self._process: multiprocessing.Process | None = None
+        self._process: subprocess.Popen | None = None
         self._cancelled = False
 
     def cancel(self) -> None:
         self._cancelled = True
-        if self._process is not None and self._process.is_alive():
-            self._process.terminate()
+        process = self._process
+        if process is not None and process.poll() is None:
+            process.kill()
 
     def run(self) -> None:
         path = self.request.path
         try:
-            size = os.path.getsize(path)
-        except OSError:
-            size = 0
-        if size <= PROCESS_THRESHOLD_BYTES:
-            status, payload = _read(path)
-        else:
-            status, payload = self._read_in_process(path)
+            try:
+                size = os.path.getsize(path)
+            except OSError:
+                size = 0
+            if size <= PROCESS_THRESHOLD_BYTES:
+                status, payload = read_one(path)
+            else:
+                status, payload = self._read_in_process(path)
+        except Exception as exc:  # noqa: BLE001 - the job must always report back
+            status, payload = "error", f"{path}: could not be read ({type(exc).__name__}: {exc})"
         if self._cancelled:
             status, payload = "cancelled", None
         self.result.emit(self.request, status, payload)
 
     def _read_in_process(self, path: str):
-        ctx = multiprocessing.get_context("spawn")  # never fork a process that runs Qt
-        here, there = ctx.Pipe(duplex=False)
-        self._process = ctx.Process(target=_child, args=(path, there), daemon=True)
-        self._process.start()
-        there.close()
+        from refplane.views import child_reader
+
+        fd, out = tempfile.mkstemp(prefix="refplane-", suffix=".npz")
+        os.close(fd)
         try:
-            while True:
-                if here.poll(0.05):
-                    try:
-                        return here.recv()
-                    except EOFError:
-                        break
-                if self._cancelled or not self._process.is_alive():
-                    if here.poll(0):
-                        continue
-                    break
+            self._process = subprocess.Popen(
+                [sys.executable, "-m", "refplane.views.child_reader", path, out],
+                stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, text=True)
+            if self._cancelled:
+                self._process.kill()
+            _, err = self._process.communicate()
+            if self._cancelled:
+                return "cancelled", None
+            if self._process.returncode == 0:
+                return "ok", child_reader.load(out)
+            lines = [ln for ln in (err or "").strip().splitlines() if ln.strip()]
+            if self._process.returncode == 2 and lines:
+                return "error", lines[-1]
+            return "error", (f"{path}: the reader stopped unexpectedly (exit code "
+                             f"{self._process.returncode}){': ' + lines[-1] if lines else ''}")
         finally:
-            here.close()
-            self._process.join(timeout=2)
-        if self._cancelled:
-            return "cancelled", None
-        return "error", f"{path}: the reader stopped unexpectedly (exit code {self._process.exitcode})"
+            try:
+                os.unlink(out)
+            except OSError:
+                pass
 
 
 class SweepLoader(QObject):
