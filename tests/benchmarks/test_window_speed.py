@@ -45,8 +45,6 @@ BARE = textwrap.dedent("""
 
 REFPLANE = textwrap.dedent("""
     import os, sys
-    from refplane.views.qt_compat import guard_singletons
-    guard_singletons()
     from PySide6.QtCore import QTimer
     from PySide6.QtWidgets import QApplication
     app = QApplication(sys.argv[:1])

@@ -3,11 +3,6 @@
 import pytest
 
 from model_sweeps import resistor_with_leads
-from refplane.views.qt_compat import guard_singletons
-
-# PySide6 6.12 on Python < 3.12 runs down the reference counts of None/True/False (see
-# refplane.views.qt_compat); without this the test process aborts after a few hundred repaints.
-guard_singletons()
 
 
 @pytest.fixture

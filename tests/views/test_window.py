@@ -324,10 +324,21 @@ def test_recent_files_remembered(qtbot, window, files):
     assert window.recent_files()[0].endswith("rc.s1p")
 
 
+def test_window_composes_plane_fit_and_calibration(qtbot, window):
+    from refplane.views.panels.fit_panel import FitPanel
+    from refplane.views.panels.offsets_panel import OffsetsPanel
+
+    assert isinstance(window.docks["Reference plane"].widget(), OffsetsPanel)
+    assert isinstance(window.docks["Fit"].widget(), FitPanel)
+    assert window.docks["Fit"].widget().state is window.state
+    texts = [a.text() for a in window.tools_menu.actions()]
+    assert "Calibrate from standards…" in texts
+    assert window.tools_menu.menuAction().isVisible()
+
+
 def test_tools_menu_and_side_panel_hooks(qtbot, window):
     from PySide6.QtWidgets import QLabel
 
-    assert not window.tools_menu.menuAction().isVisible()
     hits = []
     action = window.add_tool_action("Do a thing", lambda: hits.append(1))
     assert window.tools_menu.menuAction().isVisible()

@@ -118,9 +118,6 @@ def run_window(files: list[str]) -> int:
     if problem:
         print(problem, file=sys.stderr)
         return 2
-    from refplane.views.qt_compat import guard_singletons
-
-    guard_singletons()
     from PySide6.QtWidgets import QApplication
 
     from refplane.views import demo

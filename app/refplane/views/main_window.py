@@ -48,9 +48,7 @@ class MainWindow(QMainWindow):
     """Chart in the middle, frequency plots beside it, traces and markers in docks."""
 
     def __init__(self, state: ViewState | None = None, *, theme: str | None = None):
-        from refplane.views.qt_compat import guard_singletons
 
-        guard_singletons()  # see qt_compat: a PySide6 6.12 fault on Python < 3.12
         super().__init__()
         self.state = state if state is not None else ViewState(self)
         self.setWindowTitle("Refplane")
@@ -81,6 +79,7 @@ class MainWindow(QMainWindow):
         markers = self._dock("Markers", self.marker_table, Qt.BottomDockWidgetArea)
         self.resizeDocks([traces], [330], Qt.Horizontal)
         self.resizeDocks([markers], [210], Qt.Vertical)
+        self._add_tool_panels()
 
         self.loader = SweepLoader(self)
         self.loader.loaded.connect(self._on_loaded)
@@ -107,6 +106,20 @@ class MainWindow(QMainWindow):
         self.docks[title] = dock
         self._panels_menu.addAction(dock.toggleViewAction())
         return dock
+
+    def _add_tool_panels(self) -> None:
+        """The reference-plane and fit panels (tabbed under the trace list) and the calibration dialog."""
+        from refplane.views.calibration_dialog import CalibrationDialog
+        from refplane.views.panels.fit_panel import FitPanel
+        from refplane.views.panels.offsets_panel import OffsetsPanel
+
+        plane = self.add_side_panel("Reference plane", OffsetsPanel(self.state))
+        fit = self.add_side_panel("Fit", FitPanel(self.state))
+        self.tabifyDockWidget(plane, fit)
+        plane.raise_()
+        self.add_tool_action("Calibrate from standards…",
+                             lambda: CalibrationDialog(self.state, self, theme=self.theme).open(),
+                             shortcut="Ctrl+K")
 
     def add_side_panel(self, title: str, widget: QWidget, area=Qt.LeftDockWidgetArea) -> QDockWidget:
         """Add a panel in a dock, below the trace list unless ``area`` says otherwise; returns the dock.

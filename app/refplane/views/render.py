@@ -101,10 +101,7 @@ def render_picture(sweeps: Sequence[Sweep], path: str | os.PathLike, *, at_hz: S
     """
     from refplane.views import export
 
-    from refplane.views.qt_compat import guard_singletons
-
     export.check_target(path, overwrite=overwrite)
-    guard_singletons()
     app = QApplication.instance()
     if app is None:
         quiet_platform_messages()
