@@ -366,6 +366,23 @@ class ViewState(QObject):
 
         return readout_cells(self.marker_readout(marker_id))
 
+    def marker_model_cells(self, marker_id: int) -> dict[str, dict[str, str]]:
+        """Display cells of each model overlay of the marker's trace at the marker's frequency.
+
+        Keys are overlay names; an overlay that does not reach the marker's frequency is left out.
+        """
+        from refplane.analysis.errors import AnalysisError
+        from refplane.analysis.readings import read_points, readout_cells
+
+        m = self._marker(marker_id)
+        out: dict[str, dict[str, str]] = {}
+        for name, overlay in self._get(m.trace_id).overlays.items():
+            try:
+                out[name] = readout_cells(read_points(overlay, [m.freq_hz], port=1).readout.at(0))
+            except AnalysisError:
+                continue
+        return out
+
     def marker_gamma(self, marker_id: int) -> complex:
         """The reflection coefficient at the marker (for drawing it on the chart)."""
         return complex(self.marker_readings(marker_id).gamma[0])

@@ -2,7 +2,8 @@
 
 Every cell is exactly :func:`refplane.analysis.readings.readout_cells` of the marker's
 reading (through :meth:`ViewState.marker_cells`), so the table shows what ``refplane read``
-prints at the same frequency.
+prints at the same frequency. When the marker's trace carries a fitted model (an overlay),
+a row below the markers shows the model's reading at the same frequency, for comparison.
 """
 
 from __future__ import annotations
@@ -69,6 +70,7 @@ class MarkerTable(QWidget):
 
         self._ids: list[int] = []
         self._cols: list[str] = []
+        self._model_rows: list[tuple[int, str]] = []  # (marker id, overlay name), after the markers
         self.entry.returnPressed.connect(self.add_from_entry)
         self.add_button.clicked.connect(self.add_from_entry)
         self.copy_button.clicked.connect(self.copy_to_clipboard)
@@ -81,6 +83,7 @@ class MarkerTable(QWidget):
         state.tracesChanged.connect(self.rebuild)
         state.traceChanged.connect(lambda _id: self.rebuild())
         state.offsetsChanged.connect(lambda _id: self.rebuild())
+        state.overlaysChanged.connect(lambda _id: self.rebuild())
         state.markerMoving.connect(self.refresh_marker)
         state.markerMoved.connect(lambda _id: self.table.resizeColumnsToContents())
         state.currentMarkerChanged.connect(self._select_current)
@@ -117,6 +120,15 @@ class MarkerTable(QWidget):
         return {label: self.table.item(row, col).text()
                 for col, label in enumerate(self._cols) if label != "Trace"}
 
+    def model_cells(self, marker_id: int, overlay: str) -> dict[str, str]:
+        """What the model row of ``overlay`` at a marker shows, column label → text."""
+        row = self._first_model_row() + self._model_rows.index((marker_id, overlay))
+        return {label: self.table.item(row, col).text()
+                for col, label in enumerate(self._cols) if label != "Trace"}
+
+    def _first_model_row(self) -> int:
+        return len(self._ids) + (1 if len(self._ids) >= 2 else 0)
+
     def delta_row(self) -> dict[str, str]:
         """What the difference row shows, column label → text (empty when not shown)."""
         row = len(self._ids)
@@ -149,10 +161,14 @@ class MarkerTable(QWidget):
         self._ids = [m.id for m in markers]
         self._cols = ["Trace"] + (list(self.state.marker_cells(markers[0].id)) if markers else [])
         show_delta = len(markers) >= 2
+        self._model_rows = [(m.id, name) for m in markers
+                            for name in self.state.trace(m.trace_id).overlays]
         self.table.setColumnCount(len(self._cols) if markers else 0)
-        self.table.setRowCount(len(markers) + (1 if show_delta else 0))
+        self.table.setRowCount(len(markers) + (1 if show_delta else 0) + len(self._model_rows))
         self.table.setHorizontalHeaderLabels(self._cols)
-        rows = [str(i) for i in range(1, len(markers) + 1)] + (["Difference"] if show_delta else [])
+        numbers = {m.id: str(i) for i, m in enumerate(markers, start=1)}
+        rows = ([numbers[m.id] for m in markers] + (["Difference"] if show_delta else [])
+                + [f"{numbers[mid]} model" for mid, _name in self._model_rows])
         self.table.setVerticalHeaderLabels(rows)
         for m in markers:
             self.refresh_marker(m.id)
@@ -181,6 +197,16 @@ class MarkerTable(QWidget):
         values = {"Trace": f"{t.name} · S{t.port}{t.port}", **self.state.marker_cells(marker_id)}
         for col, label in enumerate(self._cols):
             self._set(row, col, values.get(label, ""), left=(label == "Trace"))
+        if any(mid == marker_id for mid, _name in self._model_rows):
+            models = self.state.marker_model_cells(marker_id)
+            first = self._first_model_row()
+            for i, (mid, name) in enumerate(self._model_rows):
+                if mid != marker_id:
+                    continue
+                cells = {"Trace": f"{name} (model)", **models.get(name, {})}
+                for col, label in enumerate(self._cols):
+                    self._set(first + i, col, cells.get(label, "—" if label != "Trace" else ""),
+                              left=(label == "Trace"))
         self._fill_delta()
 
     def _set(self, row: int, col: int, text: str, left: bool = False) -> None:
