@@ -132,14 +132,13 @@ def run_window(files: list[str]) -> int:
     pg.setConfigOptions(antialias=True)
     from refplane.views.main_window import MainWindow
 
-    window = MainWindow()
-    window.show()
+    path = None if files else demo.demo_path()
     if files:
-        window.open_files(files)
+        window = MainWindow(files=files)
+    elif path is not None:
+        window = MainWindow(files=[str(path)], markers_hz=demo.DEMO_MARKERS_HZ)
     else:
-        path = demo.demo_path()
-        if path is not None:
-            window.open_files([str(path)], markers_hz=demo.DEMO_MARKERS_HZ)
-        else:
-            window.statusBar().showMessage("Open a sweep with File ▸ Open, or drop files on the window.")
+        window = MainWindow()
+        window.statusBar().showMessage("Open a sweep with File ▸ Open, or drop files on the window.")
+    window.show()
     return int(app.exec())

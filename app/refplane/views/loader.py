@@ -148,6 +148,10 @@ class SweepLoader(QObject):
         for job in list(self._jobs):
             job.wait(timeout_ms)
 
+    def describe(self) -> str:
+        """What is being read, in words for the status bar ("" when idle)."""
+        return self._describe() if self.busy else ""
+
     def _describe(self) -> str:
         names = [os.path.basename(j.request.path) for j in self._jobs]
         return f"Reading {names[0]}…" if len(names) == 1 else f"Reading {len(names)} files…"

@@ -22,7 +22,7 @@ to the rest of the window only through it.
 from __future__ import annotations
 
 import os
-from typing import Callable
+from typing import Callable, Sequence
 
 from PySide6.QtCore import QFileSystemWatcher, QSettings, Qt, QTimer
 from PySide6.QtGui import QAction, QActionGroup, QKeySequence
@@ -47,10 +47,19 @@ def _settings() -> QSettings:
 class MainWindow(QMainWindow):
     """Chart in the middle, frequency plots beside it, traces and markers in docks."""
 
-    def __init__(self, state: ViewState | None = None, *, theme: str | None = None):
-
+    def __init__(self, state: ViewState | None = None, *, theme: str | None = None,
+                 files: Sequence[str] = (), markers_hz: tuple[float, ...] = ()):
+        """``files`` start reading at once (with ``markers_hz`` as in :meth:`open_files`)."""
         super().__init__()
         self.state = state if state is not None else ViewState(self)
+        # Start reading before the widgets are built: the worker reads while the window is
+        # put together, and the result (delivered by the event loop) is there for the first paint.
+        self._pending_markers: dict[str, tuple[float, ...]] = {}
+        self.loader = SweepLoader(self)
+        self.loader.loaded.connect(self._on_loaded)
+        self.loader.failed.connect(self._on_load_failed)
+        if files:
+            self.open_files(list(files), markers_hz=markers_hz)
         self.setWindowTitle("Refplane")
         self.setAcceptDrops(True)
         self.setDockOptions(QMainWindow.AnimatedDocks | QMainWindow.AllowTabbedDocks)
@@ -81,15 +90,13 @@ class MainWindow(QMainWindow):
         self.resizeDocks([markers], [210], Qt.Vertical)
         self._add_tool_panels()
 
-        self.loader = SweepLoader(self)
-        self.loader.loaded.connect(self._on_loaded)
-        self.loader.failed.connect(self._on_load_failed)
         self.loader.busyChanged.connect(self._on_busy)
         self.watcher = QFileSystemWatcher(self)
         self.watcher.fileChanged.connect(self._on_file_changed)
         self._reload_timer: dict[str, QTimer] = {}
-        self._pending_markers: dict[str, tuple[float, ...]] = {}
         self._build_status_bar()
+        if self.loader.busy:
+            self._on_busy(True, self.loader.describe())
         self.state.tracesChanged.connect(self._update_title)
         self.state.tracesChanged.connect(self._watch_files)
         self.apply_theme(self.theme, widgets=False)  # chart and plots were built in this theme

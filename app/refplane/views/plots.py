@@ -64,7 +64,7 @@ class FrequencyPlot(QWidget):
         for q in plot_series.QUANTITIES:
             self.chooser.addItem(q.title, q.key)
         self.chooser.setCurrentIndex(self.chooser.findData(quantity))
-        self.viewbox = BandViewBox()
+        self.viewbox = BandViewBox(enableMenu=False)  # the menu is disabled below anyway
         self.plot = pg.PlotWidget(viewBox=self.viewbox, background=theme.chart_bg)
         self.plot.setMenuEnabled(False)
         self.plot.hideButtons()

@@ -276,7 +276,8 @@ class SmithChart(QWidget):
         super().__init__(parent)
         self.state = state
         self.theme = theme
-        self.plot = pg.PlotWidget(background=theme.chart_bg)
+        # No context menu (building the view box's menu only to delete it costs start-up time).
+        self.plot = pg.PlotWidget(viewBox=pg.ViewBox(enableMenu=False), background=theme.chart_bg)
         self.plot.setMenuEnabled(False)
         self.plot.hideButtons()
         pi = self.plot.getPlotItem()

@@ -270,8 +270,6 @@ class FitPanel(QWidget):
         return None
 
     def _show_result(self, result) -> None:
-        from refplane.analysis.fitting import ranking_rows
-
         self.result = result
         if result is None:
             self.sentence.setText("Choose a band and a model, then Fit.")
@@ -279,6 +277,8 @@ class FitPanel(QWidget):
             self._fill(self.ranking_table, [])
             self.ranking_label.setText("")
             return
+        from refplane.analysis.fitting import ranking_rows  # not needed (nor imported) at start-up
+
         self.sentence.setText(result.sentence())
         self._fill(self.params_table, result.table_rows())
         chosen = "chosen automatically; " if result.automatic else ""
