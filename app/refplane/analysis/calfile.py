@@ -28,6 +28,7 @@ import numpy as np
 
 from refplane.analysis.calibration import Calibration, OnePortTerms, TransmissionTerms
 from refplane.analysis.errors import SweepFileError
+from refplane.analysis.fileio import read_json
 
 FORMAT = "refplane-calibration"
 VERSION = 1
@@ -153,16 +154,5 @@ def load_calibration(path: str | os.PathLike) -> Calibration:
         Missing or unreadable file, bad JSON (with its line), or terms of the wrong shape.
     """
     fname = os.fspath(path)
-    try:
-        text = Path(fname).read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise SweepFileError("no such file", file=fname) from None
-    except IsADirectoryError:
-        raise SweepFileError("this is a folder, not a calibration file", file=fname) from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise SweepFileError(f"cannot read the file ({exc})", file=fname) from None
-    try:
-        obj = json.loads(text)
-    except json.JSONDecodeError as exc:
-        raise SweepFileError(f"not valid JSON: {exc.msg}", file=fname, line=exc.lineno) from None
+    obj = read_json(fname, "a calibration file")
     return calibration_from_json(obj, file=fname)

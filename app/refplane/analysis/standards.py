@@ -56,6 +56,7 @@ from typing import Iterable, Mapping
 import numpy as np
 
 from refplane.analysis.errors import AnalysisError, SweepFileError
+from refplane.analysis.fileio import read_json
 from refplane.analysis.sweep import Sweep
 
 FORMAT = "refplane-standards"
@@ -473,18 +474,7 @@ def load_standards(path: str | os.PathLike) -> StandardSet:
         Missing file, bad JSON (with its line), unknown keys, bad values; always naming the file.
     """
     fname = os.fspath(path)
-    try:
-        text = Path(fname).read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise SweepFileError("no such file", file=fname) from None
-    except IsADirectoryError:
-        raise SweepFileError("this is a folder, not a standards file", file=fname) from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise SweepFileError(f"cannot read the file ({exc})", file=fname) from None
-    try:
-        obj = json.loads(text)
-    except json.JSONDecodeError as exc:
-        raise SweepFileError(f"not valid JSON: {exc.msg}", file=fname, line=exc.lineno) from None
+    obj = read_json(fname, "a standards file")
     return standards_from_json(obj, file=fname)
 
 

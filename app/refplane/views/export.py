@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import os
-import tempfile
 from pathlib import Path
 
 from PySide6.QtCore import QPoint, QRectF, QSize
@@ -11,6 +10,7 @@ from PySide6.QtGui import QColor, QImage, QPainter
 from PySide6.QtWidgets import QWidget
 
 from refplane.analysis.errors import AnalysisError
+from refplane.analysis.fileio import write_atomic
 
 FORMATS = {".png": "PNG picture", ".svg": "SVG drawing"}
 
@@ -30,22 +30,8 @@ def check_target(path: str | os.PathLike, *, overwrite: bool = False) -> Path:
 
 
 def _atomic(target: Path, write) -> Path:
-    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=target.suffix, dir=target.parent or ".")
-    os.close(fd)
-    umask = os.umask(0)
-    os.umask(umask)
-    os.chmod(tmp, 0o666 & ~umask)  # an ordinary file, like any other the user saves
-    try:
-        if not write(tmp):
-            raise AnalysisError("the picture could not be written", file=target)
-        os.replace(tmp, target)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except OSError:
-            pass
-        raise
-    return target
+    # The temporary file keeps the picture's extension: Qt picks the format by it.
+    return write_atomic(target, write, overwrite=True, suffix=target.suffix)
 
 
 def save_widget(widget: QWidget, path: str | os.PathLike, *, overwrite: bool = False,
