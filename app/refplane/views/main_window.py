@@ -89,6 +89,8 @@ class MainWindow(QMainWindow):
         self.resizeDocks([traces], [330], Qt.Horizontal)
         self.resizeDocks([markers], [210], Qt.Vertical)
         self._add_tool_panels()
+        # Keep the side column narrow: the chart is what the window is for.
+        self.resizeDocks([traces], [340], Qt.Horizontal)
 
         self.loader.busyChanged.connect(self._on_busy)
         self.watcher = QFileSystemWatcher(self)
@@ -116,7 +118,6 @@ class MainWindow(QMainWindow):
 
     def _add_tool_panels(self) -> None:
         """The reference-plane and fit panels (tabbed under the trace list) and the calibration dialog."""
-        from refplane.views.calibration_dialog import CalibrationDialog
         from refplane.views.panels.fit_panel import FitPanel
         from refplane.views.panels.offsets_panel import OffsetsPanel
 
@@ -124,9 +125,12 @@ class MainWindow(QMainWindow):
         fit = self.add_side_panel("Fit", FitPanel(self.state))
         self.tabifyDockWidget(plane, fit)
         plane.raise_()
-        self.add_tool_action("Calibrate from standards…",
-                             lambda: CalibrationDialog(self.state, self, theme=self.theme).open(),
-                             shortcut="Ctrl+K")
+        self.add_tool_action("Calibrate from standards…", self._open_calibration, shortcut="Ctrl+K")
+
+    def _open_calibration(self) -> None:
+        from refplane.views.calibration_dialog import CalibrationDialog  # imported when first used
+
+        CalibrationDialog(self.state, self, theme=self.theme).open()
 
     def add_side_panel(self, title: str, widget: QWidget, area=Qt.LeftDockWidgetArea) -> QDockWidget:
         """Add a panel in a dock, below the trace list unless ``area`` says otherwise; returns the dock.

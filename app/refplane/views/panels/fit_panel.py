@@ -122,7 +122,12 @@ class FitPanel(QWidget):
         self.model_combo.addItem("Automatic (simplest adequate)", "auto")
         for model in MODELS.values():
             self.model_combo.addItem(f"{model.id}: {model.name}", model.id)
+        # Long model names must not widen the side column that holds the panel.
+        self.model_combo.setSizeAdjustPolicy(QComboBox.AdjustToMinimumContentsLengthWithIcon)
+        self.model_combo.setMinimumContentsLength(18)
         self.measurement_combo = QComboBox()
+        self.measurement_combo.setSizeAdjustPolicy(QComboBox.AdjustToMinimumContentsLengthWithIcon)
+        self.measurement_combo.setMinimumContentsLength(18)
         for label, kind in MEASUREMENTS:
             self.measurement_combo.addItem(label, kind)
         self.fit_button = QPushButton("Fit")

@@ -48,6 +48,7 @@ class MarkerTable(QWidget):
         self.remove_button = QPushButton("Remove marker")
         self.clear_button = QPushButton("Remove all")
 
+        self.entry.setMinimumWidth(170)
         self.entry.setMaximumWidth(260)
         row = QHBoxLayout()
         row.addWidget(self.entry, 1)
@@ -203,7 +204,7 @@ class MarkerTable(QWidget):
             for i, (mid, name) in enumerate(self._model_rows):
                 if mid != marker_id:
                     continue
-                cells = {"Trace": f"{name} (model)", **models.get(name, {})}
+                cells = {"Trace": name, **models.get(name, {})}
                 for col, label in enumerate(self._cols):
                     self._set(first + i, col, cells.get(label, "—" if label != "Trace" else ""),
                               left=(label == "Trace"))
