@@ -263,6 +263,30 @@ class VswrCircleItem(pg.PlotCurveItem):
         self.setVisible(True)
 
 
+class ChartView(pg.GraphicsView):
+    """A graphics view holding one view box and nothing else (the chart has no axes or menu).
+
+    Lighter to build than a full plot widget with its axes, title and option menus, which the
+    chart would only hide.
+    """
+
+    def __init__(self, background="default"):
+        super().__init__(background=background)
+        self.view = pg.ViewBox(enableMenu=False)
+        layout = pg.GraphicsLayout()
+        layout.setContentsMargins(1, 1, 1, 1)  # the same 1-pixel border a plot item keeps
+        layout.addItem(self.view)
+        self.setCentralItem(layout)
+
+    def addItem(self, item: QGraphicsItem) -> None:
+        """Put an item on the chart (in data coordinates)."""
+        self.view.addItem(item)
+
+    def removeItem(self, item: QGraphicsItem) -> None:
+        """Take an item off the chart."""
+        self.view.removeItem(item)
+
+
 class SmithChart(QWidget):
     """The chart widget observing a :class:`ViewState`.
 
@@ -276,14 +300,8 @@ class SmithChart(QWidget):
         super().__init__(parent)
         self.state = state
         self.theme = theme
-        # No context menu (building the view box's menu only to delete it costs start-up time).
-        self.plot = pg.PlotWidget(viewBox=pg.ViewBox(enableMenu=False), background=theme.chart_bg)
-        self.plot.setMenuEnabled(False)
-        self.plot.hideButtons()
-        pi = self.plot.getPlotItem()
-        for axis in ("left", "bottom"):
-            pi.hideAxis(axis)
-        self.view: pg.ViewBox = pi.getViewBox()
+        self.plot = ChartView(background=theme.chart_bg)
+        self.view: pg.ViewBox = self.plot.view
         self.view.setAspectLocked(True, 1.0)
         self.view.setLimits(xMin=-3, xMax=3, yMin=-3, yMax=3, minXRange=0.01, minYRange=0.01)
         self.grid = GridItem(theme)
