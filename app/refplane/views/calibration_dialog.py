@@ -202,7 +202,8 @@ class CalibrationDialog(QDialog):
         self.plot.setLabel("bottom", "Frequency", units="Hz")
         self.plot.setLabel("left", "Magnitude", units="dB")
         self.plot.showGrid(x=True, y=True, alpha=0.3)
-        self.legend = self.plot.addLegend(offset=(10, 10))
+        self.legend = self.plot.addLegend(offset=(10, 10), labelTextColor=self.theme.text,
+                                          brush=pg.mkBrush(self.theme.chart_bg))
         v.addWidget(self.plot, 1)
         self.verdict = QLabel("Choose the three measured standards, then work out the error terms.")
         self.verdict.setWordWrap(True)
