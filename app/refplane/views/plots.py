@@ -54,6 +54,9 @@ class BandViewBox(pg.ViewBox):
 class FrequencyPlot(QWidget):
     """One rectilinear plot of a chosen quantity for every visible trace."""
 
+    #: Emitted after every redraw.
+    redrawn = Signal()
+
     def __init__(self, state: ViewState, quantity: str = "return_loss", parent: QWidget | None = None,
                  theme: Theme = LIGHT):
         super().__init__(parent)
@@ -213,6 +216,7 @@ class FrequencyPlot(QWidget):
             self.note.setText("R solid, X dashed" if q.key == "r_x" and shown else "")
         self._sync_lines()
         self._on_band_changed()
+        self.redrawn.emit()
 
     def _add_curve(self, x: np.ndarray, y: np.ndarray, pen) -> pg.PlotDataItem:
         item = pg.PlotDataItem(x, y, pen=pen, connect="finite", antialias=True)
@@ -328,8 +332,12 @@ class CompanionPlots(QWidget):
         self.state = state
         self.upper = FrequencyPlot(state, "return_loss", theme=theme)
         self.lower = FrequencyPlot(state, "r_x", theme=theme)
-        # Stagger the two redraws so the event loop (and the user) gets a turn between them.
+        # Stagger the two redraws so the event loop (and the user) gets a turn between them:
+        # the lower plot's pending redraw waits until a little after the upper one's, so the
+        # upper plot is painted in between (when both were due at once, as after a long step,
+        # the two redraws and then all the painting ran back to back).
         self.lower._redraw_timer.setInterval(25)
+        self.upper.redrawn.connect(self._stagger_lower)
         self.lower.plot.setXLink(self.upper.plot)
         self.log_box = QCheckBox("Log frequency")
         self.band_button = QPushButton("Pick band")
@@ -357,6 +365,11 @@ class CompanionPlots(QWidget):
         state.bandChanging.connect(self._show_band)
         state.bandChanged.connect(self._show_band)
         self._show_band()
+
+    def _stagger_lower(self) -> None:
+        timer = self.lower._redraw_timer
+        if timer.isActive():
+            timer.start()  # restart: due 25 ms from now
 
     def plots(self) -> list[FrequencyPlot]:
         return [self.upper, self.lower]
