@@ -127,3 +127,15 @@ def test_two_port_without_a_port_or_a_through_is_ambiguous(tmp_path, sweep_reade
 def test_missing_file_exits_2(tmp_path, sweep_reader, capsys):
     assert _run(["fit", str(tmp_path / "nothing.s1p")]) == 2
     assert "nothing.s1p" in capsys.readouterr().err
+
+
+def test_help_text_lists_exactly_the_models_the_analysis_layer_has():
+    # The command line keeps the model list as text so `refplane --help` stays light; it must
+    # never drift from the analysis layer's library.
+    from refplane.analysis.circuits import MODELS
+    from refplane.cli import fit as fit_cli
+
+    assert set(fit_cli._MODEL_IDS) == set(MODELS) | {"auto"}
+    for model in MODELS.values():
+        line = next(l for l in fit_cli._EPILOG.splitlines() if l.split()[:1] == [model.id])
+        assert ", ".join(model.param_names) in line, model.id
