@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import argparse
-import importlib.util
 import json
 
 import numpy as np
@@ -28,20 +27,7 @@ def _write(sweep: Sweep, folder, stem: str) -> str:
 
 
 @pytest.fixture
-def sweep_reader(monkeypatch):
-    """Until Refplane's own Touchstone reader lands, read the files with scikit-rf instead."""
-    if importlib.util.find_spec("refplane.analysis.touchstone") is None:
-        import refplane.analysis.loading as loading
-
-        def read_with_skrf(path):
-            net = skrf.Network(str(path))
-            return Sweep(net.f, net.s, net.z0[0], name=net.name, source=str(path))
-
-        monkeypatch.setattr(loading, "read_sweep", read_with_skrf)
-
-
-@pytest.fixture
-def open_through_cable(tmp_path, sweep_reader):
+def open_through_cable(tmp_path):
     # An open at the end of 20 cm of coax (vf 0.66), 0.1 dB at 1 GHz, swept to 500 MHz.
     freq = np.unique(np.concatenate([np.linspace(100e3, 500e6, 401), [F_QUARTER]]))
     bare = Sweep(freq, np.ones(freq.size, complex), 50.0)

@@ -2,30 +2,15 @@
 
 from __future__ import annotations
 
-import importlib.util
 import json
 
 import numpy as np
 import pytest
 
 from refplane.analysis.deembed import SPEED_OF_LIGHT_M_S
-from refplane.analysis.sweep import Sweep
 from refplane.cli import main
 
 skrf = pytest.importorskip("skrf")
-
-
-@pytest.fixture
-def sweep_reader(monkeypatch):
-    """Until Refplane's own Touchstone reader lands, read the files with scikit-rf instead."""
-    if importlib.util.find_spec("refplane.analysis.touchstone") is None:
-        import refplane.analysis.loading as loading
-
-        def read_with_skrf(path):
-            net = skrf.Network(str(path))
-            return Sweep(net.f, net.s, net.z0[0], name=net.name, source=str(path))
-
-        monkeypatch.setattr(loading, "read_sweep", read_with_skrf)
 
 
 def _cable_file(folder, standard: str, length_m=0.2, vf=0.66, loss_db=0.4, n=401) -> str:
@@ -50,7 +35,7 @@ def _run(argv) -> int:
 
 
 @pytest.mark.parametrize("standard", ["open", "short"])
-def test_json_reports_one_way_delay_loss_and_length(tmp_path, sweep_reader, capsys, standard):
+def test_json_reports_one_way_delay_loss_and_length(tmp_path, capsys, standard):
     path = _cable_file(tmp_path, standard)
     assert _run(["plane", path, "--standard", standard, "--vf", "0.66", "--json"]) == 0
     out = json.loads(capsys.readouterr().out)
@@ -65,7 +50,7 @@ def test_json_reports_one_way_delay_loss_and_length(tmp_path, sweep_reader, caps
     assert out["verdict"].startswith("good fit")
 
 
-def test_length_is_null_without_vf_and_band_limits_points(tmp_path, sweep_reader, capsys):
+def test_length_is_null_without_vf_and_band_limits_points(tmp_path, capsys):
     path = _cable_file(tmp_path, "short")
     assert _run(["plane", path, "--standard", "SHORT", "--band", "100MHz:1GHz", "--json"]) == 0
     out = json.loads(capsys.readouterr().out)
@@ -73,7 +58,7 @@ def test_length_is_null_without_vf_and_band_limits_points(tmp_path, sweep_reader
     assert out["n_points"] < 401
 
 
-def test_summary_in_words(tmp_path, sweep_reader, capsys):
+def test_summary_in_words(tmp_path, capsys):
     path = _cable_file(tmp_path, "open")
     assert _run(["plane", path, "--standard", "open", "--vf", "0.66"]) == 0
     out = capsys.readouterr().out
@@ -84,7 +69,7 @@ def test_summary_in_words(tmp_path, sweep_reader, capsys):
     assert "refplane read FILE --length=20.000cm --vf 0.66" in out
 
 
-def test_wrong_standard_verdict(tmp_path, sweep_reader, capsys):
+def test_wrong_standard_verdict(tmp_path, capsys):
     path = _cable_file(tmp_path, "open")
     assert _run(["plane", path, "--standard", "short"]) == 0
     assert "reads like an open rather than a short" in capsys.readouterr().out
@@ -104,7 +89,7 @@ def test_help_carries_the_static_caution(capsys):
     (["--standard", "open", "--port", "2"], "port 2 does not exist"),
     (["--standard", "open", "--loss-ref", "1 parsec"], "frequency unit"),
 ])
-def test_bad_requests_exit_with_status_2(tmp_path, sweep_reader, capsys, argv, words):
+def test_bad_requests_exit_with_status_2(tmp_path, capsys, argv, words):
     path = _cable_file(tmp_path, "open", n=50)
     assert _run(["plane", path, *argv]) == 2
     err = capsys.readouterr().err
