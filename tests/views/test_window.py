@@ -357,3 +357,45 @@ def test_safety_notes_cover_the_cautions():
     for words in ("transmitter", "Discharge", "maximum input level", "DC block", "RF exposure",
                   "local codes"):
         assert words in SAFETY_HTML
+
+
+def test_grid_labels_keep_their_size_and_follow_their_lines_on_zoom(qtbot, window):
+    chart = window.chart
+    labels = chart.grid.labels
+    chart.reset_view()
+    before = labels.label_rects()
+    texts = [lab.text for lab in labels._labels]
+    # Where the r = 1 circle crosses the real axis (Γ = 0, the chart's centre), its label sits
+    # just above the axis and right of the crossing, as the grid geometry asks (anchor (1, 1)).
+    one = before[texts.index("1")]
+    assert one.right() == pytest.approx(0.0, abs=0.5) and one.bottom() == pytest.approx(0.0, abs=0.5)
+    px_before = chart.view.viewPixelSize()[0]
+    chart.view.scaleBy((0.5, 0.5), center=QPointF(0.0, 0.0))  # zoom in about twice
+    qtbot.wait(20)
+    zoom = px_before / chart.view.viewPixelSize()[0]
+    assert zoom == pytest.approx(2.0, rel=0.05)
+    after = labels.label_rects()
+    for lab, a, b in zip(labels._labels, before, after):
+        assert (b.width(), b.height()) == (a.width(), a.height())  # texts stay the same pixel size
+        # The point each text is pinned to (its anchor) moves away from the centre with the zoom.
+        pin_a = (a.x() + lab.anchor[0] * a.width(), a.y() + lab.anchor[1] * a.height())
+        pin_b = (b.x() + lab.anchor[0] * b.width(), b.y() + lab.anchor[1] * b.height())
+        assert pin_b[0] == pytest.approx(zoom * pin_a[0], abs=0.5)
+        assert pin_b[1] == pytest.approx(zoom * pin_a[1], abs=0.5)
+
+
+def test_grid_labels_are_painted_where_they_are_placed(qtbot, window):
+    chart = window.chart
+    chart.reset_view()
+    qtbot.wait(20)
+    image = chart.plot.grab().toImage()
+    item = chart.grid.labels
+    origin = chart.plot.mapFromScene(item.mapToScene(QPointF(0.0, 0.0)))
+    background = image.pixelColor(2, 2)
+    rect = item.label_rects()[[lab.text for lab in item._labels].index("+j1")]
+    inked = 0
+    for x in range(int(rect.left()), int(rect.right())):
+        for y in range(int(rect.top()), int(rect.bottom())):
+            if image.pixelColor(int(origin.x()) + x, int(origin.y()) + y) != background:
+                inked += 1
+    assert inked > 10  # the text "+j1" is drawn inside its box

@@ -22,7 +22,7 @@ import math
 import numpy as np
 import pyqtgraph as pg
 from PySide6.QtCore import QPointF, QRectF, Qt, Signal
-from PySide6.QtGui import QColor, QFont, QPainter, QPainterPath, QPen
+from PySide6.QtGui import QColor, QFont, QFontMetricsF, QPainter, QPainterPath, QPen
 from PySide6.QtWidgets import QGraphicsItem, QLabel, QVBoxLayout, QWidget
 
 from refplane.views import smith_grid
@@ -59,11 +59,12 @@ class GridItem(pg.GraphicsObject):
         self._impedance = smith_grid.impedance_grid()
         self._admittance: smith_grid.GridLines | None = None
         self._paths: list[tuple[QPainterPath, QPen]] = []
-        self._labels: list[pg.TextItem] = []
         # The grid changes only with zoom or theme: keep its pixels (at device resolution, so
         # still crisp on high-DPI screens) instead of redrawing thousands of segments each time
         # a marker moves over it.
         self.setCacheMode(QGraphicsItem.DeviceCoordinateCache)
+        self.labels = GridLabelsItem(self._impedance.labels, theme.label)
+        self.labels.setParentItem(self)
         self._rebuild()
 
     def set_theme(self, theme: Theme) -> None:
@@ -88,19 +89,7 @@ class GridItem(pg.GraphicsObject):
         paths.append((_path(*g.axis), _pen(t.grid_major, 1.0)))
         paths.append((_path(*smith_grid.unit_circle()), _pen(t.rim, 1.6)))
         self._paths = paths
-        for item in self._labels:
-            item.setParentItem(None)
-            if item.scene() is not None:
-                item.scene().removeItem(item)
-        font = QFont()
-        font.setPointSizeF(8.0)
-        self._labels = []
-        for lab in g.labels:
-            item = pg.TextItem(lab.text, color=t.label, anchor=lab.anchor)
-            item.setFont(font)
-            item.setParentItem(self)
-            item.setPos(lab.x, lab.y)
-            self._labels.append(item)
+        self.labels.set_colour(t.label)
         self.prepareGeometryChange()
         self.update()
 
@@ -112,6 +101,79 @@ class GridItem(pg.GraphicsObject):
         for path, pen in self._paths:
             painter.setPen(pen)
             painter.drawPath(path)
+
+
+class GridLabelsItem(pg.GraphicsObject):
+    """All the grid's value labels in one item, written at a fixed size in pixels at any zoom.
+
+    One item painting every label costs a fraction of one text item per label, which is what
+    makes the chart quick to build at start-up.
+    """
+
+    def __init__(self, labels: tuple[smith_grid.GridLabel, ...], colour: str):
+        super().__init__()
+        self._labels = labels
+        self._colour = QColor(colour)
+        self._font = QFont()
+        self._font.setPointSizeF(8.0)
+        metrics = QFontMetricsF(self._font)
+        self._ascent = metrics.ascent()
+        # Each text keeps a margin of this many pixels around it, clear of the line it labels.
+        self._margin = 4.0
+        self._sizes = [(metrics.horizontalAdvance(lab.text) + 2 * self._margin,
+                        metrics.height() + 2 * self._margin) for lab in labels]
+        # Texts stand out of the points they label by up to this many pixels, in any direction.
+        self._reach_px = max((max(w, h) for w, h in self._sizes), default=0.0) + 2.0
+        self._bounds = self._data_bounds(0.0)
+        self._px_per_unit = (1.0, -1.0)
+        self.setAcceptedMouseButtons(Qt.NoButton)
+        self.setCacheMode(QGraphicsItem.DeviceCoordinateCache)
+
+    def set_colour(self, colour: str) -> None:
+        """Rewrite the labels in another colour."""
+        self._colour = QColor(colour)
+        self.update()
+
+    def label_rects(self) -> list[QRectF]:
+        """Where each label's text lies, in pixels from the chart's origin (Γ = 0), y downwards."""
+        sx, sy = self._px_per_unit
+        return [QRectF(lab.x * sx - lab.anchor[0] * w, lab.y * sy - lab.anchor[1] * h, w, h)
+                for lab, (w, h) in zip(self._labels, self._sizes)]
+
+    def _data_bounds(self, units_per_px: float) -> QRectF:
+        xs = [lab.x for lab in self._labels] or [0.0]
+        ys = [lab.y for lab in self._labels] or [0.0]
+        pad = self._reach_px * units_per_px
+        return QRectF(min(xs) - pad, min(ys) - pad, max(xs) - min(xs) + 2 * pad, max(ys) - min(ys) + 2 * pad)
+
+    def set_pixel_size(self, x_units: float, y_units: float, *, y_down: bool = False) -> None:
+        """Tell the item the size of one view pixel in chart units, and which way y runs.
+
+        The chart calls this whenever its view range changes: the texts keep their size in
+        pixels, so where they reach in chart units changes with the zoom.
+        """
+        if x_units <= 0 or y_units <= 0:
+            return
+        self._px_per_unit = (1.0 / x_units, (1.0 if y_down else -1.0) / y_units)
+        bounds = self._data_bounds(max(x_units, y_units))
+        if bounds != self._bounds:
+            self.prepareGeometryChange()
+            self._bounds = bounds
+        self.update()
+
+    def boundingRect(self) -> QRectF:
+        return self._bounds
+
+    def paint(self, painter: QPainter, *args) -> None:
+        sx, sy = self._px_per_unit
+        painter.setRenderHint(QPainter.TextAntialiasing, True)
+        # From here one unit is one pixel of the view, y downwards, whatever the zoom; an outer
+        # scale (a 2× picture export) still applies, so texts grow with it like everything else.
+        painter.scale(1.0 / sx, 1.0 / sy)
+        painter.setFont(self._font)
+        painter.setPen(self._colour)
+        for rect, lab in zip(self.label_rects(), self._labels):
+            painter.drawText(QPointF(rect.x() + self._margin, rect.y() + self._margin + self._ascent), lab.text)
 
 
 class TraceItem(pg.ItemGroup):
@@ -417,7 +479,9 @@ class SmithChart(QWidget):
         yield from self._overlays.values()
 
     def _on_range_changed(self, *_args) -> None:
-        px = min(self.view.viewPixelSize())
+        ux, uy = self.view.viewPixelSize()
+        self.grid.labels.set_pixel_size(ux, uy, y_down=self.view.yInverted())
+        px = min(ux, uy)
         for item in self._trace_items():
             item.set_pixel_size(px)
 
