@@ -399,3 +399,25 @@ def test_grid_labels_are_painted_where_they_are_placed(qtbot, window):
             if image.pixelColor(int(origin.x()) + x, int(origin.y()) + y) != background:
                 inked += 1
     assert inked > 10  # the text "+j1" is drawn inside its box
+
+
+def test_plot_grid_lines_sit_on_the_axis_ticks_in_linear_and_log_mode(qtbot, window, files):
+    _open(qtbot, window, [files["r75"]])
+    for p in window.plots.plots():
+        p.flush()
+    qtbot.wait(20)
+    plot = window.plots.upper
+    (x0, x1), (y0, y1) = plot.viewbox.viewRange()
+    major_x, minor_x, major_y, _ = plot.grid.tick_positions()
+    labelled = [v for v in plot.plot.getAxis("bottom").tickValues(x0, x1, plot.viewbox.width())[0][1]
+                if x0 <= v <= x1]
+    assert major_x == labelled and len(major_x) >= 3 and major_y  # one line per labelled tick
+    # Minor lines fall between the major ones, never on them (common practice for plot grids).
+    assert minor_x and not any(np.isclose(m, major_x, rtol=0, atol=1e-9 * (x1 - x0)).any() for m in minor_x)
+    # Log frequency: the lines follow the decades (view x is log10 of frequency in log mode).
+    window.plots.log_box.setChecked(True)
+    qtbot.wait(20)
+    (x0, x1), _ = plot.viewbox.viewRange()
+    major_x, _, _, _ = plot.grid.tick_positions()
+    assert major_x and all(x0 <= v <= x1 for v in major_x)
+    assert all(abs(v - round(v)) < 1e-9 for v in major_x)  # whole decades: 1 MHz, 10 MHz, …

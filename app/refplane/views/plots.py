@@ -13,8 +13,8 @@ import math
 
 import numpy as np
 import pyqtgraph as pg
-from PySide6.QtCore import Qt, QTimer, Signal
-from PySide6.QtGui import QColor
+from PySide6.QtCore import QRectF, Qt, QTimer, Signal
+from PySide6.QtGui import QColor, QPainter, QPainterPath
 from PySide6.QtWidgets import (QCheckBox, QComboBox, QGraphicsItem, QHBoxLayout, QLabel,
                                QPushButton, QVBoxLayout, QWidget)
 
@@ -51,6 +51,85 @@ class BandViewBox(pg.ViewBox):
             self._band_start = None
 
 
+class PlotGrid(pg.GraphicsObject):
+    """Grid lines across a plot at its axes' ticks (major and minor), behind the curves.
+
+    Drawn as two paths rebuilt when the view range or size changes. (The axes can draw a grid
+    themselves, but repainting it costs over ten times as much, at start-up and on every
+    zoom step.)
+    """
+
+    def __init__(self, plot_item: pg.PlotItem, theme: Theme = LIGHT):
+        super().__init__()
+        self._plot = plot_item
+        self._rect = QRectF()
+        self._major = QPainterPath()
+        self._minor = QPainterPath()
+        self.setZValue(-10)
+        self.setAcceptedMouseButtons(Qt.NoButton)
+        self.set_theme(theme)
+        # Not part of the data: autorange must not grow to fit the grid, which fills the view.
+        plot_item.addItem(self, ignoreBounds=True)
+        view = plot_item.getViewBox()
+        view.sigRangeChanged.connect(self.rebuild)
+        view.sigResized.connect(self.rebuild)
+        self.rebuild()
+
+    def set_theme(self, theme: Theme) -> None:
+        """Recolour the grid lines."""
+        major = QColor(theme.grid_major)
+        major.setAlphaF(0.6)  # quieter than the Smith chart's lines: here the curves matter
+        self._major_pen = pg.mkPen(major, width=1, cosmetic=True)
+        self._minor_pen = pg.mkPen(theme.grid_minor, width=1, cosmetic=True)
+        self.update()
+
+    def tick_positions(self) -> tuple[list[float], list[float], list[float], list[float]]:
+        """Major x, minor x, major y and minor y positions of the lines, in view coordinates."""
+        view = self._plot.getViewBox()
+        (x0, x1), (y0, y1) = view.viewRange()
+        xs = self._levels(self._plot.getAxis("bottom"), x0, x1, view.width())
+        ys = self._levels(self._plot.getAxis("left"), y0, y1, view.height())
+        return xs[0], xs[1], ys[0], ys[1]
+
+    @staticmethod
+    def _levels(axis: pg.AxisItem, lo: float, hi: float, size: float) -> tuple[list[float], list[float]]:
+        if not (size > 0 and math.isfinite(lo) and math.isfinite(hi) and hi > lo):
+            return [], []
+        levels = axis.tickValues(lo, hi, size)
+        major = [v for v in levels[0][1] if lo <= v <= hi] if levels else []
+        minor = [v for _, values in levels[1:2] for v in values if lo <= v <= hi]
+        return major, minor
+
+    def rebuild(self, *_args) -> None:
+        """Put the lines at the current ticks (called on every range or size change)."""
+        (x0, x1), (y0, y1) = self._plot.getViewBox().viewRange()
+        major_x, minor_x, major_y, minor_y = self.tick_positions()
+        paths = []
+        for xs, ys in ((major_x, major_y), (minor_x, minor_y)):
+            path = QPainterPath()
+            for x in xs:
+                path.moveTo(x, y0)
+                path.lineTo(x, y1)
+            for y in ys:
+                path.moveTo(x0, y)
+                path.lineTo(x1, y)
+            paths.append(path)
+        self.prepareGeometryChange()
+        self._major, self._minor = paths
+        self._rect = QRectF(x0, y0, x1 - x0, y1 - y0)
+        self.update()
+
+    def boundingRect(self) -> QRectF:
+        return self._rect
+
+    def paint(self, painter, *args) -> None:
+        painter.setRenderHint(QPainter.Antialiasing, False)  # 1-pixel lines stay sharp
+        painter.setPen(self._minor_pen)
+        painter.drawPath(self._minor)
+        painter.setPen(self._major_pen)
+        painter.drawPath(self._major)
+
+
 class FrequencyPlot(QWidget):
     """One rectilinear plot of a chosen quantity for every visible trace."""
 
@@ -71,13 +150,13 @@ class FrequencyPlot(QWidget):
         self.plot = pg.PlotWidget(viewBox=self.viewbox, background=theme.chart_bg)
         self.plot.setMenuEnabled(False)
         self.plot.hideButtons()
-        self.plot.showGrid(x=True, y=True, alpha=0.25)
         self.plot.setLabel("bottom", "Frequency", units="Hz")
         self.plot.getAxis("left").setWidth(56)
         for name in ("left", "bottom"):
-            # The axes also draw the grid across the plot, so every marker-line move would
-            # repaint them; keep their pixels until the range or size changes.
+            # Keep the axes' pixels until the range or size changes: a marker line moving
+            # over the plot then repaints only itself.
             self.plot.getAxis(name).setCacheMode(QGraphicsItem.DeviceCoordinateCache)
+        self.grid = PlotGrid(self.plot.getPlotItem(), theme)
         self.note = QLabel("")
         self.note.setObjectName("hint")
         top = QHBoxLayout()
@@ -136,11 +215,15 @@ class FrequencyPlot(QWidget):
         self.log_x = bool(log_x)
         self.plot.setLogMode(x=self.log_x, y=False)
         self.redraw()
+        # Fit the view to the curves now: until then it still holds the old range (hertz read
+        # as log10 hertz, say), which the axis cannot label.
+        self.viewbox.autoRange(padding=None)
         self.plot.enableAutoRange()
 
     def set_theme(self, theme: Theme) -> None:
         self.theme = theme
         self.plot.setBackground(theme.chart_bg)
+        self.grid.set_theme(theme)
         self._set_region_theme()
         self.redraw()
 
