@@ -414,17 +414,14 @@ class MainWindow(QMainWindow):
         self.theme_actions[key].setChecked(True)
 
     def apply_theme(self, theme: Theme, *, widgets: bool = True) -> None:
-        """Colour the window (palette for the application, style sheet for this window)."""
+        """Colour the window: the application's palette, and the chart and plots."""
         from PySide6.QtWidgets import QApplication
 
         from refplane.views import theme as theme_module
 
         app = QApplication.instance()
         if app is not None:
-            theme_module.apply_palette(app, theme)
-        # On the window rather than the application: re-styling every widget of the
-        # application is slow, and dialogs keep the platform's look.
-        self.setStyleSheet(theme_module.stylesheet(theme))
+            theme_module.apply(app, theme)
         if widgets:
             self.chart.set_theme(theme)
             self.plots.set_theme(theme)

@@ -20,7 +20,7 @@ from PySide6.QtWidgets import (QCheckBox, QComboBox, QGraphicsItem, QHBoxLayout,
 
 from refplane.views import plot_series
 from refplane.views.state import ViewState
-from refplane.views.theme import LIGHT, Theme
+from refplane.views.theme import LIGHT, Theme, quiet_label
 
 
 class BandViewBox(pg.ViewBox):
@@ -159,6 +159,7 @@ class FrequencyPlot(QWidget):
         self.grid = PlotGrid(self.plot.getPlotItem(), theme)
         self.note = QLabel("")
         self.note.setObjectName("hint")
+        quiet_label(self.note)
         top = QHBoxLayout()
         top.setContentsMargins(4, 2, 4, 0)
         top.addWidget(self.chooser)
@@ -429,6 +430,7 @@ class CompanionPlots(QWidget):
         self.clear_band = QPushButton("Clear band")
         self.band_label = QLabel("")
         self.band_label.setObjectName("hint")
+        quiet_label(self.band_label)
         bar = QHBoxLayout()
         bar.setContentsMargins(4, 0, 4, 0)
         bar.addWidget(self.log_box)

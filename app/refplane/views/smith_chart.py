@@ -27,7 +27,7 @@ from PySide6.QtWidgets import QGraphicsItem, QLabel, QVBoxLayout, QWidget
 
 from refplane.views import smith_grid
 from refplane.views.state import ViewState
-from refplane.views.theme import LIGHT, Theme
+from refplane.views.theme import LIGHT, Theme, quiet_label
 
 #: How close (in pixels) the cursor must be to a trace to read its frequency or place a marker.
 PICK_PX = 9.0
@@ -373,6 +373,7 @@ class SmithChart(QWidget):
         self.plot.addItem(self.vswr_circle)
         self.hover = QLabel(" ")
         self.hover.setObjectName("hover")
+        quiet_label(self.hover)
         self.hover.setTextInteractionFlags(Qt.TextSelectableByMouse)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(0, 0, 0, 0)

@@ -22,6 +22,7 @@ from PySide6.QtWidgets import (QAbstractItemView, QComboBox, QFormLayout, QHBoxL
 from refplane.analysis.errors import AnalysisError
 from refplane.analysis.sweep import Sweep
 from refplane.views.state import ViewState
+from refplane.views.theme import quiet_label
 
 #: Name of the dashed overlay the panel puts on the fitted trace.
 OVERLAY_NAME = "fitted model"
@@ -135,6 +136,7 @@ class FitPanel(QWidget):
         self.clear_button.setToolTip("Remove the dashed model curve from the trace")
         self.message = QLabel("")
         self.message.setObjectName("hint")
+        quiet_label(self.message)
         self.message.setWordWrap(True)
         self.sentence = QLabel("")
         self.sentence.setWordWrap(True)

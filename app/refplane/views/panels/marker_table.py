@@ -16,6 +16,7 @@ from PySide6.QtWidgets import (QAbstractItemView, QComboBox, QHBoxLayout, QHeade
 
 from refplane.analysis.errors import AnalysisError
 from refplane.views.state import ViewState
+from refplane.views.theme import quiet_label
 
 
 class MarkerTable(QWidget):
@@ -31,6 +32,7 @@ class MarkerTable(QWidget):
         self.add_button = QPushButton("Add marker")
         self.message = QLabel("")
         self.message.setObjectName("hint")
+        quiet_label(self.message)
         self.message.setWordWrap(True)
         self.table = QTableWidget(0, 0)
         self.table.setEditTriggers(QAbstractItemView.NoEditTriggers)
