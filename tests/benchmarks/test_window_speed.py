@@ -52,7 +52,10 @@ REFPLANE = textwrap.dedent("""
     def check():
         from refplane.views.main_window import MainWindow
         for w in app.topLevelWidgets():
-            if isinstance(w, MainWindow) and w.state.traces() and w.state.markers():
+            # Painted means with everything drawn: the demo trace and its marker in the
+            # state, and no plot still waiting to draw its curves.
+            if (isinstance(w, MainWindow) and w.state.traces() and w.state.markers()
+                    and not any(p._redraw_timer.isActive() for p in w.plots.plots())):
                 app.processEvents()
                 w.grab()  # painted, with the demo sweep and its marker
                 print("painted", flush=True)

@@ -10,6 +10,7 @@ current trace. :class:`CompanionPlots` stacks two of them with a shared frequenc
 from __future__ import annotations
 
 import math
+import time
 
 import numpy as np
 import pyqtgraph as pg
@@ -142,6 +143,8 @@ class FrequencyPlot(QWidget):
         self.state = state
         self.theme = theme
         self.log_x = False
+        self.last_redraw_s = 0.0
+        """How long the latest redraw took, in seconds."""
         self.chooser = QComboBox()
         for q in plot_series.QUANTITIES:
             self.chooser.addItem(q.title, q.key)
@@ -265,6 +268,7 @@ class FrequencyPlot(QWidget):
     # ----------------------------------------------------------------- slots
     def redraw(self, *_args) -> None:
         """Draw every visible trace's curves for the chosen quantity (now)."""
+        started = time.perf_counter()
         self._redraw_timer.stop()
         for item in self._curves:
             self.plot.removeItem(item)
@@ -300,6 +304,7 @@ class FrequencyPlot(QWidget):
             self.note.setText("R solid, X dashed" if q.key == "r_x" and shown else "")
         self._sync_lines()
         self._on_band_changed()
+        self.last_redraw_s = time.perf_counter() - started
         self.redrawn.emit()
 
     def _add_curve(self, x: np.ndarray, y: np.ndarray, pen) -> pg.PlotDataItem:
@@ -416,11 +421,10 @@ class CompanionPlots(QWidget):
         self.state = state
         self.upper = FrequencyPlot(state, "return_loss", theme=theme)
         self.lower = FrequencyPlot(state, "r_x", theme=theme)
-        # Stagger the two redraws so the event loop (and the user) gets a turn between them:
-        # the lower plot's pending redraw waits until a little after the upper one's, so the
-        # upper plot is painted in between (when both were due at once, as after a long step,
-        # the two redraws and then all the painting ran back to back).
-        self.lower._redraw_timer.setInterval(25)
+        # After a slow redraw of the upper plot (long sweeps), the lower plot's pending redraw
+        # waits a little, so the event loop (and the user) gets a turn and the upper plot is
+        # painted in between; otherwise the two redraws and all the painting would run back
+        # to back. Quick redraws (small sweeps, start-up) are not held back.
         self.upper.redrawn.connect(self._stagger_lower)
         self.lower.plot.setXLink(self.upper.plot)
         self.log_box = QCheckBox("Log frequency")
@@ -451,10 +455,16 @@ class CompanionPlots(QWidget):
         state.bandChanged.connect(self._show_band)
         self._show_band()
 
+    #: An upper-plot redraw slower than this holds the lower plot's back by :attr:`STAGGER_MS`.
+    SLOW_REDRAW_S = 0.010
+    STAGGER_MS = 25
+
     def _stagger_lower(self) -> None:
         timer = self.lower._redraw_timer
-        if timer.isActive():
-            timer.start()  # restart: due 25 ms from now
+        if timer.isActive() and self.upper.last_redraw_s > self.SLOW_REDRAW_S:
+            timer.start(self.STAGGER_MS)
+        else:
+            timer.setInterval(0)
 
     def plots(self) -> list[FrequencyPlot]:
         return [self.upper, self.lower]
