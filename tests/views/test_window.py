@@ -329,8 +329,11 @@ def test_window_composes_plane_fit_and_calibration(qtbot, window):
     from refplane.views.panels.offsets_panel import OffsetsPanel
 
     assert isinstance(window.docks["Reference plane"].widget(), OffsetsPanel)
-    assert isinstance(window.docks["Fit"].widget(), FitPanel)
+    # The fit tab is built the first time it is shown.
+    window.docks["Fit"].raise_()
+    qtbot.waitUntil(lambda: isinstance(window.docks["Fit"].widget(), FitPanel), timeout=2000)
     assert window.docks["Fit"].widget().state is window.state
+    assert window.fit_panel() is window.docks["Fit"].widget()
     texts = [a.text() for a in window.tools_menu.actions()]
     assert "Calibrate from standards…" in texts
     assert window.tools_menu.menuAction().isVisible()

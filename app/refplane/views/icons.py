@@ -1,4 +1,4 @@
-"""The application icon, drawn from SVG text kept here so it ships inside the package."""
+"""The application icon: our own mark, kept as SVG text (also in resources/) and painted in code."""
 
 from __future__ import annotations
 
@@ -13,11 +13,46 @@ APP_ICON_SVG = """<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 64 64">
 </svg>"""
 
 
+def paint_icon(size: int = 64):
+    """The same mark as :data:`APP_ICON_SVG`, painted with QPainter into a ``size`` pixel image.
+
+    Painting it directly saves loading Qt's SVG image plug-in at start-up.
+    """
+    from PySide6.QtCore import QPointF, QRectF, Qt
+    from PySide6.QtGui import QColor, QImage, QPainter, QPainterPath, QPen
+
+    image = QImage(size, size, QImage.Format_ARGB32_Premultiplied)
+    image.fill(Qt.transparent)
+    p = QPainter(image)
+    try:
+        p.setRenderHint(QPainter.Antialiasing, True)
+        p.scale(size / 64.0, size / 64.0)  # drawn in the SVG's 64-unit view box
+        p.setPen(Qt.NoPen)
+        p.setBrush(QColor("#1f2a44"))
+        p.drawRoundedRect(QRectF(2, 2, 60, 60), 14, 14)
+        p.setBrush(Qt.NoBrush)
+        p.setPen(QPen(QColor("#e4e9f5"), 3))
+        p.drawEllipse(QPointF(32, 32), 21, 21)
+        p.setPen(QPen(QColor("#7d8db0"), 2))
+        p.drawEllipse(QPointF(39, 32), 14, 14)
+        p.drawLine(QPointF(11, 32), QPointF(53, 32))
+        curve = QPainterPath(QPointF(22, 46))
+        curve.cubicTo(QPointF(30, 30), QPointF(40, 24), QPointF(47, 19))
+        p.setPen(QPen(QColor("#56B4E9"), 3.5, Qt.SolidLine, Qt.RoundCap))
+        p.drawPath(curve)
+        p.setPen(Qt.NoPen)
+        p.setBrush(QColor("#E69F00"))
+        p.drawEllipse(QPointF(47, 19), 4, 4)
+    finally:
+        p.end()
+    return image
+
+
 def app_icon():
-    """The icon as a QIcon."""
-    from PySide6.QtCore import QByteArray
+    """The icon as a QIcon (painted at a few sizes so it stays sharp in title bars and docks)."""
     from PySide6.QtGui import QIcon, QPixmap
 
-    pix = QPixmap()
-    pix.loadFromData(QByteArray(APP_ICON_SVG.encode()), "SVG")
-    return QIcon(pix)
+    icon = QIcon()
+    for size in (32, 64, 128):
+        icon.addPixmap(QPixmap.fromImage(paint_icon(size)))
+    return icon

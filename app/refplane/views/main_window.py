@@ -118,14 +118,30 @@ class MainWindow(QMainWindow):
 
     def _add_tool_panels(self) -> None:
         """The reference-plane and fit panels (tabbed under the trace list) and the calibration dialog."""
-        from refplane.views.panels.fit_panel import FitPanel
         from refplane.views.panels.offsets_panel import OffsetsPanel
 
         plane = self.add_side_panel("Reference plane", OffsetsPanel(self.state))
-        fit = self.add_side_panel("Fit", FitPanel(self.state))
+        # The fit panel starts behind the reference-plane tab: build it when first shown, so
+        # start-up does not pay for a panel nobody has looked at yet.
+        fit = self.add_side_panel("Fit", QWidget())
+        fit.visibilityChanged.connect(self._build_fit_panel)
         self.tabifyDockWidget(plane, fit)
         plane.raise_()
         self.add_tool_action("Calibrate from standards…", self._open_calibration, shortcut="Ctrl+K")
+
+    def _build_fit_panel(self, visible: bool) -> None:
+        from refplane.views.panels.fit_panel import FitPanel
+
+        dock = self.docks["Fit"]
+        if visible and not isinstance(dock.widget(), FitPanel):
+            placeholder = dock.widget()
+            dock.setWidget(FitPanel(self.state))
+            placeholder.deleteLater()
+
+    def fit_panel(self):
+        """The fit panel (built now if it has not been shown yet)."""
+        self._build_fit_panel(True)
+        return self.docks["Fit"].widget()
 
     def _open_calibration(self) -> None:
         from refplane.views.calibration_dialog import CalibrationDialog  # imported when first used
