@@ -38,6 +38,9 @@ from refplane.views.state import ViewState
 from refplane.views.theme import THEMES, Theme
 
 MAX_RECENT = 8
+#: Sweeps up to this many points are drawn in the plots as soon as they arrive, so the next
+#: paint shows them complete; longer ones are drawn a plot at a time to keep the window lively.
+DRAW_AT_ONCE_POINTS = 20_000
 
 
 def _settings() -> QSettings:
@@ -269,7 +272,12 @@ class MainWindow(QMainWindow):
         return [str(v) for v in (value or [])]
 
     def _remember(self, path: str) -> None:
+        from refplane.views.demo import demo_path
+
         path = os.path.abspath(path)
+        demo = demo_path()
+        if demo is not None and path == os.path.abspath(demo):
+            return  # the bundled demo is not one of the user's files: keep it out of the list
         files = [path] + [p for p in self.recent_files() if p != path]
         _settings().setValue("recent_files", files[:MAX_RECENT])
 
@@ -298,6 +306,8 @@ class MainWindow(QMainWindow):
         for f in self._pending_markers.pop(request.path, ()):
             if sweep.freq_hz[0] <= f <= sweep.freq_hz[-1]:
                 self.state.add_marker(tid, f)
+        if sweep.n_points <= DRAW_AT_ONCE_POINTS:
+            self.plots.flush()
         self._remember(request.path)
         self.statusBar().showMessage(
             f"Opened {os.path.basename(request.path)}: {sweep.n_points} points, {sweep.n_ports} port(s)", 5000)

@@ -145,6 +145,7 @@ class FrequencyPlot(QWidget):
         self.log_x = False
         self.last_redraw_s = 0.0
         """How long the latest redraw took, in seconds."""
+        self._labelled: str | None = None
         self.chooser = QComboBox()
         for q in plot_series.QUANTITIES:
             self.chooser.addItem(q.title, q.key)
@@ -276,8 +277,10 @@ class FrequencyPlot(QWidget):
         q = plot_series.BY_KEY[self.quantity]
         unit = q.unit
         axis = self.plot.getAxis("left")
-        axis.enableAutoSIPrefix(unit == "Ω")
-        self.plot.setLabel("left", q.axis, units=unit or None)
+        if self._labelled != q.key:  # relabelling lays the axis text out anew: only on a change
+            axis.enableAutoSIPrefix(unit == "Ω")
+            self.plot.setLabel("left", q.axis, units=unit or None)
+            self._labelled = q.key
         shown = 0
         for t in self.state.traces():
             if not t.visible:
@@ -468,6 +471,11 @@ class CompanionPlots(QWidget):
 
     def plots(self) -> list[FrequencyPlot]:
         return [self.upper, self.lower]
+
+    def flush(self) -> None:
+        """Draw now whatever either plot has pending."""
+        for p in self.plots():
+            p.flush()
 
     def set_log_x(self, log_x: bool) -> None:
         for p in self.plots():
