@@ -20,6 +20,7 @@ from PySide6.QtWidgets import (QCheckBox, QComboBox, QGraphicsItem, QHBoxLayout,
                                QPushButton, QVBoxLayout, QWidget)
 
 from refplane.views import plot_series
+from refplane.views.line_drawing import line_mode
 from refplane.views.state import ViewState
 from refplane.views.theme import LIGHT, Theme, quiet_label
 
@@ -311,7 +312,9 @@ class FrequencyPlot(QWidget):
         self.redrawn.emit()
 
     def _add_curve(self, x: np.ndarray, y: np.ndarray, pen) -> pg.PlotDataItem:
+        pen, mode = line_mode(pen)
         item = pg.PlotDataItem(x, y, pen=pen, connect="finite", antialias=True)
+        item.curve.setSegmentedLineMode(mode)
         self.plot.addItem(item)
         # Long sweeps: draw only what is in view, thinned to about two points per pixel
         # column keeping each column's extremes, so nothing visible is lost. (Set after

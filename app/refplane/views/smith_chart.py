@@ -26,6 +26,7 @@ from PySide6.QtGui import QColor, QFont, QFontMetricsF, QPainter, QPainterPath, 
 from PySide6.QtWidgets import QGraphicsItem, QLabel, QVBoxLayout, QWidget
 
 from refplane.views import smith_grid
+from refplane.views.line_drawing import apply_line_mode
 from refplane.views.state import ViewState
 from refplane.views.theme import LIGHT, Theme, quiet_label
 
@@ -35,8 +36,24 @@ PICK_PX = 9.0
 HOME = 1.16
 
 
-def _path(x: np.ndarray, y: np.ndarray) -> QPainterPath:
-    return pg.arrayToQPath(np.asarray(x, float), np.asarray(y, float), connect="finite")
+def _arcs_path(arcs) -> QPainterPath:
+    """One path holding every arc (true arcs: Qt draws each as a few curve pieces)."""
+    path = QPainterPath()
+    for arc in arcs:
+        rect = QRectF(arc.cx - arc.radius, arc.cy - arc.radius, 2 * arc.radius, 2 * arc.radius)
+        # Qt measures angles in degrees, anticlockwise for a y-down page; the chart's y runs
+        # up (the view flips it), so a chart angle θ is Qt's −θ.
+        start, span = -math.degrees(arc.start_rad), -math.degrees(arc.span_rad)
+        path.arcMoveTo(rect, start)
+        path.arcTo(rect, start, span)
+    return path
+
+
+def _line_path(ends) -> QPainterPath:
+    (x0, y0), (x1, y1) = ends
+    path = QPainterPath(QPointF(x0, y0))
+    path.lineTo(QPointF(x1, y1))
+    return path
 
 
 def _pen(colour: str, width: float = 1.0, style=Qt.SolidLine, alpha: float = 1.0) -> QPen:
@@ -81,13 +98,13 @@ class GridItem(pg.GraphicsObject):
         t = self._theme
         paths = []
         if self._admittance is not None:
-            paths.append((_path(*self._admittance.minor), _pen(t.admittance, 0.8, alpha=0.6)))
-            paths.append((_path(*self._admittance.major), _pen(t.admittance, 1.0)))
+            paths.append((_arcs_path(self._admittance.minor), _pen(t.admittance, 0.8, alpha=0.6)))
+            paths.append((_arcs_path(self._admittance.major), _pen(t.admittance, 1.0)))
         g = self._impedance
-        paths.append((_path(*g.minor), _pen(t.grid_minor, 0.8)))
-        paths.append((_path(*g.major), _pen(t.grid_major, 1.0)))
-        paths.append((_path(*g.axis), _pen(t.grid_major, 1.0)))
-        paths.append((_path(*smith_grid.unit_circle()), _pen(t.rim, 1.6)))
+        paths.append((_arcs_path(g.minor), _pen(t.grid_minor, 0.8)))
+        paths.append((_arcs_path(g.major), _pen(t.grid_major, 1.0)))
+        paths.append((_line_path(g.axis), _pen(t.grid_major, 1.0)))
+        paths.append((_arcs_path([smith_grid.unit_circle()]), _pen(t.rim, 1.6)))
         self._paths = paths
         self.labels.set_colour(t.label)
         self.prepareGeometryChange()
@@ -195,7 +212,7 @@ class TraceItem(pg.ItemGroup):
     def set_style(self, colour: str, *, width: float = 2.0, dashed: bool = False, alpha: float = 1.0) -> None:
         """Colour, width (px), dash and opacity of the curve and its end symbols."""
         pen = _pen(colour, width, Qt.DashLine if dashed else Qt.SolidLine, alpha)
-        self.curve.setPen(pen)
+        apply_line_mode(self.curve, pen)
         c = QColor(colour)
         c.setAlphaF(alpha)
         self.start.setPen(pg.mkPen(c, width=1.6))

@@ -1,18 +1,17 @@
-"""Geometry of the Smith chart grid, as plain numpy arrays (no Qt here, so it is tested alone).
+"""Geometry of the Smith chart grid, as plain numbers and numpy arrays (no Qt here, so it is tested alone).
 
 The chart plots the reflection coefficient Γ = (z − 1)/(z + 1) of a normalised impedance
-z = r + jx (textbook bilinear map, e.g. Pozar, *Microwave Engineering*, ch. 2). Every
-grid line is produced by mapping a line of constant r or constant x through that map, so
-each lies inside the unit circle by construction (r ≥ 0 ⇔ |Γ| ≤ 1) and needs no clipping.
-The admittance grid is the impedance grid turned half a turn (Γ → −Γ), since
-y = 1/z maps Γ to −Γ.
-
-Curves are returned as ``(x, y)`` arrays with NaN between separate lines, so one item draws
-a whole family with ``connect="finite"``.
+z = r + jx (textbook bilinear map, e.g. Pozar, *Microwave Engineering*, ch. 2). The map takes
+lines to circles, so every grid line is an arc of a circle, kept exactly as centre, radius and
+angles (:class:`GridArc`) and drawn as a true arc: a few curve pieces per line instead of
+hundreds of points. A line of constant r ≥ 0 or constant x over r ≥ 0 lies inside the unit
+circle (r ≥ 0 ⇔ |Γ| ≤ 1), so no line needs clipping. The admittance grid is the impedance
+grid turned half a turn (Γ → −Γ), since y = 1/z maps Γ to −Γ.
 """
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -24,61 +23,87 @@ MINOR_VALUES = (0.1, 0.3, 0.4, 0.6, 0.7, 0.8, 0.9, 1.5, 3.0, 4.0, 10.0)
 #: How far (in the other coordinate) minor lines run before they stop.
 MINOR_EXTENT = 3.0
 
-_N = 360  # points per grid line: smooth at any zoom a user would choose
 
-
-def _to_gamma(z: np.ndarray) -> np.ndarray:
+def _to_gamma(z):
     return (z - 1) / (z + 1)
 
 
-def _spread(limit: float | None, n: int) -> np.ndarray:
-    # Samples 0 … limit (or 0 … ∞) spaced so that points are roughly evenly spread on the
-    # chart: t = tan(φ) with φ uniform maps to an even angle along the circle.
-    if limit is None:
-        phi = np.linspace(0.0, np.pi / 2, n)
-        t = np.tan(phi)
-        t[-1] = 1e12  # tan(π/2): the point Γ = 1 itself
-        return t
-    return np.tan(np.linspace(0.0, np.arctan(limit), n))
+@dataclass(frozen=True)
+class GridArc:
+    """One grid line: an arc of the circle with centre (cx, cy) and ``radius``, on the Γ plane.
+
+    The arc starts at angle ``start_rad`` (measured from the +Re Γ direction, anticlockwise as
+    seen on the chart, Im Γ upwards) and turns through ``span_rad`` (negative: clockwise).
+    """
+
+    cx: float
+    cy: float
+    radius: float
+    start_rad: float
+    span_rad: float
+
+    def points(self, n: int = 361) -> tuple[np.ndarray, np.ndarray]:
+        """``n`` points along the arc, first to last, as (Re Γ, Im Γ) arrays."""
+        a = self.start_rad + np.linspace(0.0, 1.0, n) * self.span_rad
+        return self.cx + self.radius * np.cos(a), self.cy + self.radius * np.sin(a)
+
+    def turned(self) -> GridArc:
+        """The same arc turned half a turn about Γ = 0 (Γ → −Γ)."""
+        return GridArc(-self.cx, -self.cy, self.radius, self.start_rad + math.pi, self.span_rad)
 
 
-def resistance_circle(r: float, x_limit: float | None = None, n: int = _N) -> tuple[np.ndarray, np.ndarray]:
-    """The line of constant normalised resistance ``r``, for |x| up to ``x_limit`` (None = all)."""
-    t = _spread(x_limit, n // 2)
-    x = np.concatenate([-t[::-1], t[1:]])
-    g = _to_gamma(r + 1j * x)
-    return g.real, g.imag
+def _angle(arc_cx: float, arc_cy: float, z: complex) -> float:
+    g = complex(_to_gamma(complex(z)))
+    return math.atan2(g.imag - arc_cy, g.real - arc_cx) % (2 * math.pi)
 
 
-def reactance_arc(x: float, r_limit: float | None = None, n: int = _N) -> tuple[np.ndarray, np.ndarray]:
-    """The line of constant normalised reactance ``x``, for r from 0 to ``r_limit`` (None = ∞)."""
-    g = _to_gamma(_spread(r_limit, n) + 1j * x)
-    return g.real, g.imag
+def resistance_circle(r: float, x_limit: float | None = None) -> GridArc:
+    """The line of constant normalised resistance ``r`` ≥ 0, for |x| up to ``x_limit`` (None = all).
+
+    Textbook circle: centre (r/(1+r), 0), radius 1/(1+r); the whole circle touches Γ = 1.
+    """
+    if not r >= 0:
+        raise ValueError("a resistance circle needs r ≥ 0")
+    cx, radius = r / (1 + r), 1 / (1 + r)
+    if x_limit is None:
+        return GridArc(cx, 0.0, radius, 0.0, 2 * math.pi)
+    # Γ(r + jX) lies above the axis at angle a in (0, π); the line runs from there through
+    # Γ(r) (angle π) round to Γ(r − jX) at 2π − a.
+    a = _angle(cx, 0.0, complex(r, x_limit))
+    return GridArc(cx, 0.0, radius, a, 2 * math.pi - 2 * a)
 
 
-def unit_circle(n: int = 721) -> tuple[np.ndarray, np.ndarray]:
+def reactance_arc(x: float, r_limit: float | None = None) -> GridArc:
+    """The line of constant normalised reactance ``x`` ≠ 0, for r from 0 to ``r_limit`` (None = ∞).
+
+    Textbook circle: centre (1, 1/x), radius 1/|x|; the line runs from the rim (r = 0) towards
+    the open-circuit point Γ = 1 (r = ∞).
+    """
+    if x == 0 or not math.isfinite(x):
+        raise ValueError("a reactance arc needs a finite x ≠ 0 (x = 0 is the real axis)")
+    ax = abs(x)
+    cy = 1 / ax
+    # Worked for +|x| (centre above the axis), where the line turns anticlockwise from the rim
+    # (angle in (π/2, 3π/2)) to Γ = 1 straight below the centre (3π/2); −x is its mirror image.
+    start = _angle(1.0, cy, complex(0.0, ax))
+    end = 1.5 * math.pi if r_limit is None else _angle(1.0, cy, complex(r_limit, ax))
+    if x > 0:
+        return GridArc(1.0, cy, cy, start, end - start)
+    return GridArc(1.0, -cy, cy, -start, start - end)
+
+
+def unit_circle() -> GridArc:
     """The outer edge |Γ| = 1."""
-    a = np.linspace(0.0, 2 * np.pi, n)
-    return np.cos(a), np.sin(a)
+    return GridArc(0.0, 0.0, 1.0, 0.0, 2 * math.pi)
 
 
 def vswr_circle(vswr: float, n: int = 361) -> tuple[np.ndarray, np.ndarray]:
-    """The circle of constant VSWR: |Γ| = (VSWR − 1)/(VSWR + 1) (textbook identity)."""
+    """The circle of constant VSWR: |Γ| = (VSWR − 1)/(VSWR + 1) (textbook identity), as points."""
     if not vswr >= 1:
         raise ValueError("a VSWR is at least 1")
     rho = (vswr - 1) / (vswr + 1)
     a = np.linspace(0.0, 2 * np.pi, n)
     return rho * np.cos(a), rho * np.sin(a)
-
-
-def _join(curves: list[tuple[np.ndarray, np.ndarray]]) -> tuple[np.ndarray, np.ndarray]:
-    if not curves:
-        return np.empty(0), np.empty(0)
-    xs, ys = [], []
-    for cx, cy in curves:
-        xs += [cx, [np.nan]]
-        ys += [cy, [np.nan]]
-    return np.concatenate(xs[:-1]), np.concatenate(ys[:-1])
 
 
 @dataclass(frozen=True)
@@ -97,14 +122,14 @@ class GridLabel:
 
 @dataclass(frozen=True)
 class GridLines:
-    """A whole grid as NaN-separated polylines and labels."""
+    """A whole grid as arcs, the real axis, and labels."""
 
-    major: tuple[np.ndarray, np.ndarray]
+    major: tuple[GridArc, ...]
     """Stronger lines (the labelled values)."""
-    minor: tuple[np.ndarray, np.ndarray]
+    minor: tuple[GridArc, ...]
     """Fainter in-between lines."""
-    axis: tuple[np.ndarray, np.ndarray]
-    """The real axis (x = 0), from short to open."""
+    axis: tuple[tuple[float, float], tuple[float, float]]
+    """The real axis (x = 0), from short to open: its two ends as (Re Γ, Im Γ)."""
     labels: tuple[GridLabel, ...]
     """Value labels."""
 
@@ -119,35 +144,31 @@ def impedance_grid(major=MAJOR_VALUES, minor=MINOR_VALUES, minor_extent: float =
     Resistance labels sit just above the real axis; reactance labels just outside the unit
     circle where each arc meets it, with sign (+ inductive, upper half; − capacitive, lower).
     """
-    major_curves, minor_curves = [], []
+    major_arcs, minor_arcs = [], []
     for v in major:
-        major_curves.append(resistance_circle(v))
-        major_curves.append(reactance_arc(v))
-        major_curves.append(reactance_arc(-v))
+        major_arcs += [resistance_circle(v), reactance_arc(v), reactance_arc(-v)]
     for v in minor:
-        minor_curves.append(resistance_circle(v, x_limit=minor_extent))
-        minor_curves.append(reactance_arc(v, r_limit=minor_extent))
-        minor_curves.append(reactance_arc(-v, r_limit=minor_extent))
+        minor_arcs += [resistance_circle(v, x_limit=minor_extent), reactance_arc(v, r_limit=minor_extent),
+                       reactance_arc(-v, r_limit=minor_extent)]
     labels = [GridLabel("0", -1.0, 0.0, (1.05, 0.5)), GridLabel("∞", 1.0, 0.0, (-0.15, 0.5))]
     for v in major:
         g = (v - 1) / (v + 1)
         labels.append(GridLabel(_fmt(v), g, 0.0, (1.0, 1.0)))
         for sign in (1, -1):
-            e = complex(_to_gamma(np.complex128(1j * sign * v)))
+            e = complex(_to_gamma(complex(0.0, sign * v)))
             # Outside the rim, pushed along the radius.
             anchor = (0.5 - 0.55 * e.real, 0.5 + 0.6 * e.imag)
             text = f"{'+' if sign > 0 else '−'}j{_fmt(v)}"
             labels.append(GridLabel(text, e.real * 1.02, e.imag * 1.02, anchor))
-    axis = (np.array([-1.0, 1.0]), np.array([0.0, 0.0]))
-    return GridLines(major=_join(major_curves), minor=_join(minor_curves), axis=axis,
+    return GridLines(major=tuple(major_arcs), minor=tuple(minor_arcs), axis=((-1.0, 0.0), (1.0, 0.0)),
                      labels=tuple(labels))
 
 
 def admittance_grid(major=MAJOR_VALUES, minor=MINOR_VALUES, minor_extent: float = MINOR_EXTENT) -> GridLines:
     """The admittance grid: the impedance grid turned half a turn (Γ → −Γ), without labels."""
     imp = impedance_grid(major, minor, minor_extent)
-    neg = lambda c: (-c[0], -c[1])  # noqa: E731
-    return GridLines(major=neg(imp.major), minor=neg(imp.minor), axis=imp.axis, labels=())
+    return GridLines(major=tuple(a.turned() for a in imp.major), minor=tuple(a.turned() for a in imp.minor),
+                     axis=imp.axis, labels=())
 
 
 def nearest_on_polyline(px: float, py: float, x: np.ndarray, y: np.ndarray,
