@@ -21,6 +21,7 @@ from PySide6.QtWidgets import (QCheckBox, QComboBox, QGraphicsItem, QHBoxLayout,
 
 from refplane.views import plot_series
 from refplane.views.line_drawing import line_mode
+from refplane.views.plot_area import PlotArea, PlotView
 from refplane.views.state import ViewState
 from refplane.views.theme import LIGHT, Theme, quiet_label
 
@@ -61,7 +62,7 @@ class PlotGrid(pg.GraphicsObject):
     zoom step.)
     """
 
-    def __init__(self, plot_item: pg.PlotItem, theme: Theme = LIGHT):
+    def __init__(self, plot_item: PlotArea, theme: Theme = LIGHT):
         super().__init__()
         self._plot = plot_item
         self._rect = QRectF()
@@ -151,10 +152,8 @@ class FrequencyPlot(QWidget):
         for q in plot_series.QUANTITIES:
             self.chooser.addItem(q.title, q.key)
         self.chooser.setCurrentIndex(self.chooser.findData(quantity))
-        self.viewbox = BandViewBox(enableMenu=False)  # the menu is disabled below anyway
-        self.plot = pg.PlotWidget(viewBox=self.viewbox, background=theme.chart_bg)
-        self.plot.setMenuEnabled(False)
-        self.plot.hideButtons()
+        self.viewbox = BandViewBox(enableMenu=False)
+        self.plot = PlotView(self.viewbox, background=theme.chart_bg)
         self.plot.setLabel("bottom", "Frequency", units="Hz")
         self.plot.getAxis("left").setWidth(56)
         for name in ("left", "bottom"):
