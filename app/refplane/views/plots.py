@@ -178,11 +178,7 @@ class FrequencyPlot(QWidget):
 
         self._curves: list[pg.PlotDataItem] = []
         self._lines: dict[int, pg.InfiniteLine] = {}
-        self.region = pg.LinearRegionItem(movable=True)
-        self.region.setZValue(-5)
-        self.region.setVisible(False)
-        self.plot.addItem(self.region)
-        self._set_region_theme()
+        self._region: pg.LinearRegionItem | None = None  # made when a band is first chosen
 
         # State changes redraw on the next turn of the event loop, once however many signals
         # arrived: a new 100 000-point trace then costs the UI thread several short steps
@@ -193,8 +189,6 @@ class FrequencyPlot(QWidget):
         self._redraw_timer.timeout.connect(self.redraw)
         self.chooser.currentIndexChanged.connect(self.redraw)
         self.viewbox.sigBand.connect(self._on_band_dragged)
-        self.region.sigRegionChanged.connect(lambda: self._on_region_moved(False))
-        self.region.sigRegionChangeFinished.connect(lambda: self._on_region_moved(True))
         self.plot.scene().sigMouseClicked.connect(self._on_clicked)
         state.tracesChanged.connect(self.schedule_redraw)
         state.markersChanged.connect(self._sync_lines)
@@ -258,7 +252,23 @@ class FrequencyPlot(QWidget):
     def _freq(self, x: float) -> float:
         return 10.0 ** x if self.log_x else x
 
+    @property
+    def region(self) -> pg.LinearRegionItem:
+        """The shaded band (built on first use: most sessions never choose a band)."""
+        if self._region is None:
+            region = pg.LinearRegionItem(movable=True)
+            region.setZValue(-5)
+            region.setVisible(False)
+            self.plot.addItem(region, ignoreBounds=True)
+            region.sigRegionChanged.connect(lambda: self._on_region_moved(False))
+            region.sigRegionChangeFinished.connect(lambda: self._on_region_moved(True))
+            self._region = region
+            self._set_region_theme()
+        return self._region
+
     def _set_region_theme(self) -> None:
+        if self._region is None:
+            return
         c = QColor(self.theme.accent)
         c.setAlphaF(0.14)
         self.region.setBrush(c)
@@ -383,7 +393,8 @@ class FrequencyPlot(QWidget):
         self._syncing_region = True
         try:
             if band is None or (self.log_x and band[0] <= 0):
-                self.region.setVisible(False)
+                if self._region is not None:
+                    self._region.setVisible(False)
             else:
                 self.region.setRegion((self._x(band[0]), self._x(band[1])))
                 self.region.setVisible(True)
