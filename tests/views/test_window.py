@@ -424,3 +424,19 @@ def test_plot_grid_lines_sit_on_the_axis_ticks_in_linear_and_log_mode(qtbot, win
     major_x, _, _, _ = plot.grid.tick_positions()
     assert major_x and all(x0 <= v <= x1 for v in major_x)
     assert all(abs(v - round(v)) < 1e-9 for v in major_x)  # whole decades: 1 MHz, 10 MHz, …
+
+
+@pytest.mark.parametrize("screen, expect_w, expect_h", [
+    ((0, 0, 1280, 1024), 1256, 900),   # narrower than the default: shrinks to fit, keeps height
+    ((0, 0, 1366, 728), 1342, 680),    # a common laptop screen, less the task bar
+    ((0, 0, 2560, 1400), 1440, 900),   # a large monitor: the default size stays
+])
+def test_window_fits_on_the_screen(qtbot, screen, expect_w, expect_h):
+    from PySide6.QtCore import QRect
+
+    w = MainWindow()
+    qtbot.addWidget(w)
+    area = QRect(*screen)
+    w.fit_to(area)
+    assert (w.width(), w.height()) == (expect_w, expect_h)
+    assert area.contains(QRect(w.x(), w.y(), w.width(), w.height()))

@@ -158,5 +158,9 @@ def _build_window(files: list[str]):
     else:
         window = MainWindow()
         window.statusBar().showMessage("Open a sweep with File ▸ Open, or drop files on the window.")
+    screen = app.primaryScreen()
+    if screen is not None and app.platformName() not in ("offscreen", "minimal"):
+        # A virtual (offscreen) screen has no size a person sees; keep the window's own there.
+        window.fit_to(screen.availableGeometry())
     window.show()
     return app, window

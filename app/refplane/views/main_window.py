@@ -24,7 +24,7 @@ from __future__ import annotations
 import os
 from typing import Callable, Sequence
 
-from PySide6.QtCore import QFileSystemWatcher, QSettings, Qt, QTimer
+from PySide6.QtCore import QFileSystemWatcher, QRect, QSettings, Qt, QTimer
 from PySide6.QtGui import QAction, QActionGroup, QKeySequence
 from PySide6.QtWidgets import (QDockWidget, QFileDialog, QInputDialog, QLabel, QMainWindow,
                                QMessageBox, QProgressBar, QPushButton, QSplitter, QWidget)
@@ -38,6 +38,8 @@ from refplane.views.state import ViewState
 from refplane.views.theme import THEMES, Theme
 
 MAX_RECENT = 8
+#: The window's first size (pixels): room for the chart, both plots and the panels.
+DEFAULT_SIZE = (1440, 900)
 #: Sweeps up to this many points are drawn in the plots as soon as they arrive, so the next
 #: paint shows them complete; longer ones are drawn a plot at a time to keep the window lively.
 DRAW_AT_ONCE_POINTS = 20_000
@@ -105,7 +107,20 @@ class MainWindow(QMainWindow):
         self.state.tracesChanged.connect(self._update_title)
         self.state.tracesChanged.connect(self._watch_files)
         self.apply_theme(self.theme, widgets=False)  # chart and plots were built in this theme
-        self.resize(1440, 900)
+        self.resize(*DEFAULT_SIZE)
+
+    def fit_to(self, available: QRect) -> None:
+        """Shrink the window to fit ``available`` (a screen's free area) and centre it there.
+
+        The default size suits a desktop monitor; on a laptop screen the window would run off
+        the edge, with the right-hand plots out of reach.
+        """
+        margin_w, margin_h = 24, 48  # room for the window frame and title bar
+        w = min(self.width(), max(640, available.width() - margin_w))
+        h = min(self.height(), max(480, available.height() - margin_h))
+        self.resize(w, h)
+        self.move(available.x() + max(0, (available.width() - w) // 2),
+                  available.y() + max(0, (available.height() - h - margin_h // 2) // 2))
 
     # ================================================================ layout
     def _dock(self, title: str, widget: QWidget, area) -> QDockWidget:
