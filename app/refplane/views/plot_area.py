@@ -102,25 +102,33 @@ class PlotView(pg.GraphicsView):
         return self.area
 
     def getViewBox(self) -> pg.ViewBox:
+        """The view box."""
         return self.area.vb
 
     def getAxis(self, name: str) -> pg.AxisItem:
+        """The ``"left"`` or ``"bottom"`` axis."""
         return self.area.getAxis(name)
 
     def addItem(self, item: QGraphicsItem, ignoreBounds: bool = False) -> None:
+        """Put ``item`` in the view (see :meth:`PlotArea.addItem`)."""
         self.area.addItem(item, ignoreBounds=ignoreBounds)
 
     def removeItem(self, item: QGraphicsItem) -> None:
+        """Take ``item`` out of the view."""
         self.area.removeItem(item)
 
     def setLabel(self, axis: str, text: str | None = None, units: str | None = None) -> None:
+        """Title (and SI unit) of an axis."""
         self.area.setLabel(axis, text, units=units)
 
     def setLogMode(self, x: bool | None = None, y: bool | None = None) -> None:
+        """Logarithmic frequency axis on or off."""
         self.area.setLogMode(x, y)
 
     def enableAutoRange(self) -> None:
+        """Fit the view to the curves again."""
         self.area.enableAutoRange()
 
     def setXLink(self, other: PlotArea | PlotView) -> None:
+        """Share the frequency range with another plot."""
         self.area.setXLink(other)
