@@ -139,7 +139,7 @@ def _reference(qtbot, app, sweep):
 def test_marker_move_and_redraw_100k_points(qtbot, qapp):
     from refplane.views.main_window import MainWindow
     from refplane.views.smith_chart import SmithChart
-    from refplane.views.state import ViewState
+    from refplane.session.model import Session
 
     sweep = _big_sweep()
     ref = _reference(qtbot, qapp, sweep)
@@ -158,7 +158,7 @@ def test_marker_move_and_redraw_100k_points(qtbot, qapp):
 
     move = _median_time(drag_step)
 
-    state = ViewState()
+    state = Session()
     chart = SmithChart(state)
     qtbot.addWidget(chart)
     chart.resize(700, 700)

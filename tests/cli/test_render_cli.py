@@ -51,11 +51,12 @@ def test_svg_output(sweep_file, tmp_path):
 
 def test_legend_lines_come_from_summary_line(qapp, sweep_file):
     from refplane.analysis.loading import read_sweep
-    from refplane.analysis.readings import read_points, summary_line
+    from refplane.analysis.readings import read_points
+    from refplane.session.present import summary_line
     from refplane.views.render import ChartPicture
-    from refplane.views.state import ViewState
+    from refplane.session.model import Session
 
-    state = ViewState()
+    state = Session()
     sweep = read_sweep(sweep_file)
     tid = state.add_sweep(sweep)
     state.add_marker(tid, 470e6)

@@ -17,7 +17,7 @@ from refplane.analysis.impedance import z_to_gamma
 from refplane.analysis.standards import Standard, reflection
 from refplane.analysis.sweep import Sweep
 from refplane.views.calibration_dialog import CalibrationDialog
-from refplane.views.state import ViewState
+from refplane.session.model import Session
 
 N = 81
 F = np.linspace(1e6, 2e9, N)
@@ -48,7 +48,7 @@ def files(tmp_path):
 
 @pytest.fixture
 def dialog(qtbot):
-    state = ViewState()
+    state = Session()
     d = CalibrationDialog(state)
     errors = []
     d.show_error = lambda title, message: errors.append((title, message))  # no message boxes in tests
@@ -174,7 +174,7 @@ def test_save_and_reuse_error_terms(dialog, files, tmp_path, qtbot):
     path = tmp_path / "cal.json"
     assert dialog.save_terms(str(path))
     assert not dialog.save_terms(str(path))  # never replaced without asking
-    other = CalibrationDialog(ViewState())
+    other = CalibrationDialog(Session())
     qtbot.addWidget(other)
     other.show_error = lambda t, m: None
     assert other.load_terms(str(path))

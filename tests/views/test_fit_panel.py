@@ -9,7 +9,7 @@ from refplane.analysis.circuits import MODELS
 from refplane.analysis.impedance import z_to_gamma
 from refplane.analysis.sweep import Sweep
 from refplane.views.panels.fit_panel import OVERLAY_NAME, FitPanel
-from refplane.views.state import ViewState
+from refplane.session.model import Session
 
 from model_sweeps import resistor_with_leads, two_port_attenuator
 
@@ -23,7 +23,7 @@ def _bridged_resistor() -> Sweep:
 
 @pytest.fixture
 def panel(qtbot):
-    state = ViewState()
+    state = Session()
     widget = FitPanel(state)
     qtbot.addWidget(widget)
     yield widget
@@ -42,7 +42,8 @@ def test_automatic_fit_names_the_leads_and_draws_a_dashed_curve(qtbot, panel):
     assert panel.result.model_id == "resistor-leads"
     assert "lead inductance" in panel.sentence.text()
     rows = panel.parameter_rows()
-    assert [r[0] for r in rows] == ["r_ohm", "l_h", "c_f"]
+    # Parts in words, not code keys (the resistor model's inductance is its leads').
+    assert [r[0] for r in rows] == ["Resistance", "Lead inductance", "Shunt capacitance"]
     assert rows[1][1].startswith("9.5") and rows[1][1].endswith("nH") and rows[1][2].startswith("± ")
     assert panel.ranking_rows()[0][0] == "resistor-leads"
     assert len(panel.ranking_rows()) == 7

@@ -4,14 +4,15 @@ import numpy as np
 import pytest
 from model_sweeps import resistor_with_leads
 
-from refplane.analysis.readings import read_points, readout_cells
+from refplane.analysis.readings import read_points
+from refplane.session.present import readout_cells
 from refplane.views.panels.marker_table import MarkerTable
-from refplane.views.state import ViewState
+from refplane.session.model import Session
 
 
 @pytest.fixture
 def table(qtbot):
-    state = ViewState()
+    state = Session()
     widget = MarkerTable(state)
     qtbot.addWidget(widget)
     return state, widget

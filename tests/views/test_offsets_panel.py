@@ -10,7 +10,7 @@ from PySide6.QtGui import QWheelEvent
 from refplane.analysis.deembed import SPEED_OF_LIGHT_M_S, LineOffset, add_offsets
 from refplane.analysis.sweep import Sweep
 from refplane.views.panels.offsets_panel import OffsetsPanel
-from refplane.views.state import ViewState
+from refplane.session.model import Session
 
 from model_sweeps import resistor_with_leads, two_port_attenuator
 
@@ -24,7 +24,7 @@ def open_through_cable(length_m=0.2, vf=0.66, loss_db=0.1, name="cable_open") ->
 
 @pytest.fixture
 def setup(qtbot):
-    state = ViewState()
+    state = Session()
     panel = OffsetsPanel(state)
     qtbot.addWidget(panel)
     return state, panel

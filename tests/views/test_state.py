@@ -6,14 +6,15 @@ import numpy as np
 import pytest
 
 from refplane.analysis.errors import AnalysisError
-from refplane.analysis.readings import read_points, readout_cells
-from refplane.views.state import PALETTE, ViewState
+from refplane.analysis.readings import read_points
+from refplane.session.present import readout_cells
+from refplane.session.model import PALETTE, Session
 
 from model_sweeps import resistor_with_leads, series_rc, two_port_attenuator
 
 
 class Recorder:
-    def __init__(self, state: ViewState):
+    def __init__(self, state: Session):
         self.events: list[tuple] = []
         for name in ("tracesChanged", "traceChanged", "offsetsChanged", "overlaysChanged",
                      "markersChanged", "markerMoving", "markerMoved", "bandChanging", "bandChanged",
@@ -25,7 +26,7 @@ class Recorder:
 
 
 def test_add_and_remove_traces_assigns_ids_and_palette_colours():
-    state = ViewState()
+    state = Session()
     rec = Recorder(state)
     a = state.add_sweep(resistor_with_leads())
     b = state.add_sweep(series_rc(), name="bead")
@@ -44,7 +45,7 @@ def test_add_and_remove_traces_assigns_ids_and_palette_colours():
 
 
 def test_rename_recolour_hide_and_port_emit_trace_changed():
-    state = ViewState()
+    state = Session()
     tid = state.add_sweep(two_port_attenuator())
     rec = Recorder(state)
     state.set_name(tid, "pad 6 dB")
@@ -61,7 +62,7 @@ def test_rename_recolour_hide_and_port_emit_trace_changed():
 
 
 def test_zero_offsets_are_identity_without_deembedding():
-    state = ViewState()
+    state = Session()
     sweep = resistor_with_leads()
     tid = state.add_sweep(sweep)
     assert state.displayed(tid) is sweep and not state.trace(tid).corrected
@@ -73,7 +74,7 @@ def test_zero_offsets_are_identity_without_deembedding():
 
 def test_offsets_use_deembed_when_present():
     deembed = pytest.importorskip("refplane.analysis.deembed")
-    state = ViewState()
+    state = Session()
     sweep = resistor_with_leads()
     tid = state.add_sweep(sweep)
     rec = Recorder(state)
@@ -88,7 +89,7 @@ def test_offsets_use_deembed_when_present():
 
 
 def test_overlays_add_replace_remove():
-    state = ViewState()
+    state = Session()
     tid = state.add_sweep(resistor_with_leads())
     rec = Recorder(state)
     model = series_rc()
@@ -103,7 +104,7 @@ def test_overlays_add_replace_remove():
 
 def test_marker_readout_equals_read_points():
     # Z = 75 + jω·9 nH at 470 MHz: X = 2π·470e6·9e-9 ≈ 26.58 Ω (closed form, common practice).
-    state = ViewState()
+    state = Session()
     sweep = resistor_with_leads()
     tid = state.add_sweep(sweep)
     mid = state.add_marker(tid, 470e6)
@@ -116,7 +117,7 @@ def test_marker_readout_equals_read_points():
 
 
 def test_marker_outside_sweep_is_refused_and_moves_are_clamped():
-    state = ViewState()
+    state = Session()
     tid = state.add_sweep(resistor_with_leads())
     with pytest.raises(AnalysisError):
         state.add_marker(tid, 5e9)
@@ -128,7 +129,7 @@ def test_marker_outside_sweep_is_refused_and_moves_are_clamped():
 
 
 def test_live_drag_emits_moving_then_one_moved():
-    state = ViewState()
+    state = Session()
     tid = state.add_sweep(resistor_with_leads())
     mid = state.add_marker(tid, 100e6)
     rec = Recorder(state)
@@ -140,7 +141,7 @@ def test_live_drag_emits_moving_then_one_moved():
 
 
 def test_step_marker_walks_swept_points():
-    state = ViewState()
+    state = Session()
     sweep = resistor_with_leads(n=11, f1=100e6, f2=200e6)  # 10 MHz steps
     tid = state.add_sweep(sweep)
     mid = state.add_marker(tid, 125e6)  # between two points
@@ -154,7 +155,7 @@ def test_step_marker_walks_swept_points():
 
 
 def test_removing_a_trace_removes_its_markers():
-    state = ViewState()
+    state = Session()
     a = state.add_sweep(resistor_with_leads())
     b = state.add_sweep(series_rc())
     m1 = state.add_marker(a, 100e6)
@@ -168,7 +169,7 @@ def test_removing_a_trace_removes_its_markers():
 
 
 def test_replace_sweep_keeps_identity_and_clamps_markers():
-    state = ViewState()
+    state = Session()
     tid = state.add_sweep(resistor_with_leads(), name="mine")
     mid = state.add_marker(tid, 900e6)
     state.replace_sweep(tid, resistor_with_leads(f2=500e6))
@@ -177,7 +178,7 @@ def test_replace_sweep_keeps_identity_and_clamps_markers():
 
 
 def test_band_live_and_finished():
-    state = ViewState()
+    state = Session()
     rec = Recorder(state)
     state.set_band((300e6, 100e6), finished=False)
     assert state.band == (100e6, 300e6)

@@ -8,7 +8,8 @@ from PySide6.QtCore import QPointF, Qt
 from PySide6.QtGui import QImage
 
 from refplane.analysis.loading import read_sweep
-from refplane.analysis.readings import read_points, readout_cells
+from refplane.analysis.readings import read_points
+from refplane.session.present import readout_cells
 from refplane.views.main_window import MainWindow
 
 from model_sweeps import resistor_with_leads, series_rc, two_port_attenuator, write_sweep
@@ -177,12 +178,19 @@ def test_delta_readout_and_tsv_copy(qtbot, window, files):
     # ΔX of a series inductor: ω2·L − ω1·L = 2π·200 MHz·9 nH ≈ 11.31 Ω (closed form).
     assert delta["X"] == f"+{rb.x_ohm - ra.x_ohm:.2f} Ω"
     assert rb.x_ohm - ra.x_ohm == pytest.approx(2 * np.pi * 200e6 * 9e-9, rel=1e-3)
-    tsv = [line.split("\t") for line in window.marker_table.as_tsv().splitlines()]
+    # The copy is for a spreadsheet: the csv module reads it, every quantity column parses as a
+    # plain number (ASCII minus, no grouping) in the unit its header names.
+    import csv
+    import io
+
+    tsv = list(csv.reader(io.StringIO(window.marker_table.as_tsv()), delimiter="\t"))
     header = tsv[0]
-    assert header[:3] == ["", "Trace", "Frequency"] and "Return loss" in header
-    assert [row[0] for row in tsv[1:]] == ["1", "2", "Δ"]
-    col_r = header.index("R")
-    assert [tsv[1][col_r], tsv[2][col_r]] == [window.state.marker_cells(a)["R"], window.state.marker_cells(b)["R"]]
+    assert header[:3] == ["Marker", "Trace", "Frequency (Hz)"] and "Return loss (dB)" in header
+    assert [row[0] for row in tsv[1:]] == ["1", "2", "Difference"]
+    col_r, col_x = header.index("R (ohm)"), header.index("X (ohm)")
+    assert [float(tsv[1][col_r]), float(tsv[2][col_r])] == pytest.approx([ra.r_ohm, rb.r_ohm], rel=1e-12)
+    assert float(tsv[3][col_x]) == pytest.approx(rb.x_ohm - ra.x_ohm, rel=1e-12)
+    assert float(tsv[1][header.index("Frequency (Hz)")]) + float(tsv[2][header.index("Frequency (Hz)")]) == 600e6
     assert tsv[3][header.index("Trace")] == "marker 2 − marker 1"
     window.marker_table.copy_to_clipboard()
     from PySide6.QtGui import QGuiApplication

@@ -55,7 +55,7 @@ def run(args: argparse.Namespace) -> int:
 
 def readout_table(readout, count: int) -> str:
     """The human table of ``count`` points of a many-point readout."""
-    from refplane.analysis.readings import readout_cells
+    from refplane.session.present import readout_cells
 
     headers = None
     rows = []

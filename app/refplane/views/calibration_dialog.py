@@ -22,8 +22,9 @@ from PySide6.QtWidgets import (QCheckBox, QComboBox, QDialog, QFileDialog, QGrid
                                QListWidgetItem, QMessageBox, QPushButton, QSplitter, QTableWidget,
                                QTableWidgetItem, QVBoxLayout, QWidget)
 
+from refplane.views.binding import bind
 from refplane.analysis.errors import AnalysisError
-from refplane.views.state import PALETTE, ViewState
+from refplane.session.model import PALETTE, Session
 from refplane.views.theme import LIGHT, Theme
 
 #: The measurements the dialog asks for: role, label, whether it is needed.
@@ -61,7 +62,7 @@ _EMPTY_DEFINITIONS = {"format": "refplane-standards", "version": 1, "name": "ide
 class CalibrationDialog(QDialog):
     """Calibrate from measured standards and open corrected devices as new traces."""
 
-    def __init__(self, state: ViewState, parent: QWidget | None = None, theme: Theme = LIGHT):
+    def __init__(self, state: Session, parent: QWidget | None = None, theme: Theme = LIGHT):
         super().__init__(parent)
         self.setWindowTitle("Calibrate from measured standards")
         self.state = state
@@ -100,8 +101,8 @@ class CalibrationDialog(QDialog):
         bottom.addWidget(close)
         layout.addLayout(bottom)
 
-        state.tracesChanged.connect(self._fill_devices)
-        state.traceChanged.connect(lambda _id: self._fill_devices())
+        bind(self, state.tracesChanged, self._fill_devices)
+        bind(self, state.traceChanged, lambda _id: self._fill_devices())
         self._fill_definition_table()
         self._fill_devices()
         self._update_buttons()

@@ -15,7 +15,7 @@ Adding panels later
 
       window.add_tool_action("Calibrate from standards…", lambda: CalibrationDialog(window.state, window).open())
 
-Panels take :attr:`MainWindow.state` (a :class:`~refplane.views.state.ViewState`) and talk
+Panels take :attr:`MainWindow.state` (a :class:`~refplane.views.state.Session`) and talk
 to the rest of the window only through it.
 """
 
@@ -29,12 +29,14 @@ from PySide6.QtGui import QAction, QActionGroup, QKeySequence
 from PySide6.QtWidgets import (QDockWidget, QFileDialog, QInputDialog, QLabel, QMainWindow,
                                QMessageBox, QProgressBar, QPushButton, QSplitter, QWidget)
 
+from refplane.views.binding import bind
 from refplane.views.loader import SweepLoader
+from refplane.views.workers import Workers
 from refplane.views.panels.marker_table import MarkerTable
 from refplane.views.panels.trace_list import TraceList
 from refplane.views.plots import CompanionPlots
 from refplane.views.smith_chart import SmithChart
-from refplane.views.state import ViewState
+from refplane.session.model import Session
 from refplane.views.theme import THEMES, Theme
 
 MAX_RECENT = 8
@@ -52,15 +54,19 @@ def _settings() -> QSettings:
 class MainWindow(QMainWindow):
     """Chart in the middle, frequency plots beside it, traces and markers in docks."""
 
-    def __init__(self, state: ViewState | None = None, *, theme: str | None = None,
+    def __init__(self, state: Session | None = None, *, theme: str | None = None,
                  files: Sequence[str] = (), markers_hz: tuple[float, ...] = ()):
         """``files`` start reading at once (with ``markers_hz`` as in :meth:`open_files`)."""
         super().__init__()
-        self.state = state if state is not None else ViewState(self)
+        self.state = state if state is not None else Session()
+        # One worker facility for every job of the window: reads, fits, estimates.
+        self.workers = Workers(self)
         # Start reading before the widgets are built: the worker reads while the window is
         # put together, and the result (delivered by the event loop) is there for the first paint.
         self._pending_markers: dict[str, tuple[float, ...]] = {}
-        self.loader = SweepLoader(self)
+        self._session_load = None  # a session being opened: its document and the sweeps read so far
+        self.session_path: str | None = None
+        self.loader = SweepLoader(self, workers=self.workers)
         self.loader.loaded.connect(self._on_loaded)
         self.loader.failed.connect(self._on_load_failed)
         if files:
@@ -69,7 +75,14 @@ class MainWindow(QMainWindow):
         self.setAcceptDrops(True)
         self.setDockOptions(QMainWindow.AnimatedDocks | QMainWindow.AllowTabbedDocks)
         settings = _settings()
-        self.theme: Theme = THEMES.get(theme or str(settings.value("theme", "light")), THEMES["light"])
+        # A new session starts in the theme last chosen; a session handed in keeps its own.
+        chosen = theme if theme in THEMES else None
+        if chosen is None and state is None:
+            saved = str(settings.value("theme", "light"))
+            chosen = saved if saved in THEMES else "light"
+        if chosen is not None:
+            self.state.set_display(theme=chosen)
+        self.theme: Theme = THEMES.get(self.state.display.theme, THEMES["light"])
 
         self.chart = SmithChart(self.state, theme=self.theme)
         self.plots = CompanionPlots(self.state, theme=self.theme)
@@ -104,8 +117,8 @@ class MainWindow(QMainWindow):
         self._build_status_bar()
         if self.loader.busy:
             self._on_busy(True, self.loader.describe())
-        self.state.tracesChanged.connect(self._update_title)
-        self.state.tracesChanged.connect(self._watch_files)
+        bind(self, self.state.tracesChanged, self._update_title)
+        bind(self, self.state.tracesChanged, self._watch_files)
         self.apply_theme(self.theme, widgets=False)  # chart and plots were built in this theme
         self.resize(*DEFAULT_SIZE)
 
@@ -138,7 +151,7 @@ class MainWindow(QMainWindow):
         """The reference-plane and fit panels (tabbed under the trace list) and the calibration dialog."""
         from refplane.views.panels.offsets_panel import OffsetsPanel
 
-        plane = self.add_side_panel("Reference plane", OffsetsPanel(self.state))
+        plane = self.add_side_panel("Reference plane", OffsetsPanel(self.state, workers=self.workers))
         # The fit panel starts behind the reference-plane tab: build it when first shown, so
         # start-up does not pay for a panel nobody has looked at yet.
         fit = self.add_side_panel("Fit", QWidget())
@@ -153,7 +166,7 @@ class MainWindow(QMainWindow):
         dock = self.docks["Fit"]
         if visible and not isinstance(dock.widget(), FitPanel):
             placeholder = dock.widget()
-            dock.setWidget(FitPanel(self.state))
+            dock.setWidget(FitPanel(self.state, workers=self.workers))
             placeholder.deleteLater()
 
     def fit_panel(self):
@@ -198,6 +211,11 @@ class MainWindow(QMainWindow):
         self.reload_action.toggled.connect(
             lambda on: _settings().setValue("reload_on_change", "true" if on else "false"))
         file_menu.addSeparator()
+        self.open_session_action = file_menu.addAction("Open session…", self.ask_open_session)
+        self.save_session_action = file_menu.addAction("Save session", self.save_session_now)
+        self.save_session_action.setShortcut(QKeySequence.Save)
+        file_menu.addAction("Save session as…", self.ask_save_session)
+        file_menu.addSeparator()
         file_menu.addAction("Save chart picture…", lambda: self.ask_export("chart"))
         file_menu.addAction("Save plots picture…", lambda: self.ask_export("plots"))
         file_menu.addSeparator()
@@ -208,13 +226,15 @@ class MainWindow(QMainWindow):
         view = bar.addMenu("&View")
         self.admittance_action = view.addAction("Admittance grid")
         self.admittance_action.setCheckable(True)
+        self.admittance_action.setChecked(self.state.display.admittance_grid)
         self.admittance_action.toggled.connect(self.chart.set_admittance_grid)
         self.vswr_action = view.addAction("Constant-VSWR circle…", self.ask_vswr)
         view.addAction("Reset chart view", self.chart.reset_view).setShortcut(QKeySequence("Ctrl+0"))
         self.log_action = view.addAction("Log frequency axis")
         self.log_action.setCheckable(True)
-        self.log_action.toggled.connect(self.plots.log_box.setChecked)
-        self.plots.log_box.toggled.connect(self.log_action.setChecked)
+        self.log_action.setChecked(self.state.display.log_frequency)
+        self.log_action.toggled.connect(lambda on: self.state.set_display(log_frequency=on))
+        bind(self, self.state.displayChanged, self._on_display_changed)
         theme_menu = view.addMenu("Theme")
         group = QActionGroup(self)
         self.theme_actions = {}
@@ -241,6 +261,18 @@ class MainWindow(QMainWindow):
         help_menu.addAction("Using the window…", self.show_usage)
         help_menu.addAction("About Refplane…", self.show_about)
 
+    def _on_display_changed(self, name: str) -> None:
+        d = self.state.display
+        for action, value in ((self.log_action, d.log_frequency), (self.admittance_action, d.admittance_grid)):
+            if action.isChecked() != value:
+                action.blockSignals(True)
+                action.setChecked(value)
+                action.blockSignals(False)
+        if name == "theme" and THEMES.get(d.theme) is not self.theme:
+            self.theme = THEMES[d.theme]
+            self.apply_theme(self.theme)
+            self.theme_actions[d.theme].setChecked(True)
+
     def _build_status_bar(self) -> None:
         status = self.statusBar()
         self.progress = QProgressBar()
@@ -261,8 +293,13 @@ class MainWindow(QMainWindow):
 
         ``markers_hz`` places markers on each new trace once it has loaded (used for the demo).
         """
+        from refplane.session.files import is_session_file
+
         for path in paths:
             path = os.fspath(path)
+            if is_session_file(path):
+                self.open_session(path)
+                continue
             if markers_hz:
                 self._pending_markers[path] = tuple(markers_hz)
             self.loader.load(path)
@@ -312,12 +349,16 @@ class MainWindow(QMainWindow):
                                        lambda: _settings().setValue("recent_files", []))
 
     def _on_loaded(self, request, sweep) -> None:
+        if self._session_load is not None and request in self._session_load["requests"]:
+            self._session_file_loaded(request, sweep)
+            return
         if request.reload_of is not None and request.reload_of in self.state.trace_ids():
             self.state.replace_sweep(request.reload_of, sweep)
             self.statusBar().showMessage(f"Reloaded {os.path.basename(request.path)}", 4000)
             self._watch_files()
             return
-        tid = self.state.add_sweep(sweep)
+        # Traces keep the order in which the files were named, whatever order the reads end in.
+        tid = self.state.add_sweep(sweep, order=request.order)
         for f in self._pending_markers.pop(request.path, ()):
             if sweep.freq_hz[0] <= f <= sweep.freq_hz[-1]:
                 self.state.add_marker(tid, f)
@@ -328,7 +369,146 @@ class MainWindow(QMainWindow):
             f"Opened {os.path.basename(request.path)}: {sweep.n_points} points, {sweep.n_ports} port(s)", 5000)
 
     def _on_load_failed(self, request, message: str) -> None:
-        self.show_error("This file could not be opened", message)
+        if self._session_load is not None and request in self._session_load["requests"]:
+            self._session_file_loaded(request, None, message)
+            return
+        # Several files that fail together make one dialog listing them all.
+        self._failures.append(message)
+        if len(self._failures) == 1:
+            QTimer.singleShot(0, self._report_failures)
+
+    _failures: list = []
+
+    def _report_failures(self) -> None:
+        if self.loader.busy:  # wait for the rest of the batch, then say it once
+            QTimer.singleShot(100, self._report_failures)
+            return
+        failures, self._failures = self._failures, []
+        if len(failures) == 1:
+            self.show_error("This file could not be opened", failures[0])
+        elif failures:
+            self.show_error(f"{len(failures)} files could not be opened", "\n".join(failures))
+
+    # ============================================================== sessions
+    def ask_open_session(self) -> None:
+        from refplane.session.files import SUFFIX
+
+        folder = str(_settings().value("last_session_folder", _settings().value("last_folder", "")))
+        path, _ = QFileDialog.getOpenFileName(self, "Open session", folder,
+                                              f"Refplane sessions (*{SUFFIX});;All files (*)")
+        if path:
+            _settings().setValue("last_session_folder", os.path.dirname(path))
+            self.open_session(path)
+
+    def ask_save_session(self) -> str | None:
+        from refplane.session.files import SUFFIX
+
+        folder = str(_settings().value("last_session_folder", _settings().value("last_folder", "")))
+        suggested = self.session_path or os.path.join(folder, f"session{SUFFIX}")
+        path, _ = QFileDialog.getSaveFileName(self, "Save session", suggested,
+                                              f"Refplane sessions (*{SUFFIX})")
+        if not path:
+            return None
+        if not path.lower().endswith(SUFFIX):
+            path += SUFFIX
+        _settings().setValue("last_session_folder", os.path.dirname(path))
+        # The save dialog has already asked before replacing an existing file.
+        return self.save_session(path, overwrite=True)
+
+    def save_session_now(self) -> str | None:
+        """Save to the session's own file (File ▸ Save session), or ask where the first time."""
+        if self.session_path is None:
+            return self.ask_save_session()
+        return self.save_session(self.session_path, overwrite=True)
+
+    def save_session(self, path: str, *, overwrite: bool = False) -> str | None:
+        """Write the whole session to ``path``; problems are shown, never raised."""
+        from refplane.analysis.errors import AnalysisError
+        from refplane.session.files import save_session
+
+        try:
+            written = save_session(self.state, path, overwrite=overwrite)
+        except (AnalysisError, OSError) as exc:
+            self.show_error("The session could not be saved", str(exc))
+            return None
+        self.session_path = str(written)
+        self.statusBar().showMessage(f"Saved session {written}", 5000)
+        return str(written)
+
+    def open_session(self, path: str) -> None:
+        """Open a session file: close what is open, read its sweeps off the UI thread, restore.
+
+        A sweep file that changed since the session was saved is opened as it is now, with a
+        note; a missing one is offered to be located or skipped.
+        """
+        from refplane.analysis.errors import AnalysisError
+        from refplane.session.files import read_session
+
+        try:
+            doc = read_session(path)
+        except AnalysisError as exc:
+            self.show_error("This session could not be opened", str(exc))
+            return
+        files = list(doc.files)
+        for i, f in enumerate(files):
+            if f.status == "missing":
+                located = self.ask_locate(f)
+                if located:
+                    from dataclasses import replace
+
+                    files[i] = replace(f, path=located, status="changed")
+        self.state.clear()
+        self.state.clear_markers()
+        self.session_path = os.path.abspath(path)
+        requests = {}
+        self._session_load = {"doc": doc, "requests": requests, "sweeps": {}, "errors": [],
+                              "files": files}
+        for f in files:
+            if f.path is not None:
+                requests[self.loader.load(f.path)] = f.index
+        if not requests:
+            self._finish_session_load()
+
+    def ask_locate(self, missing) -> str | None:
+        """Ask where a missing sweep file went; None skips it (a method so tests can replace it)."""
+        box = QMessageBox(QMessageBox.Question, "A sweep file is missing", missing.note(),
+                          QMessageBox.NoButton, self)
+        locate = box.addButton("Locate…", QMessageBox.AcceptRole)
+        box.addButton("Skip it", QMessageBox.RejectRole)
+        box.exec()
+        if box.clickedButton() is not locate:
+            return None
+        path, _ = QFileDialog.getOpenFileName(self, f"Where is {os.path.basename(missing.recorded)}?",
+                                              str(_settings().value("last_folder", "")))
+        return path or None
+
+    def _session_file_loaded(self, request, sweep, error: str | None = None) -> None:
+        load = self._session_load
+        index = load["requests"][request]
+        if sweep is not None:
+            load["sweeps"][index] = sweep
+        else:
+            load["errors"].append(error)
+        if len(load["sweeps"]) + len(load["errors"]) == len(load["requests"]):
+            self._finish_session_load()
+
+    def _finish_session_load(self) -> None:
+        from refplane.analysis.errors import AnalysisError
+        from refplane.session.files import SessionDocument, build_session
+
+        load, self._session_load = self._session_load, None
+        doc = load["doc"]
+        doc = SessionDocument(path=doc.path, data=doc.data, files=tuple(load["files"]))
+        try:
+            _session, notes = build_session(doc, load["sweeps"], self.state)
+        except AnalysisError as exc:
+            self.show_error("This session could not be opened", str(exc))
+            return
+        self.plots.flush()
+        problems = notes + load["errors"]
+        if problems:
+            self.show_error("The session was opened with some differences", "\n".join(problems))
+        self.statusBar().showMessage(f"Opened session {os.path.basename(doc.path)}", 5000)
 
     def _on_busy(self, busy: bool, text: str) -> None:
         self.progress.setVisible(busy)
@@ -405,8 +585,13 @@ class MainWindow(QMainWindow):
         from refplane.views import export
 
         if what == "chart":
-            widget = self.chart
-        elif what == "plots":
+            # The chart picture is drawn from the session's scene, as `refplane render --session`
+            # draws it: traces, markers and a legend of readings, no hover line or controls.
+            from refplane.views.render import draw_session
+
+            return draw_session(self.state, path, size=size or (self.chart.width(), self.chart.height() + 140),
+                                overwrite=overwrite, theme=self.theme)
+        if what == "plots":
             widget = self.plots
             for plot in self.plots.plots():
                 plot.flush()
@@ -428,16 +613,8 @@ class MainWindow(QMainWindow):
             twin.deleteLater()
 
     def _twin(self, what: str) -> QWidget:
-        if what == "chart":
-            twin = SmithChart(self.state, theme=self.theme)
-            twin.set_admittance_grid(self.admittance_action.isChecked())
-            twin.set_vswr_circle(self.chart.vswr)
-            return twin
-        twin = CompanionPlots(self.state, theme=self.theme)
-        twin.set_log_x(self.plots.log_box.isChecked())
-        twin.upper.set_quantity(self.plots.upper.quantity)
-        twin.lower.set_quantity(self.plots.lower.quantity)
-        return twin
+        # The twin reads the same session, so it shows the same quantities, axes and band.
+        return CompanionPlots(self.state, theme=self.theme)
 
     # ================================================================= view
     def ask_vswr(self) -> None:
@@ -448,11 +625,9 @@ class MainWindow(QMainWindow):
             self.chart.set_vswr_circle(None if value <= 1.0 else value)
 
     def set_theme(self, key: str) -> None:
-        """Switch between the light and dark theme (remembered)."""
-        self.theme = THEMES[key]
+        """Switch between the light and dark theme (a session option; also the default for new ones)."""
         _settings().setValue("theme", key)
-        self.apply_theme(self.theme)
-        self.theme_actions[key].setChecked(True)
+        self.state.set_display(theme=key)
 
     def apply_theme(self, theme: Theme, *, widgets: bool = True) -> None:
         """Colour the window: the application's palette, and the chart and plots."""
@@ -513,5 +688,6 @@ class MainWindow(QMainWindow):
 
     def closeEvent(self, ev) -> None:
         self.loader.cancel()
-        self.loader.wait(3000)
+        self.workers.cancel_all()
+        self.workers.wait(3000)
         super().closeEvent(ev)

@@ -19,10 +19,11 @@ from PySide6.QtGui import QColor, QPainter, QPainterPath
 from PySide6.QtWidgets import (QCheckBox, QComboBox, QGraphicsItem, QHBoxLayout, QLabel,
                                QPushButton, QVBoxLayout, QWidget)
 
-from refplane.views import plot_series
+from refplane.views.binding import bind
+from refplane.session import plot_series
 from refplane.views.line_drawing import line_mode
 from refplane.views.plot_area import PlotArea, PlotView
-from refplane.views.state import ViewState
+from refplane.session.model import Session
 from refplane.views.theme import LIGHT, Theme, quiet_label
 
 
@@ -139,10 +140,12 @@ class FrequencyPlot(QWidget):
     #: Emitted after every redraw.
     redrawn = Signal()
 
-    def __init__(self, state: ViewState, quantity: str = "return_loss", parent: QWidget | None = None,
-                 theme: Theme = LIGHT):
+    def __init__(self, state: Session, quantity: str = "return_loss", parent: QWidget | None = None,
+                 theme: Theme = LIGHT, slot: str = "upper"):
         super().__init__(parent)
         self.state = state
+        self.slot = slot
+        """Which of the session's two plots this is: "upper" or "lower"."""
         self.theme = theme
         self.log_x = False
         self.last_redraw_s = 0.0
@@ -151,7 +154,7 @@ class FrequencyPlot(QWidget):
         self.chooser = QComboBox()
         for q in plot_series.QUANTITIES:
             self.chooser.addItem(q.title, q.key)
-        self.chooser.setCurrentIndex(self.chooser.findData(quantity))
+        self.chooser.setCurrentIndex(self.chooser.findData(self._session_quantity()))
         self.viewbox = BandViewBox(enableMenu=False)
         self.plot = PlotView(self.viewbox, background=theme.chart_bg)
         self.plot.setLabel("bottom", "Frequency", units="Hz")
@@ -187,30 +190,58 @@ class FrequencyPlot(QWidget):
         self._redraw_timer.setSingleShot(True)
         self._redraw_timer.setInterval(0)
         self._redraw_timer.timeout.connect(self.redraw)
-        self.chooser.currentIndexChanged.connect(self.redraw)
+        self.chooser.currentIndexChanged.connect(self._on_chooser)
         self.viewbox.sigBand.connect(self._on_band_dragged)
         self.plot.scene().sigMouseClicked.connect(self._on_clicked)
-        state.tracesChanged.connect(self.schedule_redraw)
-        state.markersChanged.connect(self._sync_lines)
+        bind(self, state.tracesChanged, self.schedule_redraw)
+        bind(self, state.markersChanged, self._sync_lines)
         for sig in (state.traceChanged, state.offsetsChanged, state.overlaysChanged):
             sig.connect(lambda _id: self.schedule_redraw())
-        state.markerMoving.connect(self._on_marker_moving)
-        state.bandChanging.connect(self._on_band_changed)
-        state.bandChanged.connect(self._on_band_changed)
+        bind(self, state.markerMoving, self._on_marker_moving)
+        bind(self, state.bandChanging, self._on_band_changed)
+        bind(self, state.bandChanged, self._on_band_changed)
+        bind(self, state.displayChanged, self._on_display_changed)
+        self.log_x = state.display.log_frequency
+        if self.log_x:
+            self.plot.setLogMode(x=True, y=False)
         self.redraw()
 
     # ---------------------------------------------------------------- public
     @property
     def quantity(self) -> str:
-        """Key of the quantity shown (see :data:`refplane.views.plot_series.QUANTITIES`)."""
-        return self.chooser.currentData()
+        """Key of the quantity shown (see :data:`refplane.session.plot_series.QUANTITIES`)."""
+        return self._session_quantity()
 
     def set_quantity(self, key: str) -> None:
-        """Show another quantity."""
-        self.chooser.setCurrentIndex(self.chooser.findData(key))
+        """Show another quantity (a session display option)."""
+        self.state.set_display(**{f"{self.slot}_plot": key})
+
+    def _session_quantity(self) -> str:
+        return getattr(self.state.display, f"{self.slot}_plot")
+
+    def _on_chooser(self, _index: int) -> None:
+        key = self.chooser.currentData()
+        if key is not None:
+            self.set_quantity(key)
+
+    def _on_display_changed(self, name: str) -> None:
+        if name == f"{self.slot}_plot":
+            key = self._session_quantity()
+            if self.chooser.currentData() != key:
+                self.chooser.blockSignals(True)
+                self.chooser.setCurrentIndex(self.chooser.findData(key))
+                self.chooser.blockSignals(False)
+            self.redraw()
+        elif name == "log_frequency":
+            self._set_log_x(self.state.display.log_frequency)
 
     def set_log_x(self, log_x: bool) -> None:
-        """Logarithmic or linear frequency axis."""
+        """Logarithmic or linear frequency axis (a session display option, shared by both plots)."""
+        self.state.set_display(log_frequency=bool(log_x))
+
+    def _set_log_x(self, log_x: bool) -> None:
+        if bool(log_x) == self.log_x:
+            return
         self.log_x = bool(log_x)
         self.plot.setLogMode(x=self.log_x, y=False)
         self.redraw()
@@ -284,37 +315,21 @@ class FrequencyPlot(QWidget):
         for item in self._curves:
             self.plot.removeItem(item)
         self._curves = []
-        q = plot_series.BY_KEY[self.quantity]
+        view = self.state.scene().plots[0 if self.slot == "upper" else 1]
+        q = plot_series.BY_KEY[view.quantity]
         unit = q.unit
         axis = self.plot.getAxis("left")
         if self._labelled != q.key:  # relabelling lays the axis text out anew: only on a change
             axis.enableAutoSIPrefix(unit == "Ω")
             self.plot.setLabel("left", q.axis, units=unit or None)
             self._labelled = q.key
-        shown = 0
-        for t in self.state.traces():
-            if not t.visible:
-                continue
-            sweeps = [(t.displayed, 1.0)]
-            if t.corrected:
-                sweeps.append((t.raw, 0.3))
-            for sweep, alpha in sweeps:
-                for curve in plot_series.curves(sweep, t.port, q.key):
-                    x, y = plot_series.finite_for_plot(sweep.freq_hz, curve.y, self.log_x)
-                    colour = QColor(t.colour)
-                    colour.setAlphaF(alpha)
-                    pen = pg.mkPen(colour, width=1.8 if alpha == 1.0 else 1.2,
-                                   style=Qt.DashLine if curve.dashed else Qt.SolidLine)
-                    self._add_curve(x, y, pen)
-                    shown += 1
-            for name, model in t.overlays.items():
-                for curve in plot_series.curves(model, 1, q.key) if not q.two_port else ():
-                    x, y = plot_series.finite_for_plot(model.freq_hz, curve.y, self.log_x)
-                    self._add_curve(x, y, pg.mkPen(t.colour, width=1.4, style=Qt.DotLine))
-        if q.two_port and shown == 0 and self.state.traces():
-            self.note.setText("needs a two-port sweep")
-        else:
-            self.note.setText("R solid, X dashed" if q.key == "r_x" and shown else "")
+        styles = {"solid": Qt.SolidLine, "dashed": Qt.DashLine, "dotted": Qt.DotLine}
+        for curve in view.curves:
+            x, y = plot_series.finite_for_plot(curve.freq_hz, curve.y, self.log_x)
+            colour = QColor(curve.colour)
+            colour.setAlphaF(curve.alpha)
+            self._add_curve(x, y, pg.mkPen(colour, width=curve.width, style=styles[curve.style]))
+        self.note.setText(view.note)
         self._sync_lines()
         self._on_band_changed()
         self.last_redraw_s = time.perf_counter() - started
@@ -335,13 +350,14 @@ class FrequencyPlot(QWidget):
         return item
 
     def _sync_lines(self) -> None:
-        markers = self.state.markers()
+        markers = self.state.scene().markers
         ids = {m.id for m in markers}
         for mid in list(self._lines):
             if mid not in ids:
                 self.plot.removeItem(self._lines.pop(mid))
-        for number, m in enumerate(markers, start=1):
-            t = self.state.trace(m.trace_id)
+        for m in markers:
+            number = m.number
+            t = m
             line = self._lines.get(m.id)
             if line is None:
                 line = pg.InfiniteLine(angle=90, movable=True,
@@ -432,11 +448,11 @@ class FrequencyPlot(QWidget):
 class CompanionPlots(QWidget):
     """Two frequency plots, stacked, sharing the frequency axis, a log/linear switch and band tools."""
 
-    def __init__(self, state: ViewState, parent: QWidget | None = None, theme: Theme = LIGHT):
+    def __init__(self, state: Session, parent: QWidget | None = None, theme: Theme = LIGHT):
         super().__init__(parent)
         self.state = state
-        self.upper = FrequencyPlot(state, "return_loss", theme=theme)
-        self.lower = FrequencyPlot(state, "r_x", theme=theme)
+        self.upper = FrequencyPlot(state, theme=theme, slot="upper")
+        self.lower = FrequencyPlot(state, theme=theme, slot="lower")
         # After a slow redraw of the upper plot (long sweeps), the lower plot's pending redraw
         # waits a little, so the event loop (and the user) gets a turn and the upper plot is
         # painted in between; otherwise the two redraws and all the painting would run back
@@ -464,11 +480,13 @@ class CompanionPlots(QWidget):
         layout.addLayout(bar)
         layout.addWidget(self.upper, 1)
         layout.addWidget(self.lower, 1)
+        self.log_box.setChecked(state.display.log_frequency)
         self.log_box.toggled.connect(self.set_log_x)
+        bind(self, state.displayChanged, self._on_display_changed)
         self.band_button.toggled.connect(self._set_band_mode)
         self.clear_band.clicked.connect(lambda: state.set_band(None))
-        state.bandChanging.connect(self._show_band)
-        state.bandChanged.connect(self._show_band)
+        bind(self, state.bandChanging, self._show_band)
+        bind(self, state.bandChanged, self._show_band)
         self._show_band()
 
     #: An upper-plot redraw slower than this holds the lower plot's back by :attr:`STAGGER_MS`.
@@ -491,8 +509,14 @@ class CompanionPlots(QWidget):
             p.flush()
 
     def set_log_x(self, log_x: bool) -> None:
-        for p in self.plots():
-            p.set_log_x(log_x)
+        """Log or linear frequency on both plots (a session display option)."""
+        self.state.set_display(log_frequency=bool(log_x))
+
+    def _on_display_changed(self, name: str) -> None:
+        if name == "log_frequency" and self.log_box.isChecked() != self.state.display.log_frequency:
+            self.log_box.blockSignals(True)
+            self.log_box.setChecked(self.state.display.log_frequency)
+            self.log_box.blockSignals(False)
 
     def set_theme(self, theme: Theme) -> None:
         for p in self.plots():

@@ -1,8 +1,10 @@
-"""Drawing a chart picture without a window: the chart, its markers and a readout legend.
+"""Drawing a chart picture: the chart, its markers and a readout legend, from a session's Scene.
 
-Used by ``refplane render``. The picture is the window's own :class:`SmithChart` on a
-:class:`ViewState` of its own, with a legend whose lines come from
-:func:`refplane.analysis.readings.summary_line`, the same text path as the marker table.
+Used by ``refplane render`` (with or without ``--session``) and by the window's
+File ▸ Save chart picture: the picture is the window's own :class:`SmithChart` on a
+:class:`Session`, with a legend whose lines are the resolved scene's legend
+(:mod:`refplane.session.present` rules, the same text path as the marker table). No hover line,
+buttons or choosers are drawn.
 """
 
 from __future__ import annotations
@@ -16,14 +18,14 @@ from PySide6.QtWidgets import QApplication, QLabel, QVBoxLayout, QWidget
 
 from refplane.analysis.sweep import Sweep
 from refplane.views.smith_chart import SmithChart
-from refplane.views.state import ViewState
+from refplane.session.model import Session
 from refplane.views.theme import LIGHT, Theme
 
 
 class ChartPicture(QWidget):
     """A chart with a legend underneath: one line per trace, one per marker."""
 
-    def __init__(self, state: ViewState, theme: Theme = LIGHT, title: str | None = None):
+    def __init__(self, state: Session, theme: Theme = LIGHT, title: str | None = None):
         super().__init__()
         self.state = state
         self.setAutoFillBackground(True)
@@ -47,26 +49,16 @@ class ChartPicture(QWidget):
 
     def legend_lines(self) -> list[str]:
         """The legend as plain text lines (trace lines, then "n  summary" marker lines)."""
-        from refplane.analysis.readings import summary_line
-
-        lines = []
-        for t in self.state.traces():
-            lines.append(f"{t.name} · S{t.port}{t.port}")
-        for number, m in enumerate(self.state.markers(), start=1):
-            lines.append(f"{number}  {summary_line(self.state.marker_readout(m.id))}")
-        return lines
+        return list(self.state.scene().legend)
 
     def legend_html(self) -> str:
-        from refplane.analysis.readings import summary_line
-
+        scene = self.state.scene()
         rows = []
-        for t in self.state.traces():
-            rows.append(f"<span style='color:{t.colour}'>■</span>&nbsp;{html.escape(t.name)}"
-                        f" · S{t.port}{t.port}")
-        for number, m in enumerate(self.state.markers(), start=1):
-            colour = self.state.trace(m.trace_id).colour
-            rows.append(f"<span style='color:{colour}'><b>{number}</b></span>&nbsp;&nbsp;"
-                        f"{html.escape(summary_line(self.state.marker_readout(m.id)))}")
+        for t in scene.traces:
+            rows.append(f"<span style='color:{t.colour}'>■</span>&nbsp;{html.escape(t.label)}")
+        for m in scene.markers:
+            rows.append(f"<span style='color:{m.colour}'><b>{m.number}</b></span>&nbsp;&nbsp;"
+                        f"{html.escape(m.summary)}")
         return "<br>".join(rows)
 
 
@@ -88,6 +80,47 @@ def quiet_platform_messages() -> None:
     qInstallMessageHandler(handler)
 
 
+def ensure_app():
+    """The running QApplication, or a new one for drawing without a window."""
+    app = QApplication.instance()
+    if app is None:
+        quiet_platform_messages()
+        app = QApplication(["refplane-render"])
+    import pyqtgraph as pg
+
+    pg.setConfigOptions(antialias=True)
+    return app
+
+
+def draw_session(session: Session, path: str | os.PathLike, *, size: tuple[int, int] = (900, 1000),
+                 overwrite: bool = False, theme: Theme | None = None):
+    """Draw a session's scene (traces, offsets, markers, grid options, zoom) and save a PNG or SVG.
+
+    The window's File ▸ Save chart picture and ``refplane render --session`` both come here,
+    so a saved session renders exactly as the window showed it.
+    """
+    from refplane.views import export
+    from refplane.views.theme import THEMES
+
+    export.check_target(path, overwrite=overwrite)
+    app = ensure_app()
+    theme = theme or THEMES.get(session.display.theme, LIGHT)
+    picture = ChartPicture(session, theme)
+    try:
+        picture.chart.show_current_marker(False)  # no "current marker" halo in a picture
+        picture.setAttribute(Qt.WA_DontShowOnScreen, True)
+        picture.resize(*size)
+        picture.show()
+        app.processEvents()
+        picture.chart.apply_session_view()
+        app.processEvents()
+        return export.save_widget(picture, path, overwrite=overwrite, background=theme.chart_bg)
+    finally:
+        picture.close()
+        picture.deleteLater()
+        app.processEvents()
+
+
 def render_picture(sweeps: Sequence[Sweep], path: str | os.PathLike, *, at_hz: Sequence[float] = (),
                    port: int = 1, size: tuple[int, int] = (900, 1000), overwrite: bool = False,
                    theme: Theme = LIGHT, vswr: float | None = None, admittance: bool = False):
@@ -99,33 +132,11 @@ def render_picture(sweeps: Sequence[Sweep], path: str | os.PathLike, *, at_hz: S
         For a port a sweep does not have, a marker frequency outside a sweep, or an output
         that exists (without ``overwrite``) or cannot be written.
     """
-    from refplane.views import export
-
-    export.check_target(path, overwrite=overwrite)
-    app = QApplication.instance()
-    if app is None:
-        quiet_platform_messages()
-        app = QApplication(["refplane-render"])
-    import pyqtgraph as pg
-
-    pg.setConfigOptions(antialias=True)
-    state = ViewState()
+    session = Session()
+    session.set_display(theme="dark" if theme.name.lower().startswith("dark") else "light",
+                        vswr_circle=vswr, admittance_grid=admittance)
     for sweep in sweeps:
-        tid = state.add_sweep(sweep, port=port)
+        tid = session.add_sweep(sweep, port=port)
         for f in at_hz:
-            state.add_marker(tid, f)
-    state.set_current_marker(-1)  # no "current marker" halo in a picture
-    picture = ChartPicture(state, theme)
-    try:
-        picture.chart.set_vswr_circle(vswr)
-        picture.chart.set_admittance_grid(admittance)
-        picture.setAttribute(Qt.WA_DontShowOnScreen, True)
-        picture.resize(*size)
-        picture.show()
-        app.processEvents()
-        picture.chart.reset_view()
-        app.processEvents()
-        return export.save_widget(picture, path, overwrite=overwrite, background=theme.chart_bg)
-    finally:
-        picture.close()
-        picture.deleteLater()
+            session.add_marker(tid, f)
+    return draw_session(session, path, size=size, overwrite=overwrite, theme=theme)

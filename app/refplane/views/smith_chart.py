@@ -10,7 +10,7 @@ One graphics item per visual element, each fed precomputed arrays:
   drags, the chart turns them into frequencies and tells the state.
 - :class:`VswrCircleItem` — the constant-VSWR circle.
 
-:class:`SmithChart` observes a :class:`~refplane.views.state.ViewState`; its slots only move
+:class:`SmithChart` observes a :class:`~refplane.views.state.Session`; its slots only move
 data from the state into items (and the cursor's Γ through ``impedance.gamma_to_z`` for the
 hover line).
 """
@@ -25,9 +25,10 @@ from PySide6.QtCore import QPointF, QRectF, Qt, Signal
 from PySide6.QtGui import QColor, QFont, QFontMetricsF, QPainter, QPainterPath, QPen
 from PySide6.QtWidgets import QGraphicsItem, QLabel, QVBoxLayout, QWidget
 
+from refplane.views.binding import bind
 from refplane.views import smith_grid
 from refplane.views.line_drawing import apply_line_mode
-from refplane.views.state import ViewState
+from refplane.session.model import Session
 from refplane.views.theme import LIGHT, Theme, quiet_label
 
 #: How close (in pixels) the cursor must be to a trace to read its frequency or place a marker.
@@ -367,7 +368,7 @@ class ChartView(pg.GraphicsView):
 
 
 class SmithChart(QWidget):
-    """The chart widget observing a :class:`ViewState`.
+    """The chart widget observing a :class:`Session`.
 
     Mouse: wheel zooms, drag pans, click near a trace places a marker, drag a marker along
     its trace. Keys: Left/Right step the current marker one swept point, Home resets the view.
@@ -375,7 +376,7 @@ class SmithChart(QWidget):
 
     hoverTextChanged = Signal(str)
 
-    def __init__(self, state: ViewState, parent: QWidget | None = None, theme: Theme = LIGHT):
+    def __init__(self, state: Session, parent: QWidget | None = None, theme: Theme = LIGHT):
         super().__init__(parent)
         self.state = state
         self.theme = theme
@@ -407,37 +408,74 @@ class SmithChart(QWidget):
         self._data: dict[int, tuple[np.ndarray, np.ndarray, np.ndarray]] = {}
         self._vswr: float | None = None
 
-        state.tracesChanged.connect(self._on_traces_changed)
-        state.traceChanged.connect(self._on_trace_changed)
-        state.offsetsChanged.connect(self._on_trace_changed)
-        state.overlaysChanged.connect(self._on_overlays_changed)
-        state.markersChanged.connect(self._on_markers_changed)
-        state.markerMoving.connect(self._on_marker_moving)
-        state.currentMarkerChanged.connect(self._on_current_marker)
+        bind(self, state.tracesChanged, self._on_traces_changed)
+        bind(self, state.traceChanged, self._on_trace_changed)
+        bind(self, state.offsetsChanged, self._on_trace_changed)
+        bind(self, state.overlaysChanged, self._on_overlays_changed)
+        bind(self, state.markersChanged, self._on_markers_changed)
+        bind(self, state.markerMoving, self._on_marker_moving)
+        bind(self, state.currentMarkerChanged, self._on_current_marker)
+        bind(self, state.displayChanged, self._on_display_changed)
         self.view.sigRangeChanged.connect(self._on_range_changed)
+        self.view.sigRangeChangedManually.connect(self._on_zoomed_by_hand)
         scene = self.plot.scene()
         scene.sigMouseMoved.connect(self._on_mouse_moved)
         scene.sigMouseClicked.connect(self._on_mouse_clicked)
         self._on_traces_changed()
         self._on_markers_changed()
-        self.reset_view()
+        self._applying_view = False
+        for name in ("admittance_grid", "vswr_circle", "chart_view"):
+            self._on_display_changed(name)
 
     # ---------------------------------------------------------------- public
     def reset_view(self) -> None:
-        """Show the whole chart."""
-        self.view.setRange(xRange=(-HOME, HOME), yRange=(-HOME, HOME), padding=0)
+        """Show the whole chart (and forget the zoom in the session)."""
+        self.state.set_display(chart_view=None)
+        self._show_range(None)
+
+    def apply_session_view(self) -> None:
+        """Show the session's zoom (or the whole chart)."""
+        self._show_range(self.state.display.chart_view)
+
+    def show_current_marker(self, shown: bool) -> None:
+        """Draw (or, for pictures, leave out) the halo of the marker the keys move."""
+        self._halo = bool(shown)
+        self._on_current_marker(self.state.current_marker)
+
+    _halo = True
 
     def set_admittance_grid(self, shown: bool) -> None:
-        """Show or hide the admittance grid."""
-        self.grid.set_admittance(smith_grid.admittance_grid() if shown else None)
+        """Show or hide the admittance grid (a session display option)."""
+        self.state.set_display(admittance_grid=bool(shown))
 
     def set_vswr_circle(self, vswr: float | None) -> None:
-        """Show the constant-VSWR circle of ``vswr`` (≥ 1), or hide it with None."""
-        self._vswr = vswr
-        if vswr is None:
-            self.vswr_circle.set_circle(None, None)
-        else:
-            self.vswr_circle.set_circle(*smith_grid.vswr_circle(vswr))
+        """Show the constant-VSWR circle of ``vswr`` (> 1), or hide it with None (a session option)."""
+        self.state.set_display(vswr_circle=vswr)
+
+    def _on_display_changed(self, name: str) -> None:
+        d = self.state.display
+        if name == "admittance_grid":
+            self.grid.set_admittance(smith_grid.admittance_grid() if d.admittance_grid else None)
+        elif name == "vswr_circle":
+            self._vswr = d.vswr_circle
+            if d.vswr_circle is None:
+                self.vswr_circle.set_circle(None, None)
+            else:
+                self.vswr_circle.set_circle(*smith_grid.vswr_circle(d.vswr_circle))
+        elif name == "chart_view" and not self._applying_view:
+            self._show_range(d.chart_view)
+
+    def _show_range(self, view: tuple[float, float, float, float] | None) -> None:
+        x0, x1, y0, y1 = view if view is not None else (-HOME, HOME, -HOME, HOME)
+        self.view.setRange(xRange=(x0, x1), yRange=(y0, y1), padding=0)
+
+    def _on_zoomed_by_hand(self, *_args) -> None:
+        (x0, x1), (y0, y1) = self.view.viewRange()
+        self._applying_view = True
+        try:
+            self.state.set_display(chart_view=(x0, x1, y0, y1))
+        finally:
+            self._applying_view = False
 
     @property
     def vswr(self) -> float | None:
@@ -531,20 +569,21 @@ class SmithChart(QWidget):
     def _on_trace_changed(self, trace_id: int) -> None:
         if trace_id not in self._traces:
             return
-        t = self.state.trace(trace_id)
-        g = t.displayed.reflection(t.port)
+        t = self.state.scene().trace(trace_id)
+        g = t.gamma
         item = self._traces[trace_id]
         item.set_style(t.colour)
-        item.set_data(g.real, g.imag)
+        if self._data.get(trace_id, (None, None, None, None))[3] is not g:
+            item.set_data(g.real, g.imag)
+            self._data[trace_id] = (t.freq_hz, g.real, g.imag, g)
         item.setVisible(t.visible)
-        self._data[trace_id] = (t.displayed.freq_hz, g.real, g.imag)
         raw = self._raw.get(trace_id)
-        if t.corrected:
+        if t.raw_gamma is not None:
             if raw is None:
                 raw = self._raw[trace_id] = TraceItem(t.colour, width=1.4, alpha=0.3, ends=False)
                 raw.setZValue(8)
                 self._add_trace_item(raw)
-            r = t.raw.reflection(t.port)
+            r = t.raw_gamma
             raw.set_style(t.colour, width=1.4, alpha=0.3)
             raw.set_data(r.real, r.imag)
             raw.setVisible(t.visible)
@@ -561,37 +600,38 @@ class SmithChart(QWidget):
                 self._place_marker(mid)
 
     def _on_overlays_changed(self, trace_id: int) -> None:
-        t = self.state.trace(trace_id)
-        for key in [k for k in self._overlays if k[0] == trace_id and k[1] not in t.overlays]:
+        t = self.state.scene().trace(trace_id)
+        names = {ov.name for ov in t.overlays}
+        for key in [k for k in self._overlays if k[0] == trace_id and k[1] not in names]:
             self.plot.removeItem(self._overlays.pop(key))
-        for name, sweep in t.overlays.items():
-            key = (trace_id, name)
+        for ov in t.overlays:
+            key = (trace_id, ov.name)
             if key not in self._overlays:
                 self._overlays[key] = TraceItem(t.colour, width=1.6, dashed=True, alpha=0.9, ends=False)
                 self._overlays[key].setZValue(9)
                 self._add_trace_item(self._overlays[key])
-            g = sweep.reflection(1)
+            g = ov.gamma
             self._overlays[key].set_data(g.real, g.imag)
             self._overlays[key].setVisible(t.visible)
 
     def _on_markers_changed(self) -> None:
-        existing = {m.id for m in self.state.markers()}
+        scene = self.state.scene()
+        existing = {m.id for m in scene.markers}
         for mid in list(self._markers):
             if mid not in existing:
                 self.plot.removeItem(self._markers.pop(mid))
-        for number, m in enumerate(self.state.markers(), start=1):
-            t = self.state.trace(m.trace_id)
+        for m in scene.markers:
             item = self._markers.get(m.id)
             if item is None:
-                item = self._markers[m.id] = MarkerItem(m.id, number, t.colour, self.theme)
+                item = self._markers[m.id] = MarkerItem(m.id, m.number, m.colour, self.theme)
                 item.sigDragged.connect(self._on_marker_dragged)
                 item.sigClicked.connect(self.state.set_current_marker)
                 self.plot.addItem(item)
-            item._number = str(number)
-            item.set_colour(t.colour)
-            item.setVisible(t.visible)
-            item.set_current(m.id == self.state.current_marker)
-            self._place_marker(m.id)
+            item._number = str(m.number)
+            item.set_colour(m.colour)
+            item.setVisible(m.visible)
+            item.set_current(self._halo and m.id == scene.current_marker)
+            item.setPos(m.gamma.real, m.gamma.imag)
 
     def _on_marker_moving(self, marker_id: int) -> None:
         if marker_id in self._markers:
@@ -599,10 +639,10 @@ class SmithChart(QWidget):
 
     def _on_current_marker(self, marker_id: int) -> None:
         for mid, item in self._markers.items():
-            item.set_current(mid == marker_id)
+            item.set_current(self._halo and mid == marker_id)
 
     def _place_marker(self, marker_id: int) -> None:
-        g = self.state.marker_gamma(marker_id)
+        g = self.state.scene().marker(marker_id).gamma
         self._markers[marker_id].setPos(g.real, g.imag)
 
     def _on_marker_dragged(self, marker_id: int, scene_pos: QPointF, finished: bool) -> None:
@@ -614,7 +654,7 @@ class SmithChart(QWidget):
         return 1.0 / px if px else 1.0, 1.0 / py if py else 1.0
 
     def _frequency_near(self, trace_id: int, x: float, y: float) -> tuple[float, float]:
-        freq, gx, gy = self._data[trace_id]
+        freq, gx, gy, _g = self._data[trace_id]
         sx, sy = self._pixels_per_unit()
         return smith_grid.frequency_near(x, y, gx, gy, freq, sx, sy)
 
@@ -638,27 +678,17 @@ class SmithChart(QWidget):
     def hover_text(self, gamma: complex) -> str:
         """The hover line for a chart position: z, Z in ohms, and the nearest trace's frequency."""
         from refplane.analysis.impedance import gamma_to_z
-        from refplane.analysis.units import format_frequency
+        from refplane.session.present import hover_text
 
-        if abs(gamma) > 1.0:
-            return "Outside the chart (|Γ| > 1)"
-        near = self._nearest_trace(gamma.real, gamma.imag)
+        near = self._nearest_trace(gamma.real, gamma.imag) if abs(gamma) <= 1.0 else None
         tid = near[0] if near else self.state.current_trace
+        scene = self.state.scene()
         z0 = 50.0
         if tid in self._traces:
-            t = self.state.trace(tid)
-            z0 = float(t.displayed.z0_ohm[t.port - 1].real)
-        z = complex(gamma_to_z(gamma, z0))
-        zn = z / z0
-        if math.isinf(z.real):
-            text = "z = ∞ (open)"
-        else:
-            text = (f"z = {zn.real:.3f} {'+' if zn.imag >= 0 else '−'} j{abs(zn.imag):.3f}    "
-                    f"Z = {z.real:.2f} {'+' if z.imag >= 0 else '−'} j{abs(z.imag):.2f} Ω  "
-                    f"(ref. {z0:g} Ω)")
-        if near and near[2] <= PICK_PX:
-            text += f"    ·    {format_frequency(near[1], 6)} on {self.state.trace(near[0]).name}"
-        return text
+            z0 = scene.trace(tid).z0_ohm
+        z = complex(gamma_to_z(gamma, z0)) if abs(gamma) <= 1.0 else complex("nan")
+        named = (scene.trace(near[0]).name, near[1]) if near and near[2] <= PICK_PX else None
+        return hover_text(gamma, z, z0, named)
 
     def _on_mouse_clicked(self, ev) -> None:
         if ev.button() != Qt.LeftButton or ev.double():

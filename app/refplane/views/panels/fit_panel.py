@@ -1,10 +1,10 @@
 """Equivalent-circuit fit of the current trace: band, model, Fit; the result in words and tables.
 
-The fit runs in :func:`refplane.analysis.fitting.fit_sweep` on a worker thread of the
-panel's own :class:`QThreadPool` (a fit of every circuit takes a noticeable fraction of a
-second); the worker also builds the model curve, so the slots here only show what arrives.
-The model curve goes on the trace as a dashed overlay named :data:`OVERLAY_NAME` through
-:meth:`ViewState.set_overlay`.
+The fit runs as :func:`refplane.session.jobs.fit` on the window's worker facility (a fit of
+every circuit takes a noticeable fraction of a second); the job also builds the model curve,
+so the slots here only show what arrives. The model curve goes on the trace as a dashed
+overlay named :data:`OVERLAY_NAME` through :meth:`Session.set_overlay`; the band, model and
+measurement are session fields (:class:`~refplane.session.model.FitSettings`).
 
 The band is typed ("100 MHz : 1 GHz") or follows the band selected in the window (the
 frequency plot sets it by dragging); an empty band fits the whole sweep.
@@ -12,82 +12,28 @@ frequency plot sets it by dragging); an empty band fits the whole sweep.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-
-from PySide6.QtCore import QObject, QRunnable, Qt, QThreadPool, Signal
+from PySide6.QtCore import Qt, Signal
 from PySide6.QtWidgets import (QAbstractItemView, QComboBox, QFormLayout, QHBoxLayout, QHeaderView,
                                QLabel, QLineEdit, QPushButton, QTableWidget, QTableWidgetItem,
                                QVBoxLayout, QWidget)
 
+from refplane.views.binding import bind
 from refplane.analysis.errors import AnalysisError
-from refplane.analysis.sweep import Sweep
-from refplane.views.state import ViewState
+from refplane.session import jobs
+from refplane.session.jobs import FitRequest
+from refplane.session.model import Session
 from refplane.views.theme import quiet_label
+from refplane.views.workers import Workers
 
 #: Name of the dashed overlay the panel puts on the fitted trace.
-OVERLAY_NAME = "fitted model"
+OVERLAY_NAME = jobs.FIT_OVERLAY
 
-#: The measurement choices: (label, through kind or None).
+#: The measurement choices: (label, session value).
 MEASUREMENTS = (
-    ("Reflection of the trace's port", None),
+    ("Reflection of the trace's port", "reflection"),
     ("Series through (part between ports, S21)", "series"),
     ("Shunt through (part to ground, S21)", "shunt"),
 )
-
-
-@dataclass(frozen=True)
-class FitRequest:
-    """Everything a fit needs, captured on the UI thread."""
-
-    job: int
-    """Sequence number; results of superseded requests are dropped."""
-    trace_id: int
-    """The trace fitted."""
-    sweep: Sweep
-    """The trace's displayed (corrected) sweep."""
-    model: str
-    """Model id or "auto"."""
-    band_hz: tuple[float, float] | None
-    """Band, or None for the whole sweep."""
-    port: int
-    """The trace's port (reflection), or the driving port (through)."""
-    through: str | None
-    """"series", "shunt" or None."""
-
-
-def run_fit(request: FitRequest):
-    """Fit and build the overlay; returns ("ok", (result, overlay or None)) or ("error", message).
-
-    Never raises: a fault in the analysis must not take the window down.
-    """
-    from refplane.analysis.fitting import fit_sweep
-
-    try:
-        result = fit_sweep(request.sweep, model=request.model, band_hz=request.band_hz,
-                           port=request.port, through=request.through)
-        overlay = None
-        if result.measurement == "reflection":
-            overlay = result.to_sweep(request.sweep.freq_hz, name=OVERLAY_NAME)
-        return "ok", (result, overlay)
-    except AnalysisError as exc:
-        return "error", str(exc)
-    except Exception as exc:  # pragma: no cover - a bug in the fit, reported rather than fatal
-        return "error", f"the fit failed ({type(exc).__name__}: {exc})"
-
-
-class _Signals(QObject):
-    done = Signal(object, str, object)  # request, status, payload
-
-
-class _FitJob(QRunnable):
-    def __init__(self, request: FitRequest, signals: _Signals):
-        super().__init__()
-        self.request = request
-        self.signals = signals
-
-    def run(self) -> None:
-        status, payload = run_fit(self.request)
-        self.signals.done.emit(self.request, status, payload)
 
 
 class FitPanel(QWidget):
@@ -96,19 +42,14 @@ class FitPanel(QWidget):
     #: Emitted on the UI thread when a fit has been shown (True) or has failed (False).
     fitFinished = Signal(bool)
 
-    def __init__(self, state: ViewState, parent: QWidget | None = None):
+    def __init__(self, state: Session, parent: QWidget | None = None, workers: Workers | None = None):
         super().__init__(parent)
         from refplane.analysis.circuits import MODELS
 
         self.setObjectName("panel")
         self.state = state
-        self.pool = QThreadPool(self)
-        self.pool.setMaxThreadCount(1)
-        # Not parented to the panel: a worker may still hold it while the panel closes.
-        self._signals = _Signals()
-        self._signals.done.connect(self._on_done)
+        self.workers = workers if workers is not None else Workers(self, threads=1)
         self._job = 0
-        self._fitted_trace: int | None = None   # the trace carrying the dashed curve
         self._result_trace: int | None = None   # the trace the shown result was fitted to
         self._result_sweep = None               # ... and the sweep it was fitted from
         self._running: FitRequest | None = None
@@ -141,9 +82,14 @@ class FitPanel(QWidget):
         self.sentence = QLabel("")
         self.sentence.setWordWrap(True)
         self.sentence.setTextInteractionFlags(Qt.TextSelectableByMouse)
-        self.params_table = self._table(["Parameter", "Value", "Std. error"])
+        self.params_table = self._table(["Part", "Value", "Std. error"])
+        self.note = QLabel("")
+        self.note.setObjectName("hint")
+        quiet_label(self.note)
+        self.note.setWordWrap(True)
         self.ranking_label = QLabel("")
-        self.ranking_table = self._table(["Model", "Parameters", "ΔAICc", "Residual"])
+        self.ranking_label.setWordWrap(True)
+        self.ranking_table = self._table(["Model", "Parts", "Score gap (ΔAICc)", "Residual"])
 
         form = QFormLayout()
         form.addRow("Band", self.band_edit)
@@ -160,18 +106,44 @@ class FitPanel(QWidget):
         layout.addWidget(self.message)
         layout.addWidget(self.sentence)
         layout.addWidget(self.params_table, 1)
+        layout.addWidget(self.note)
         layout.addWidget(self.ranking_label)
         layout.addWidget(self.ranking_table, 1)
 
+        self._show_settings()
         self.fit_button.clicked.connect(self.fit)
         self.band_edit.returnPressed.connect(self.fit)
+        self.band_edit.editingFinished.connect(lambda: self.state.set_fit(band_text=self.band_edit.text().strip()))
+        self.model_combo.currentIndexChanged.connect(lambda _i: self.state.set_fit(model=self.model_combo.currentData()))
+        self.measurement_combo.currentIndexChanged.connect(
+            lambda _i: self.state.set_fit(measurement=self.measurement_combo.currentData()))
         self.clear_button.clicked.connect(self.remove_curve)
-        state.bandChanged.connect(self._on_band)
-        state.tracesChanged.connect(self._on_traces)
-        state.offsetsChanged.connect(self._on_trace_data)
-        state.traceChanged.connect(self._on_trace_data)
+        bind(self, state.fitSettingsChanged, self._show_settings)
+        bind(self, state.bandChanged, self._on_band)
+        bind(self, state.tracesChanged, self._on_traces)
+        bind(self, state.offsetsChanged, self._on_trace_data)
+        bind(self, state.traceChanged, self._on_trace_data)
         self._on_band()
         self._show_result(None)
+
+    @property
+    def _fitted_trace(self) -> int | None:
+        """The trace carrying the dashed curve (a session field)."""
+        return self.state.fit.overlay_trace
+
+    def _show_settings(self) -> None:
+        """Show the session's fit settings in the fields (signals held: nothing echoes)."""
+        fit = self.state.fit
+        for widget, value in ((self.model_combo, fit.model), (self.measurement_combo, fit.measurement)):
+            index = widget.findData(value)
+            if index >= 0 and index != widget.currentIndex():
+                widget.blockSignals(True)
+                widget.setCurrentIndex(index)
+                widget.blockSignals(False)
+        if self.band_edit.text().strip() != fit.band_text:
+            self.band_edit.blockSignals(True)
+            self.band_edit.setText(fit.band_text)
+            self.band_edit.blockSignals(False)
 
     # ---------------------------------------------------------------- public
     def fit(self) -> int | None:
@@ -186,15 +158,18 @@ class FitPanel(QWidget):
             band = self.band_hz()
         except AnalysisError as exc:
             return self._fail(str(exc))
+        self.state.set_fit(band_text=self.band_edit.text().strip())
         trace = self.state.trace(tid)
-        through = self.measurement_combo.currentData()
+        measurement = self.state.fit.measurement
+        through = None if measurement == "reflection" else measurement
         self._job += 1
-        request = FitRequest(job=self._job, trace_id=tid, sweep=trace.displayed, model=self.model_combo.currentData(),
+        request = FitRequest(job=self._job, trace_id=tid, sweep=trace.displayed, model=self.state.fit.model,
                              band_hz=band, port=1 if through else trace.port, through=through)
         self._running = request
         self.fit_button.setEnabled(False)
         self.message.setText("Fitting…")
-        self.pool.start(_FitJob(request, self._signals))
+        self.workers.submit(lambda _t: jobs.fit(request), lambda result: self._on_done(request, result),
+                            name="Fitting…")
         return self._job
 
     def band_hz(self) -> tuple[float, float] | None:
@@ -208,11 +183,11 @@ class FitPanel(QWidget):
         """Remove the dashed model curve from the trace it was drawn on."""
         if self._fitted_trace is not None and self._fitted_trace in self.state.trace_ids():
             self.state.set_overlay(self._fitted_trace, OVERLAY_NAME, None)
-        self._fitted_trace = None
+        self.state.set_fit(overlay_trace=None)
 
     def wait(self, msecs: int = 30000) -> bool:
-        """Wait for a running fit to end (for tests and for closing the window)."""
-        return self.pool.waitForDone(msecs)
+        """Wait for a running fit to end and its result to be shown (tests, closing the window)."""
+        return self.workers.wait(msecs)
 
     def parameter_rows(self) -> list[list[str]]:
         """What the parameter table shows, row by row."""
@@ -223,14 +198,15 @@ class FitPanel(QWidget):
         return self._rows(self.ranking_table)
 
     # ---------------------------------------------------------------- slots
-    def _on_done(self, request: FitRequest, status: str, payload) -> None:
+    def _on_done(self, request: FitRequest, job_result) -> None:
         if request.job != self._job:
             return  # superseded by a later request
         self._running = None
         self.fit_button.setEnabled(True)
-        if status != "ok":
-            self._fail(payload)
+        if not job_result.ok:
+            self._fail(job_result.message)
             return
+        payload = job_result.value
         if request.trace_id not in self.state.trace_ids():
             self._fail("The trace was closed before the fit ended.")
             return
@@ -242,7 +218,7 @@ class FitPanel(QWidget):
         self.remove_curve()
         if overlay is not None:
             self.state.set_overlay(request.trace_id, OVERLAY_NAME, overlay)
-            self._fitted_trace = request.trace_id
+            self.state.set_fit(overlay_trace=request.trace_id)
         self.fitFinished.emit(True)
 
     def _on_band(self) -> None:
@@ -250,12 +226,10 @@ class FitPanel(QWidget):
 
         band = self.state.band
         if band is not None:
-            self.band_edit.setText(f"{format_frequency(band[0])} : {format_frequency(band[1])}")
+            self.state.set_fit(band_text=f"{format_frequency(band[0])} : {format_frequency(band[1])}")
 
     def _on_traces(self) -> None:
         ids = self.state.trace_ids()
-        if self._fitted_trace is not None and self._fitted_trace not in ids:
-            self._fitted_trace = None
         if self._result_trace is not None and self._result_trace not in ids:
             self._result_trace = self._result_sweep = None
             self._show_result(None)
@@ -280,17 +254,21 @@ class FitPanel(QWidget):
         self.result = result
         if result is None:
             self.sentence.setText("Choose a band and a model, then Fit.")
+            self.note.setText("")
             self._fill(self.params_table, [])
             self._fill(self.ranking_table, [])
             self.ranking_label.setText("")
             return
-        from refplane.analysis.fitting import ranking_rows  # not needed (nor imported) at start-up
+        from refplane.session import present
 
-        self.sentence.setText(result.sentence())
-        self._fill(self.params_table, result.table_rows())
+        self.sentence.setText(present.fit_sentence(result))
+        self._fill(self.params_table, present.fit_parameter_rows(result))
+        self.note.setText(present.SERIES_VS_FITTED_NOTE if result.measurement == "reflection" else "")
         chosen = "chosen automatically; " if result.automatic else ""
-        self.ranking_label.setText(f"Candidates by AICc ({chosen}lower is better)")
-        self._fill(self.ranking_table, ranking_rows(result))
+        self.ranking_label.setText(
+            f"Other circuits tried ({chosen}the score weighs how well each fits against how many "
+            "parts it needs; a gap above about 2 means clearly worse)")
+        self._fill(self.ranking_table, present.fit_ranking_rows(result))
 
     @staticmethod
     def _table(headers: list[str]) -> QTableWidget:

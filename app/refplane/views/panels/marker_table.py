@@ -1,8 +1,7 @@
 """Marker readouts: one row per marker, a difference row, typed frequencies, copy as text.
 
-Every cell is exactly :func:`refplane.analysis.readings.readout_cells` of the marker's
-reading (through :meth:`ViewState.marker_cells`), so the table shows what ``refplane read``
-prints at the same frequency. When the marker's trace carries a fitted model (an overlay),
+Every cell comes from the session's resolved scene (:mod:`refplane.session.present` rules),
+so the table shows what ``refplane read`` prints at the same frequency. When the marker's trace carries a fitted model (an overlay),
 a row below the markers shows the model's reading at the same frequency, for comparison.
 """
 
@@ -14,15 +13,16 @@ from PySide6.QtWidgets import (QAbstractItemView, QComboBox, QHBoxLayout, QHeade
                                QLineEdit, QPushButton, QTableWidget, QTableWidgetItem, QVBoxLayout,
                                QWidget)
 
+from refplane.views.binding import bind
 from refplane.analysis.errors import AnalysisError
-from refplane.views.state import ViewState
+from refplane.session.model import Session
 from refplane.views.theme import quiet_label
 
 
 class MarkerTable(QWidget):
     """The marker readout table with an entry line for placing markers by frequency."""
 
-    def __init__(self, state: ViewState, parent: QWidget | None = None):
+    def __init__(self, state: Session, parent: QWidget | None = None):
         super().__init__(parent)
         self.setObjectName("panel")
         self.state = state
@@ -79,17 +79,18 @@ class MarkerTable(QWidget):
         self.copy_button.clicked.connect(self.copy_to_clipboard)
         self.remove_button.clicked.connect(self._remove_current)
         self.clear_button.clicked.connect(state.clear_markers)
-        self.delta_a.currentIndexChanged.connect(lambda _i: self._fill_delta())
-        self.delta_b.currentIndexChanged.connect(lambda _i: self._fill_delta())
+        self.delta_a.currentIndexChanged.connect(lambda _i: self._on_delta_chosen())
+        self.delta_b.currentIndexChanged.connect(lambda _i: self._on_delta_chosen())
+        bind(self, state.displayChanged, lambda name: name == "delta_markers" and self._fill_delta())
         self.table.currentCellChanged.connect(self._on_current_cell)
-        state.markersChanged.connect(self.rebuild)
-        state.tracesChanged.connect(self.rebuild)
-        state.traceChanged.connect(lambda _id: self.rebuild())
-        state.offsetsChanged.connect(lambda _id: self.rebuild())
-        state.overlaysChanged.connect(lambda _id: self.rebuild())
-        state.markerMoving.connect(self.refresh_marker)
-        state.markerMoved.connect(lambda _id: self.table.resizeColumnsToContents())
-        state.currentMarkerChanged.connect(self._select_current)
+        bind(self, state.markersChanged, self.rebuild)
+        bind(self, state.tracesChanged, self.rebuild)
+        bind(self, state.traceChanged, lambda _id: self.rebuild())
+        bind(self, state.offsetsChanged, lambda _id: self.rebuild())
+        bind(self, state.overlaysChanged, lambda _id: self.rebuild())
+        bind(self, state.markerMoving, self.refresh_marker)
+        bind(self, state.markerMoved, lambda _id: self.table.resizeColumnsToContents())
+        bind(self, state.currentMarkerChanged, self._select_current)
         self.rebuild()
 
     # ---------------------------------------------------------------- public
@@ -141,18 +142,21 @@ class MarkerTable(QWidget):
                 if self.table.item(row, col) is not None and self.table.item(row, col).text()}
 
     def as_tsv(self) -> str:
-        """The whole table as tab-separated text: a header line, then a line per row."""
-        lines = ["\t".join([""] + self._cols)]
-        for row in range(self.table.rowCount()):
-            head = self.table.verticalHeaderItem(row).text()
-            cells = [(self.table.item(row, c).text() if self.table.item(row, c) else "")
-                     for c in range(self.table.columnCount())]
-            lines.append("\t".join([head] + cells))
-        return "\n".join(lines) + "\n"
+        """The table as tab-separated numbers a spreadsheet computes with: units in the header
+        row, one quantity per column, plain ASCII minus, no thousands separators."""
+        from refplane.session.present import difference_values, sheet_rows, sheet_text
+
+        scene = self.state.scene()
+        rows = [(str(m.number), scene.trace(m.trace_id).label, m.readout) for m in scene.markers]
+        if scene.delta is not None:
+            a, b = scene.marker(scene.delta.a), scene.marker(scene.delta.b)
+            rows.append(("Difference", scene.delta.label, difference_values(a.readout, b.readout)))
+        rows += [(f"{m.number} model", name, r) for m in scene.markers for name, r in m.model_readouts.items()]
+        return sheet_text(sheet_rows(rows))
 
     def copy_to_clipboard(self) -> None:
         QGuiApplication.clipboard().setText(self.as_tsv())
-        self._say("Table copied as tab-separated text.")
+        self._say("Table copied: numbers in the units named in its first row.")
 
     def _say(self, text: str) -> None:
         self.message.setText(text)
@@ -160,29 +164,29 @@ class MarkerTable(QWidget):
 
     # ----------------------------------------------------------------- slots
     def rebuild(self) -> None:
-        markers = self.state.markers()
+        scene = self.state.scene()
+        markers = scene.markers
         self._ids = [m.id for m in markers]
-        self._cols = ["Trace"] + (list(self.state.marker_cells(markers[0].id)) if markers else [])
+        self._cols = ["Trace"] + (list(markers[0].cells) if markers else [])
         show_delta = len(markers) >= 2
-        self._model_rows = [(m.id, name) for m in markers
-                            for name in self.state.trace(m.trace_id).overlays]
+        self._model_rows = [(m.id, ov.name) for m in markers
+                            for ov in scene.trace(m.trace_id).overlays]
         self.table.setColumnCount(len(self._cols) if markers else 0)
         self.table.setRowCount(len(markers) + (1 if show_delta else 0) + len(self._model_rows))
         self.table.setHorizontalHeaderLabels(self._cols)
-        numbers = {m.id: str(i) for i, m in enumerate(markers, start=1)}
+        numbers = {m.id: str(m.number) for m in markers}
         rows = ([numbers[m.id] for m in markers] + (["Difference"] if show_delta else [])
                 + [f"{numbers[mid]} model" for mid, _name in self._model_rows])
         self.table.setVerticalHeaderLabels(rows)
         for m in markers:
             self.refresh_marker(m.id)
-        for combo, default in ((self.delta_a, -2), (self.delta_b, -1)):
+        delta = scene.delta
+        for combo, chosen in ((self.delta_a, delta.a if delta else None), (self.delta_b, delta.b if delta else None)):
             combo.blockSignals(True)
-            previous = combo.currentData()
             combo.clear()
-            for i, m in enumerate(markers, start=1):
-                combo.addItem(str(i), m.id)
-            index = combo.findData(previous)
-            combo.setCurrentIndex(index if index >= 0 else (len(markers) + default if len(markers) >= 2 else -1))
+            for m in markers:
+                combo.addItem(str(m.number), m.id)
+            combo.setCurrentIndex(combo.findData(chosen) if chosen is not None else -1)
             combo.setEnabled(show_delta)
             combo.blockSignals(False)
         for button in (self.remove_button, self.clear_button, self.copy_button):
@@ -195,13 +199,13 @@ class MarkerTable(QWidget):
         if marker_id not in self._ids:
             return
         row = self._ids.index(marker_id)
-        m = self.state.marker(marker_id)
-        t = self.state.trace(m.trace_id)
-        values = {"Trace": f"{t.name} · S{t.port}{t.port}", **self.state.marker_cells(marker_id)}
+        scene = self.state.scene()
+        m = scene.marker(marker_id)
+        values = {"Trace": scene.trace(m.trace_id).label, **m.cells}
         for col, label in enumerate(self._cols):
             self._set(row, col, values.get(label, ""), left=(label == "Trace"))
         if any(mid == marker_id for mid, _name in self._model_rows):
-            models = self.state.marker_model_cells(marker_id)
+            models = m.model_cells
             first = self._first_model_row()
             for i, (mid, name) in enumerate(self._model_rows):
                 if mid != marker_id:
@@ -221,18 +225,24 @@ class MarkerTable(QWidget):
         elif item.text() != text:
             item.setText(text)
 
-    def _fill_delta(self) -> None:
-        from refplane.views.marker_delta import delta_cells
+    def _on_delta_chosen(self) -> None:
+        a, b = self.delta_a.currentData(), self.delta_b.currentData()
+        if a is not None and b is not None:
+            self.state.set_display(delta_markers=(a, b))
 
+    def _fill_delta(self) -> None:
         row = len(self._ids)
         if self.table.rowCount() <= row:
             return
-        a, b = self.delta_a.currentData(), self.delta_b.currentData()
-        if a is None or b is None or a not in self._ids or b not in self._ids:
+        delta = self.state.scene().delta
+        if delta is None or delta.a not in self._ids or delta.b not in self._ids:
             return
-        cells = delta_cells(self.state.marker_readout(a), self.state.marker_readout(b))
-        na, nb = self._ids.index(a) + 1, self._ids.index(b) + 1
-        cells["Trace"] = f"marker {nb} − marker {na}"
+        for combo, chosen in ((self.delta_a, delta.a), (self.delta_b, delta.b)):
+            if combo.currentData() != chosen:
+                combo.blockSignals(True)
+                combo.setCurrentIndex(combo.findData(chosen))
+                combo.blockSignals(False)
+        cells = {**delta.cells, "Trace": delta.label}
         self.table.verticalHeaderItem(row).setText("Δ")
         for col, label in enumerate(self._cols):
             self._set(row, col, cells.get(label, ""), left=(label == "Trace"))

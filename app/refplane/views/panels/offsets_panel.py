@@ -9,24 +9,27 @@ from a trace of the bare cable ended in an open or a short (on a worker thread).
 in its header.
 
 The panel assigns whole :class:`~refplane.analysis.deembed.LineOffset` values to the model
-through :meth:`ViewState.set_offsets`; it holds no RF maths (text is parsed by
+through :meth:`Session.set_offsets`; it holds no RF maths (text is parsed by
 :mod:`refplane.analysis.units`, delay ↔ length by ``LineOffset``).
 """
 
 from __future__ import annotations
 
 import os
-from dataclasses import dataclass
 
-from PySide6.QtCore import QEvent, QObject, QRunnable, Qt, QThreadPool, Signal
+from PySide6.QtCore import QEvent, QObject, Qt, Signal
 from PySide6.QtWidgets import (QComboBox, QFileDialog, QFormLayout, QHBoxLayout, QLabel, QLineEdit,
                                QMessageBox, QPushButton, QSlider, QVBoxLayout, QWidget)
 
+from refplane.views.binding import bind
 from refplane.analysis.deembed import LineOffset, check_velocity_factor, describe_offsets, with_port_offset
 from refplane.analysis.errors import AnalysisError
 from refplane.analysis.units import (format_frequency, format_si, parse_length, parse_loss,
                                      parse_resistance, parse_time)
-from refplane.views.state import ViewState
+from refplane.session import jobs
+from refplane.session.jobs import EstimateRequest
+from refplane.session.model import Session
+from refplane.views.workers import Workers
 
 #: Delay steps offered for keys, wheel and slider: (label, seconds).
 STEPS = (("0.1 ps", 0.1e-12), ("1 ps", 1e-12), ("10 ps", 10e-12), ("100 ps", 100e-12))
@@ -36,54 +39,6 @@ SLIDER_STEPS = 1000
 _SAFETY = ("Before connecting a long cable to the analyzer, discharge it (briefly join centre "
            "and shield); never measure a line a transmitter may still feed. Follow your "
            "equipment maker's guidance and local practice.")
-
-
-@dataclass(frozen=True)
-class EstimateRequest:
-    """A plane estimate to run off the UI thread."""
-
-    job: int
-    """Sequence number; a later request supersedes this one."""
-    target_trace: int
-    """Trace whose offset receives the result."""
-    target_port: int
-    """1-based port of that trace."""
-    sweep: object
-    """The raw sweep of the bare line ended in the standard."""
-    port: int
-    """Port of ``sweep`` to use."""
-    standard: str
-    """"open" or "short"."""
-    velocity_factor: float | None
-    """For the reported length, if known."""
-
-
-def run_estimate(request: EstimateRequest):
-    """Run the estimate; ("ok", PlaneEstimate) or ("error", message). Never raises."""
-    from refplane.analysis.plane import estimate_plane
-
-    try:
-        return "ok", estimate_plane(request.sweep, standard=request.standard, port=request.port,
-                                    velocity_factor=request.velocity_factor)
-    except AnalysisError as exc:
-        return "error", str(exc)
-    except Exception as exc:  # pragma: no cover - a bug, reported rather than fatal
-        return "error", f"the estimate failed ({type(exc).__name__}: {exc})"
-
-
-class _Signals(QObject):
-    done = Signal(object, str, object)
-
-
-class _EstimateJob(QRunnable):
-    def __init__(self, request: EstimateRequest, signals: _Signals):
-        super().__init__()
-        self.request = request
-        self.signals = signals
-
-    def run(self) -> None:
-        status, payload = run_estimate(self.request)
-        self.signals.done.emit(self.request, status, payload)
 
 
 class _StepFilter(QObject):
@@ -115,17 +70,14 @@ class OffsetsPanel(QWidget):
     #: Emitted on the UI thread when an estimate has been applied (True) or failed (False).
     estimateFinished = Signal(bool)
 
-    def __init__(self, state: ViewState, parent: QWidget | None = None):
+    def __init__(self, state: Session, parent: QWidget | None = None, workers: Workers | None = None):
         super().__init__(parent)
         self.setObjectName("panel")
         self.state = state
-        self._vf: dict[tuple[int, int], float] = {}   # (trace, port) → velocity factor typed
         self._job = 0
-        self.pool = QThreadPool(self)
-        self.pool.setMaxThreadCount(1)
-        self._signals = _Signals()          # unparented: a worker may outlive the panel
-        self._signals.done.connect(self._on_estimate_done)
+        self.workers = workers if workers is not None else Workers(self, threads=1)
         self.last_estimate = None
+        self._estimate_for: tuple[int, int] | None = None  # (source trace, target trace) of the sentence
         # Dialog hooks, replaced in tests; each returns what the person chose.
         # ask_save_path returns the chosen path (its dialog has confirmed replacing an existing
         # file) or None; confirm asks once more before the original measurement is replaced.
@@ -226,10 +178,11 @@ class OffsetsPanel(QWidget):
         self.estimate_button.clicked.connect(self.start_estimate)
         self.save_button.clicked.connect(self.save_corrected)
 
-        state.currentTraceChanged.connect(lambda _: self._on_trace_switched())
-        state.tracesChanged.connect(self._on_traces_changed)
-        state.traceChanged.connect(self._on_trace_changed)
-        state.offsetsChanged.connect(self._on_offsets_changed)
+        bind(self, state.currentTraceChanged, lambda _: self._on_trace_switched())
+        bind(self, state.tracesChanged, self._on_traces_changed)
+        bind(self, state.traceChanged, self._on_trace_changed)
+        bind(self, state.offsetsChanged, self._on_offsets_changed)
+        bind(self, state.velocityFactorsChanged, self._on_offsets_changed)
         self._on_traces_changed()
 
     # ------------------------------------------------------------------ what is edited
@@ -260,8 +213,10 @@ class OffsetsPanel(QWidget):
         return LineOffset()
 
     def velocity_factor(self) -> float | None:
-        """The velocity factor typed for this trace and port, if any."""
-        return self._vf.get((self.trace_id, self.port))
+        """The velocity factor typed for this trace and port, if any (a session field)."""
+        if self.trace_id == -1:
+            return None
+        return self.state.trace(self.trace_id).velocity_factor(self.port)
 
     # ------------------------------------------------------------------ changing the model
     def set_offset(self, offset: LineOffset) -> bool:
@@ -323,9 +278,10 @@ class OffsetsPanel(QWidget):
 
     def _on_vf_edited(self) -> None:
         text = self.vf_edit.text().strip()
-        key = (self.trace_id, self.port)
+        if self.trace_id == -1:
+            return
         if not text:
-            self._vf.pop(key, None)
+            self.state.set_velocity_factor(self.trace_id, self.port, None)
             self._refresh_fields()
             return
         try:
@@ -334,7 +290,7 @@ class OffsetsPanel(QWidget):
             self._say(f"velocity factor: {exc}", error=True)
             self._refresh_fields()
             return
-        self._vf[key] = vf
+        self.state.set_velocity_factor(self.trace_id, self.port, vf)
         self._say("")
         self._refresh_fields()   # the length follows; the delay stays as it is
 
@@ -369,25 +325,28 @@ class OffsetsPanel(QWidget):
                                   velocity_factor=self.velocity_factor())
         self.estimate_button.setEnabled(False)
         self.estimate_label.setText("estimating…")
-        self.pool.start(_EstimateJob(request, self._signals))
+        self._estimate_for = (source, self.trace_id)
+        self.workers.submit(lambda _t: jobs.estimate(request),
+                            lambda result: self._on_estimate_done(request, result), name="Estimating the line…")
 
-    def _on_estimate_done(self, request: EstimateRequest, status: str, payload) -> None:
+    def wait(self, msecs: int = 30000) -> bool:
+        """Wait for a running estimate to end and be shown (tests)."""
+        return self.workers.wait(msecs)
+
+    def _on_estimate_done(self, request: EstimateRequest, result) -> None:
+        from refplane.session.present import estimate_sentence
+
         self.estimate_button.setEnabled(self.trace_id != -1)
         if request.job != self._job:
             return
-        if status != "ok":
+        if not result.ok:
             self.estimate_label.setText("")
-            self._say(f"estimate: {payload}", error=True)
+            self._say(f"estimate: {result.message}", error=True)
             self.estimateFinished.emit(False)
             return
-        est = payload
+        est = result.value
         self.last_estimate = est
-        length = f", {format_si(est.length_m, 'm', 5)}" if est.length_m is not None else ""
-        verdict = est.verdict()
-        self.estimate_label.setText(
-            f"Found {format_si(est.delay_s, 's', 5)}{length}, {est.loss_db:.3f} dB at "
-            f"{format_frequency(est.loss_ref_hz)}; residual {est.residual:.4f}. "
-            f"{verdict[:1].upper()}{verdict[1:]}.")
+        self.estimate_label.setText(estimate_sentence(est))
         applied = False
         if request.target_trace in self.state.trace_ids():
             trace = self.state.trace(request.target_trace)
@@ -463,7 +422,12 @@ class OffsetsPanel(QWidget):
         self.source_combo.setCurrentIndex(max(index, 0))
         self.source_combo.blockSignals(False)
         alive = set(self.state.trace_ids())
-        self._vf = {k: v for k, v in self._vf.items() if k[0] in alive}
+        if self._estimate_for is not None and not set(self._estimate_for) <= alive:
+            # The sentence described a trace that is gone: say nothing rather than something stale.
+            self._estimate_for = None
+            self.estimate_label.setText("")
+        if self.message.property("error") and self.trace_id == -1:
+            self._say("")
         self._on_trace_switched()
 
     def _on_trace_switched(self) -> None:

@@ -7,7 +7,8 @@ from PySide6.QtGui import QColor, QIcon, QPixmap
 from PySide6.QtWidgets import (QAbstractItemView, QColorDialog, QComboBox, QHeaderView,
                                QTableWidget, QTableWidgetItem, QToolButton, QVBoxLayout, QWidget)
 
-from refplane.views.state import ViewState
+from refplane.views.binding import bind
+from refplane.session.model import Session
 
 
 def swatch(colour: str, size: int = 14) -> QIcon:
@@ -25,7 +26,7 @@ class TraceList(QWidget):
 
     COL_NAME, COL_PORT, COL_COLOUR, COL_CLOSE = range(4)
 
-    def __init__(self, state: ViewState, parent: QWidget | None = None):
+    def __init__(self, state: Session, parent: QWidget | None = None):
         super().__init__(parent)
         self.setObjectName("panel")
         self.state = state
@@ -51,10 +52,10 @@ class TraceList(QWidget):
         self.table.currentCellChanged.connect(self._on_current_cell)
         # Queued: the close button must not be deleted while its own click is being handled.
         self.closeRequested.connect(state.remove_trace, Qt.QueuedConnection)
-        state.tracesChanged.connect(self.rebuild)
-        state.traceChanged.connect(lambda _id: self.rebuild())
-        state.offsetsChanged.connect(lambda _id: self.rebuild())
-        state.currentTraceChanged.connect(self._select_current)
+        bind(self, state.tracesChanged, self.rebuild)
+        bind(self, state.traceChanged, lambda _id: self.rebuild())
+        bind(self, state.offsetsChanged, lambda _id: self.rebuild())
+        bind(self, state.currentTraceChanged, self._select_current)
         self.rebuild()
 
     def row_of(self, trace_id: int) -> int:

@@ -1,11 +1,13 @@
-"""The window's headless model: open traces, their offsets and overlays, markers, a band.
+"""The user's work as one Qt-free, evented model: traces, markers, band and every display option.
 
-Every view (chart, plots, panels) observes one :class:`ViewState` through its Qt signals and
-changes it only through its public methods; no view reaches into another. The model holds
-no widgets, so tests drive it directly without a window.
+The window, ``refplane render --session`` and saved session files all drive one
+:class:`Session`. Views listen to its signals (psygnal, the evented-model library napari and
+ndv use) and change it only through its methods; what they draw and print comes from the
+frozen :class:`~refplane.session.scene.Scene` that :meth:`Session.scene` resolves once per
+change and shares.
 
-Records (:class:`Trace`, :class:`Marker`) are frozen snapshots, replaced whole on every
-change; read them with :meth:`ViewState.trace` / :meth:`ViewState.marker`.
+Records (:class:`Trace`, :class:`Marker`, :class:`DisplayOptions`, :class:`FitSettings`,
+:class:`CalibrationInputs`) are frozen snapshots, replaced whole on every change.
 
 Signals come in live/finished pairs where a drag is involved: ``markerMoving`` fires on
 every step of a drag, ``markerMoved`` once when it ends (and on any programmatic move);
@@ -15,18 +17,23 @@ likewise ``bandChanging`` / ``bandChanged``.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field, fields, replace
 from types import MappingProxyType
 from typing import Mapping, Sequence
 
-from PySide6.QtCore import QObject, Signal
+from psygnal import Signal
 
 from refplane.analysis.errors import AnalysisError
 from refplane.analysis.sweep import Sweep
 
 #: Okabe & Ito's colour-blind-safe palette (Okabe and Ito, "Color Universal Design", 2008),
-#: without its black, in the order traces take them.
+#: without its black, in the order traces take them. The yellow is last: on a white ground it
+#: has the least contrast of all, so the light theme takes it only when every other is in use.
 PALETTE = ("#0072B2", "#D55E00", "#009E73", "#CC79A7", "#E69F00", "#56B4E9", "#F0E442")
+LOW_CONTRAST_ON_LIGHT = frozenset({"#F0E442"})
+
+#: Plot quantities a session may choose (keys of :data:`refplane.session.plot_series.BY_KEY`).
+THEMES = ("light", "dark")
 
 
 def _offsets_are_zero(offsets: Sequence[object]) -> bool:
@@ -37,7 +44,6 @@ def _offsets_are_zero(offsets: Sequence[object]) -> bool:
 def _apply_offsets(raw: Sweep, offsets: tuple) -> Sweep:
     if _offsets_are_zero(offsets):
         return raw
-    # Imported lazily: the de-embedding module is optional until it is present.
     from refplane.analysis.deembed import remove_offsets
 
     return remove_offsets(raw, offsets)
@@ -45,7 +51,7 @@ def _apply_offsets(raw: Sweep, offsets: tuple) -> Sweep:
 
 @dataclass(frozen=True)
 class Trace:
-    """One open sweep as the window shows it (a snapshot; the model replaces it on change)."""
+    """One open sweep as the session shows it (a snapshot; the model replaces it on change)."""
 
     id: int
     """Identifier, unique for the life of the model; never reused."""
@@ -65,6 +71,10 @@ class Trace:
     """1-based port whose reflection S_NN is drawn and read."""
     overlays: Mapping[str, Sweep] = field(default_factory=lambda: MappingProxyType({}))
     """Model curves drawn dashed over the trace: name → 1-port sweep."""
+    velocity_factors: tuple = ()
+    """Velocity factor typed per port (``None`` where none is given); turns delay into length."""
+    order: float = 0.0
+    """Place in the trace list: the order in which files were named, whatever order they load in."""
 
     @property
     def corrected(self) -> bool:
@@ -75,6 +85,10 @@ class Trace:
     def source(self) -> str | None:
         """The file the raw sweep came from, if any."""
         return self.raw.source
+
+    def velocity_factor(self, port: int) -> float | None:
+        """The velocity factor typed for ``port`` (1-based), or ``None``."""
+        return self.velocity_factors[port - 1] if port <= len(self.velocity_factors) else None
 
 
 @dataclass(frozen=True)
@@ -89,15 +103,75 @@ class Marker:
     """Frequency in hertz, always inside the trace's sweep."""
 
 
-class ViewState(QObject):
-    """Open traces, markers and the selected band, announcing each change by a signal.
+@dataclass(frozen=True)
+class DisplayOptions:
+    """How the work is shown: plots, axes, chart grid and view, colours."""
+
+    upper_plot: str = "return_loss"
+    """Quantity of the upper frequency plot (a key of ``plot_series.BY_KEY``)."""
+    lower_plot: str = "r_x"
+    """Quantity of the lower frequency plot."""
+    log_frequency: bool = False
+    """Logarithmic frequency axis on both plots."""
+    admittance_grid: bool = False
+    """Draw the admittance grid behind the impedance grid."""
+    vswr_circle: float | None = None
+    """VSWR whose constant circle is drawn on the chart; ``None`` for none."""
+    theme: str = "light"
+    """Colour theme: "light" or "dark"."""
+    chart_view: tuple[float, float, float, float] | None = None
+    """Chart zoom as (x0, x1, y0, y1) in Γ units; ``None`` shows the whole chart."""
+    delta_markers: tuple[int, int] | None = None
+    """Markers (a, b) of the difference row b − a; ``None`` takes the last two placed."""
+
+
+@dataclass(frozen=True)
+class FitSettings:
+    """What the equivalent-circuit fit is asked to do, and which trace carries its curve."""
+
+    band_text: str = ""
+    """Band as typed ("100 MHz : 1 GHz"); empty fits the whole sweep."""
+    model: str = "auto"
+    """Model id, or "auto" for the simplest adequate one."""
+    measurement: str = "reflection"
+    """"reflection", "series" (through, S21) or "shunt" (through, S21)."""
+    overlay_trace: int | None = None
+    """The trace carrying the dashed fitted curve, if any."""
+
+
+@dataclass(frozen=True)
+class CalibrationInputs:
+    """What the calibration dialog was given: standards' sweeps, their definitions, devices."""
+
+    standards: Mapping[str, str] = field(default_factory=lambda: MappingProxyType({}))
+    """Role ("short", "open", "load", "through", "isolation") → sweep file."""
+    definitions_file: str | None = None
+    """Standards definition file; ``None`` for ideal standards."""
+    saved_terms_file: str | None = None
+    """Saved error terms in use instead of solving, if any."""
+    devices: tuple[str, ...] = ()
+    """Device sweep files to correct."""
+
+
+def _pick_colour(in_use: set[str], theme: str) -> str:
+    """The first palette colour no open trace uses (yellow last, and not first on white)."""
+    order = [c for c in PALETTE if not (theme == "light" and c in LOW_CONTRAST_ON_LIGHT)]
+    order += [c for c in PALETTE if c not in order]
+    for colour in order:
+        if colour.upper() not in in_use:
+            return colour
+    return order[len(in_use) % len(order)]
+
+
+class Session:
+    """The user's work: open traces, markers, the band and display options, with change events.
 
     Examples
     --------
-    >>> state = ViewState()                                   # doctest: +SKIP
-    >>> tid = state.add_sweep(sweep)                          # doctest: +SKIP
-    >>> mid = state.add_marker(tid, 470e6)                    # doctest: +SKIP
-    >>> state.marker_cells(mid)["R"]                          # doctest: +SKIP
+    >>> session = Session()                                   # doctest: +SKIP
+    >>> tid = session.add_sweep(sweep)                        # doctest: +SKIP
+    >>> mid = session.add_marker(tid, 470e6)                  # doctest: +SKIP
+    >>> session.scene().marker(mid).cells["R"]                # doctest: +SKIP
     '75.00 Ω'
     """
 
@@ -109,50 +183,92 @@ class ViewState(QObject):
     """A trace's offsets (and so its displayed sweep) changed."""
     overlaysChanged = Signal(int)
     """A trace's model overlays changed."""
+    velocityFactorsChanged = Signal(int)
+    """The velocity factors typed for a trace's ports changed."""
     currentTraceChanged = Signal(int)
     """The trace that panels act on changed (−1 for none)."""
     markersChanged = Signal()
     """A marker was added or removed, or markers moved with their traces' data."""
     markerMoving = Signal(int)
-    """A marker's frequency changed (live: many per drag, and once per programmatic move).
-    Views that show the position listen to this one."""
+    """A marker's frequency changed (live: many per drag, and once per programmatic move)."""
     markerMoved = Signal(int)
-    """A marker's move finished (once per drag, and after every programmatic move); for work
-    that should wait until the user lets go."""
+    """A marker's move finished (once per drag, and after every programmatic move)."""
     currentMarkerChanged = Signal(int)
     """The marker that keys and the table act on changed (−1 for none)."""
     bandChanging = Signal()
     """The selected band changed during a drag (live)."""
     bandChanged = Signal()
     """The selected band changed (finished, or set programmatically)."""
+    displayChanged = Signal(str)
+    """A display option changed; the argument names the field of :class:`DisplayOptions`."""
+    fitSettingsChanged = Signal()
+    """The fit settings changed."""
+    calibrationChanged = Signal()
+    """The calibration inputs changed."""
 
-    def __init__(self, parent: QObject | None = None):
-        super().__init__(parent)
+    def __init__(self, parent: object | None = None):
+        # ``parent`` is accepted (and ignored) so code written for the old Qt model still runs.
         self._traces: dict[int, Trace] = {}
         self._markers: dict[int, Marker] = {}
         self._next_trace = 1
         self._next_marker = 1
-        self._colour_turn = 0
         self._current_trace = -1
         self._current_marker = -1
         self._band: tuple[float, float] | None = None
+        self._display = DisplayOptions()
+        self._fit = FitSettings()
+        self._calibration = CalibrationInputs()
+        self._scene = None
+        self._last_scene = None
+        # Any change makes the cached Scene stale; it is resolved again when next asked for.
+        for name in ("tracesChanged", "traceChanged", "offsetsChanged", "overlaysChanged",
+                     "velocityFactorsChanged", "currentTraceChanged", "markersChanged",
+                     "markerMoving", "currentMarkerChanged", "bandChanging", "bandChanged",
+                     "displayChanged", "fitSettingsChanged", "calibrationChanged"):
+            getattr(self, name).connect(self._stale, priority=1000)
+
+    def _stale(self) -> None:
+        self._scene = None
+
+    # ------------------------------------------------------------------ scene
+    def scene(self):
+        """The frozen :class:`~refplane.session.scene.Scene` of the work as it is now.
+
+        Resolved once per change and shared by every view; parts that did not change are
+        carried over from the previous scene rather than computed again.
+        """
+        if self._scene is None:
+            from refplane.session.resolve import resolve
+
+            self._scene = resolve(self, previous=self._last_scene)
+            self._last_scene = self._scene
+        return self._scene
 
     # ------------------------------------------------------------------ traces
     def add_sweep(self, sweep: Sweep, *, name: str | None = None, port: int = 1,
-                  colour: str | None = None) -> int:
-        """Open ``sweep`` as a new trace and return its id (it becomes the current trace)."""
+                  colour: str | None = None, order: float | None = None) -> int:
+        """Open ``sweep`` as a new trace and return its id (it becomes the current trace).
+
+        ``order`` places it in the list (the order files were named in); by default it goes last.
+        """
         sweep.check_port(port)
         tid = self._next_trace
         self._next_trace += 1
         if colour is None:
-            colour = PALETTE[self._colour_turn % len(PALETTE)]
-            self._colour_turn += 1
+            colour = _pick_colour({t.colour.upper() for t in self._traces.values()}, self._display.theme)
+        if order is None:
+            order = max((t.order for t in self._traces.values()), default=0.0) + 1.0
         self._traces[tid] = Trace(id=tid, raw=sweep, displayed=sweep,
                                   name=name if name is not None else sweep.name,
-                                  colour=colour, port=port)
+                                  colour=colour, port=port, order=float(order),
+                                  velocity_factors=(None,) * sweep.n_ports)
+        self._sort()
         self.tracesChanged.emit()
         self.set_current_trace(tid)
         return tid
+
+    def _sort(self) -> None:
+        self._traces = dict(sorted(self._traces.items(), key=lambda kv: (kv[1].order, kv[0])))
 
     def remove_trace(self, trace_id: int) -> None:
         """Close a trace and the markers on it."""
@@ -161,6 +277,8 @@ class ViewState(QObject):
         gone = [m for m in self._markers.values() if m.trace_id == trace_id]
         for m in gone:
             del self._markers[m.id]
+        if self._fit.overlay_trace == trace_id:
+            self._fit = replace(self._fit, overlay_trace=None)
         self.tracesChanged.emit()
         if gone:
             if self._current_marker in {m.id for m in gone}:
@@ -179,11 +297,11 @@ class ViewState(QObject):
         return self._get(trace_id)
 
     def traces(self) -> list[Trace]:
-        """Every open trace, in opening order."""
+        """Every open trace, in list order."""
         return list(self._traces.values())
 
     def trace_ids(self) -> list[int]:
-        """Ids of the open traces, in opening order."""
+        """Ids of the open traces, in list order."""
         return list(self._traces)
 
     def displayed(self, trace_id: int) -> Sweep:
@@ -216,8 +334,10 @@ class ViewState(QObject):
         old = self._get(trace_id)
         offsets = old.offsets if len(old.offsets) in (0, sweep.n_ports) else ()
         port = old.port if old.port <= sweep.n_ports else 1
+        vfs = old.velocity_factors if len(old.velocity_factors) == sweep.n_ports else (None,) * sweep.n_ports
         displayed = _apply_offsets(sweep, offsets)
-        self._traces[trace_id] = replace(old, raw=sweep, displayed=displayed, offsets=offsets, port=port)
+        self._traces[trace_id] = replace(old, raw=sweep, displayed=displayed, offsets=offsets, port=port,
+                                         velocity_factors=vfs)
         self.traceChanged.emit(trace_id)
         if offsets != old.offsets:
             self.offsetsChanged.emit(trace_id)
@@ -244,6 +364,21 @@ class ViewState(QObject):
         self.offsetsChanged.emit(trace_id)
         if any(m.trace_id == trace_id for m in self._markers.values()):
             self.markersChanged.emit()
+
+    def set_velocity_factor(self, trace_id: int, port: int, vf: float | None) -> None:
+        """Remember the velocity factor of the line at ``port`` of a trace (``None`` forgets it)."""
+        old = self._get(trace_id)
+        old.raw.check_port(port)
+        if vf is not None:
+            from refplane.analysis.deembed import check_velocity_factor
+
+            vf = check_velocity_factor(vf)
+        vfs = list(old.velocity_factors) + [None] * (old.raw.n_ports - len(old.velocity_factors))
+        if vfs[port - 1] == vf:
+            return
+        vfs[port - 1] = vf
+        self._traces[trace_id] = replace(old, velocity_factors=tuple(vfs))
+        self.velocityFactorsChanged.emit(trace_id)
 
     def set_overlay(self, trace_id: int, name: str, sweep: Sweep | None) -> None:
         """Add or replace a dashed model overlay on a trace; ``None`` removes it."""
@@ -318,6 +453,7 @@ class ViewState(QObject):
         """Delete a marker."""
         self._marker(marker_id)
         del self._markers[marker_id]
+        self._forget_delta(marker_id)
         self.markersChanged.emit()
         if self._current_marker == marker_id:
             self._set_current_marker(next(reversed(self._markers), -1) if self._markers else -1)
@@ -326,6 +462,7 @@ class ViewState(QObject):
         """Delete every marker."""
         if self._markers:
             self._markers.clear()
+            self._forget_delta(None)
             self.markersChanged.emit()
             self._set_current_marker(-1)
 
@@ -348,44 +485,22 @@ class ViewState(QObject):
             self._marker(marker_id)
         self._set_current_marker(marker_id)
 
-    def marker_readings(self, marker_id: int):
-        """The marker's :class:`~refplane.analysis.readings.PointReadings` (one point)."""
-        from refplane.analysis.readings import read_points
-
-        m = self._marker(marker_id)
-        t = self._get(m.trace_id)
-        return read_points(t.displayed, [m.freq_hz], port=t.port)
-
+    # Readings, through the shared scene (so a view asking twice costs one computation).
     def marker_readout(self, marker_id: int):
         """The marker's single-point :class:`~refplane.analysis.impedance.Readout`."""
-        return self.marker_readings(marker_id).readout.at(0)
+        return self.scene().marker(marker_id).readout
 
     def marker_cells(self, marker_id: int) -> dict[str, str]:
         """The marker's display cells, exactly as ``refplane read`` prints them."""
-        from refplane.analysis.readings import readout_cells
-
-        return readout_cells(self.marker_readout(marker_id))
+        return dict(self.scene().marker(marker_id).cells)
 
     def marker_model_cells(self, marker_id: int) -> dict[str, dict[str, str]]:
-        """Display cells of each model overlay of the marker's trace at the marker's frequency.
-
-        Keys are overlay names; an overlay that does not reach the marker's frequency is left out.
-        """
-        from refplane.analysis.errors import AnalysisError
-        from refplane.analysis.readings import read_points, readout_cells
-
-        m = self._marker(marker_id)
-        out: dict[str, dict[str, str]] = {}
-        for name, overlay in self._get(m.trace_id).overlays.items():
-            try:
-                out[name] = readout_cells(read_points(overlay, [m.freq_hz], port=1).readout.at(0))
-            except AnalysisError:
-                continue
-        return out
+        """Display cells of each model overlay of the marker's trace at the marker's frequency."""
+        return {k: dict(v) for k, v in self.scene().marker(marker_id).model_cells.items()}
 
     def marker_gamma(self, marker_id: int) -> complex:
         """The reflection coefficient at the marker (for drawing it on the chart)."""
-        return complex(self.marker_readings(marker_id).gamma[0])
+        return self.scene().marker(marker_id).gamma
 
     # -------------------------------------------------------------------- band
     @property
@@ -405,6 +520,81 @@ class ViewState(QObject):
             self.bandChanging.emit()
         if finished:
             self.bandChanged.emit()
+
+    # ----------------------------------------------------------------- display
+    @property
+    def display(self) -> DisplayOptions:
+        """The display options (a frozen snapshot)."""
+        return self._display
+
+    def set_display(self, **changes) -> None:
+        """Change display options by name, e.g. ``set_display(log_frequency=True)``.
+
+        Raises
+        ------
+        AnalysisError
+            For an unknown option or a value it cannot take.
+        """
+        from refplane.session.plot_series import BY_KEY
+
+        known = {f.name for f in fields(DisplayOptions)}
+        for key, value in changes.items():
+            if key not in known:
+                raise AnalysisError(f"unknown display option {key!r}")
+            if key in ("upper_plot", "lower_plot") and value not in BY_KEY:
+                raise AnalysisError(f"unknown plot quantity {value!r}")
+            if key == "theme" and value not in THEMES:
+                raise AnalysisError(f"unknown theme {value!r}; use light or dark")
+            if key == "vswr_circle" and value is not None and not (math.isfinite(value) and value > 1):
+                raise AnalysisError("a VSWR circle needs a value above 1")
+            if key == "chart_view" and value is not None:
+                x0, x1, y0, y1 = (float(v) for v in value)
+                if not all(math.isfinite(v) for v in (x0, x1, y0, y1)) or x1 <= x0 or y1 <= y0:
+                    raise AnalysisError("a chart view needs x0 < x1 and y0 < y1")
+                changes[key] = (x0, x1, y0, y1)
+            if key == "delta_markers" and value is not None:
+                changes[key] = (int(value[0]), int(value[1]))
+        old = self._display
+        new = replace(old, **{k: (bool(v) if k in ("log_frequency", "admittance_grid") else v)
+                              for k, v in changes.items()})
+        if new == old:
+            return
+        self._display = new
+        for key in changes:
+            if getattr(old, key) != getattr(new, key):
+                self.displayChanged.emit(key)
+
+    # -------------------------------------------------------------------- fit
+    @property
+    def fit(self) -> FitSettings:
+        """The fit settings (a frozen snapshot)."""
+        return self._fit
+
+    def set_fit(self, **changes) -> None:
+        """Change fit settings by name (``band_text``, ``model``, ``measurement``, ``overlay_trace``)."""
+        if "measurement" in changes and changes["measurement"] not in ("reflection", "series", "shunt"):
+            raise AnalysisError(f"unknown measurement {changes['measurement']!r}")
+        new = replace(self._fit, **changes)
+        if new != self._fit:
+            self._fit = new
+            self.fitSettingsChanged.emit()
+
+    # ------------------------------------------------------------ calibration
+    @property
+    def calibration(self) -> CalibrationInputs:
+        """The calibration inputs (a frozen snapshot)."""
+        return self._calibration
+
+    def set_calibration(self, **changes) -> None:
+        """Change calibration inputs by name (``standards``, ``definitions_file``, ``saved_terms_file``, ``devices``)."""
+        if "standards" in changes:
+            changes["standards"] = MappingProxyType(dict(changes["standards"]))
+        if "devices" in changes:
+            changes["devices"] = tuple(changes["devices"])
+        new = replace(self._calibration, **changes)
+        if new != self._calibration:
+            self._calibration = new
+            self.calibrationChanged.emit()
 
     # ---------------------------------------------------------------- internal
     def _get(self, trace_id: int) -> Trace:
@@ -427,6 +617,11 @@ class ViewState(QObject):
             self.traceChanged.emit(trace_id)
             if "port" in changes and new.port != old.port and self.markers(trace_id):
                 self.markersChanged.emit()
+
+    def _forget_delta(self, marker_id: int | None) -> None:
+        pair = self._display.delta_markers
+        if pair is not None and (marker_id is None or marker_id in pair):
+            self._display = replace(self._display, delta_markers=None)
 
     def _check_inside(self, trace_id: int, freq_hz: float) -> None:
         from refplane.analysis.markers import check_inside

@@ -1,0 +1,277 @@
+"""Every rule that turns a number into text: marker cells, the difference row, trace labels,
+hover text, the one-line summary, fit and plane-estimate sentences, copied tables.
+
+The window's marker table, the command line's table, the legend of a rendered chart and
+the report all format through here, so they cannot disagree. Nothing here computes RF
+values: it takes readouts and results from the analysis layer and writes them down.
+
+Two families of text live side by side:
+
+- *display* text, for people: scaled units ("9.146 nH"), the true minus sign "−", thin
+  grouping of thousands;
+- *sheet* text (:func:`sheet_rows`), for spreadsheets: plain numbers in one fixed unit per
+  column named in the header, ASCII minus, no grouping, so a copied table can be summed.
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Mapping, Sequence
+
+from refplane.analysis.impedance import Readout
+from refplane.analysis.units import format_frequency, format_si
+
+#: Text of a quantity that is not defined for this reading (VSWR of an active load).
+NOT_DEFINED_ACTIVE = "n/a (|Γ| > 1)"
+
+
+def number(value: float, unit: str, decimals: int = 2) -> str:
+    """A value with a fixed number of decimals and its unit: "75.20 Ω", "−∞ dB", "—" for NaN."""
+    if math.isnan(value):
+        return "—"
+    if math.isinf(value):
+        return f"{'−∞' if value < 0 else '∞'} {unit}".strip()
+    text = f"{value:,.{decimals}f}".replace(",", " ").replace("-", "−")
+    return f"{text} {unit}".strip()
+
+
+def series_part(r: Readout) -> tuple[str, str]:
+    """The equivalent series element as (label, value): ("L", "9.14 nH") or ("C", "3.39 pF")."""
+    if not math.isnan(r.series_l_h):
+        return "L", format_si(r.series_l_h, "H", 4)
+    if not math.isnan(r.series_c_f):
+        return "C", format_si(r.series_c_f, "F", 4)
+    return "L/C", "—"
+
+
+def _active(r: Readout) -> bool:
+    return math.isfinite(r.gamma_mag) and r.gamma_mag > 1.0
+
+
+def readout_cells(r: Readout) -> dict[str, str]:
+    """A single-point readout as ordered display cells, label → text with scaled units."""
+    kind, value = series_part(r)
+    active = _active(r)
+    return {
+        "Frequency": format_frequency(r.freq_hz),
+        "R": number(r.r_ohm, "Ω"),
+        "X": number(r.x_ohm, "Ω"),
+        "Series L/C": f"{kind} {value}" if value != "—" else "—",
+        "|Z|": number(r.z_mag_ohm, "Ω"),
+        "|Γ|": number(r.gamma_mag, "", 4),
+        "∠Γ": number(r.gamma_deg, "°", 1),
+        # VSWR is not defined for |Γ| > 1 (an active or mis-calibrated reading).
+        "VSWR": NOT_DEFINED_ACTIVE if active else number(r.vswr, "", 3),
+        "Return loss": number(r.return_loss_db, "dB"),
+        "Q": number(r.q, "", 3),
+        "Parallel R": number(r.parallel_r_ohm, "Ω"),
+        "Parallel X": number(r.parallel_x_ohm, "Ω"),
+    }
+
+
+def impedance_text(r: Readout) -> str:
+    """R ± jX as one piece of text: "75.20 Ω + j27.01 Ω" (or "open (Z = ∞)")."""
+    if math.isinf(r.r_ohm):
+        return "open (Z = ∞)"
+    sign = "+" if r.x_ohm >= 0 else "−"
+    return f"{number(r.r_ohm, 'Ω')} {sign} j{number(abs(r.x_ohm), 'Ω')}"
+
+
+def summary_line(r: Readout) -> str:
+    """A one-line reading for legends: "470 MHz: 75.20 Ω + j27.01 Ω (L 9.146 nH), VSWR 1.81"."""
+    kind, value = series_part(r)
+    series = f" ({kind} {value})" if value != "—" else ""
+    vswr = NOT_DEFINED_ACTIVE if _active(r) else number(r.vswr, "", 2)
+    return f"{format_frequency(r.freq_hz)}: {impedance_text(r)}{series}, VSWR {vswr}"
+
+
+def trace_label(name: str, port: int) -> str:
+    """A trace as lists, legends and the marker table name it: "name · S11"."""
+    return f"{name} · S{port}{port}"
+
+
+#: Rows of the difference column: label → (Readout field, unit, decimals).
+DELTA_ROWS = {
+    "Frequency": ("freq_hz", "Hz", 0),
+    "R": ("r_ohm", "Ω", 2),
+    "X": ("x_ohm", "Ω", 2),
+    "|Z|": ("z_mag_ohm", "Ω", 2),
+    "|Γ|": ("gamma_mag", "", 4),
+    "∠Γ": ("gamma_deg", "°", 1),
+    "VSWR": ("vswr", "", 3),
+    "Return loss": ("return_loss_db", "dB", 2),
+}
+
+
+def delta_cells(a: Readout, b: Readout) -> dict[str, str]:
+    """Cells of b − a for the rows in :data:`DELTA_ROWS`; other rows are left out.
+
+    The decimals are the marker cells' own, so a difference never shows more digits than
+    the values it comes from.
+    """
+    out = {}
+    for label, (field, unit, decimals) in DELTA_ROWS.items():
+        d = getattr(b, field) - getattr(a, field)
+        if not math.isfinite(d):
+            out[label] = "—"
+        elif label == "Frequency":
+            out[label] = ("+" if d >= 0 else "−") + format_frequency(abs(d), 6)
+        else:
+            text = f"{d:+.{decimals}f}"
+            if float(text) == 0:
+                text = f"{0:.{decimals}f}"
+            out[label] = f"{text} {unit}".replace("-", "−").strip()
+    return out
+
+
+def delta_label(number_a: int, number_b: int) -> str:
+    """The difference row's name: "marker 2 − marker 1"."""
+    return f"marker {number_b} − marker {number_a}"
+
+
+def hover_text(gamma: complex, z_ohm: complex, z0_ohm: float,
+               near: tuple[str, float] | None = None) -> str:
+    """The chart's hover line for a position: normalised z, Z in ohms and the nearest trace point.
+
+    ``near`` is (trace name, frequency) when the cursor is close to a trace.
+    """
+    if abs(gamma) > 1.0:
+        return "Outside the chart (|Γ| > 1)"
+    if math.isinf(z_ohm.real):
+        text = "z = ∞ (open)"
+    else:
+        zn = z_ohm / z0_ohm
+        text = (f"z = {zn.real:.3f} {'+' if zn.imag >= 0 else '−'} j{abs(zn.imag):.3f}    "
+                f"Z = {z_ohm.real:.2f} {'+' if z_ohm.imag >= 0 else '−'} j{abs(z_ohm.imag):.2f} Ω  "
+                f"(ref. {z0_ohm:g} Ω)")
+    if near is not None:
+        text += f"    ·    {format_frequency(near[1], 6)} on {near[0]}"
+    return text
+
+
+# --------------------------------------------------------------------------- fits
+#: Fit parameter keys in words, for people who do not read code keys; per model where the same
+#: key means a different part (the inductance of a resistor model is its leads').
+PARAMETER_WORDS = {"r_ohm": "Resistance", "l_h": "Inductance", "c_f": "Capacitance"}
+MODEL_PARAMETER_WORDS = {
+    ("resistor-leads", "l_h"): "Lead inductance",
+    ("resistor-leads", "c_f"): "Shunt capacitance",
+    ("capacitor", "r_ohm"): "Series resistance (ESR)",
+    ("capacitor", "l_h"): "Series inductance (ESL)",
+    ("inductor", "r_ohm"): "Winding resistance",
+    ("inductor", "c_f"): "Winding capacitance",
+}
+
+
+def parameter_words(key: str, model_id: str | None = None) -> str:
+    """A fit parameter's key in words ("l_h" of "resistor-leads" → "Lead inductance")."""
+    if (model_id, key) in MODEL_PARAMETER_WORDS:
+        return MODEL_PARAMETER_WORDS[(model_id, key)]
+    if key in PARAMETER_WORDS:
+        return PARAMETER_WORDS[key]
+    return key.replace("_", " ").capitalize()
+
+
+def fit_sentence(result) -> str:
+    """The fit in one plain sentence (the same sentence ``refplane fit`` prints)."""
+    return result.sentence()
+
+
+def fit_parameter_rows(result, *, words: bool = True) -> list[tuple[str, str, str]]:
+    """(parameter, value, ± error) rows; parameter names in words unless ``words`` is false."""
+    rows = result.table_rows()
+    return [((parameter_words(k, result.model_id) if words else k), v, e) for k, v, e in rows]
+
+
+def fit_ranking_rows(result) -> list[tuple[str, str, str, str]]:
+    """(model, parameters, ΔAICc, residual) rows of a fit's candidates, best first."""
+    from refplane.analysis.fitting import format_percent
+
+    return [(r.model_id, str(r.n_params), f"{r.delta_aicc:.1f}", format_percent(r.residual_rel))
+            for r in result.ranking]
+
+
+#: Why a marker's series-equivalent L differs from a fitted lead inductance.
+SERIES_VS_FITTED_NOTE = (
+    "The marker's series L is the whole reactance at one frequency written as one inductor; "
+    "the fitted lead inductance is one part of a circuit fitted over the band. They differ when "
+    "other parts (a shunt capacitance, a resistance that changes with frequency) add reactance.")
+
+
+# --------------------------------------------------------------------- plane estimate
+def estimate_sentence(est) -> str:
+    """The plane estimate in one sentence, as the reference-plane panel shows it."""
+    length = f", {format_si(est.length_m, 'm', 5)}" if est.length_m is not None else ""
+    verdict = est.verdict()
+    return (f"Found {format_si(est.delay_s, 's', 5)}{length}, {est.loss_db:.3f} dB at "
+            f"{format_frequency(est.loss_ref_hz)}; residual {est.residual:.4f}. "
+            f"{verdict[:1].upper()}{verdict[1:]}.")
+
+
+# -------------------------------------------------------------------------- sheets
+#: Sheet columns of a marker row: header (with unit) → Readout field and scale.
+SHEET_COLUMNS = (
+    ("Frequency (Hz)", "freq_hz", 1.0),
+    ("R (ohm)", "r_ohm", 1.0),
+    ("X (ohm)", "x_ohm", 1.0),
+    ("Series L (nH)", "series_l_h", 1e9),
+    ("Series C (pF)", "series_c_f", 1e12),
+    ("|Z| (ohm)", "z_mag_ohm", 1.0),
+    ("|Gamma|", "gamma_mag", 1.0),
+    ("Angle of Gamma (deg)", "gamma_deg", 1.0),
+    ("VSWR", "vswr", 1.0),
+    ("Return loss (dB)", "return_loss_db", 1.0),
+    ("Q", "q", 1.0),
+    ("Parallel R (ohm)", "parallel_r_ohm", 1.0),
+    ("Parallel X (ohm)", "parallel_x_ohm", 1.0),
+)
+
+
+def sheet_number(value: float) -> str:
+    """A number a spreadsheet reads: ASCII minus, no grouping, empty for NaN or infinity."""
+    if value is None or not math.isfinite(value):
+        return ""
+    return repr(float(value)) if abs(value) >= 1e-3 or value == 0 else f"{value:.9g}"
+
+
+def sheet_rows(rows: Sequence[tuple[str, str, Readout]]) -> list[list[str]]:
+    """A header row and one row per (marker, trace label, readout), plain numbers for a sheet."""
+    out = [["Marker", "Trace"] + [h for h, _f, _s in SHEET_COLUMNS]]
+    for marker, trace, r in rows:
+        cells = []
+        for _h, field, scale in SHEET_COLUMNS:
+            value = getattr(r, field)
+            if field == "vswr" and isinstance(r, Readout) and _active(r):
+                value = math.nan
+            cells.append(sheet_number(value * scale if math.isfinite(value) else value))
+        out.append([marker, trace] + cells)
+    return out
+
+
+def difference_values(a: Readout, b: Readout):
+    """b − a of every sheet column's quantity, as an object with the same attribute names."""
+    from types import SimpleNamespace
+
+    return SimpleNamespace(**{field: getattr(b, field) - getattr(a, field) for _h, field, _s in SHEET_COLUMNS})
+
+
+def sheet_text(rows: Sequence[Sequence[str]], *, delimiter: str = "\t") -> str:
+    """Rows as delimited text (tab for the clipboard, comma for a CSV file), quoting as needed."""
+    import csv
+    import io
+
+    buf = io.StringIO()
+    csv.writer(buf, delimiter=delimiter, lineterminator="\n").writerows(rows)
+    return buf.getvalue()
+
+
+def legend_lines_of(traces, markers) -> list[str]:
+    """The legend of a picture as plain text: a line per trace, then "n  summary" per marker."""
+    lines = [t.label for t in traces]
+    lines += [f"{m.number}  {m.summary}" for m in markers]
+    return lines
+
+
+def mapping_text(cells: Mapping[str, str]) -> str:
+    """Cells as "label value" pairs on one line, for status bars and tooltips."""
+    return ", ".join(f"{k} {v}" for k, v in cells.items())

@@ -1,0 +1,167 @@
+"""``resolve(session) -> Scene``: one pure pass from the user's work to everything drawn and read.
+
+Parts whose inputs did not change are carried over from the previous scene (the session's
+frozen records are compared by identity), so a marker drag step reads one marker and
+nothing else, and a renamed trace costs no Γ arrays.
+"""
+
+from __future__ import annotations
+
+from types import MappingProxyType
+
+from refplane.session import present
+from refplane.session.scene import (CurveView, DeltaView, MarkerView, OverlayView, PlotView, Scene,
+                                    TraceView)
+
+#: How many readouts resolve has computed (for the benchmark that shows a drag step reads once).
+READOUT_COUNT = [0]
+
+
+def _trace_view(t, previous: TraceView | None) -> TraceView:
+    if previous is not None and previous.record is t:
+        return previous
+    sweep = t.displayed
+    gamma = sweep.reflection(t.port)
+    raw = t.raw.reflection(t.port) if t.corrected else None
+    if previous is not None and previous.record is not None and previous.record.displayed is sweep \
+            and previous.port == t.port:
+        gamma = previous.gamma  # only name, colour or visibility changed: keep the arrays
+        raw = previous.raw_gamma
+    overlays = tuple(OverlayView(name, ov.freq_hz, ov.reflection(1)) for name, ov in t.overlays.items())
+    return TraceView(id=t.id, name=t.name, label=present.trace_label(t.name, t.port), colour=t.colour,
+                     visible=t.visible, port=t.port, n_ports=sweep.n_ports,
+                     z0_ohm=float(sweep.z0_ohm[t.port - 1].real), freq_hz=sweep.freq_hz, gamma=gamma,
+                     raw_gamma=raw, overlays=overlays, source=t.source, record=t)
+
+
+def _read(sweep, freq_hz: float, port: int):
+    from refplane.analysis.readings import read_points
+
+    READOUT_COUNT[0] += 1
+    return read_points(sweep, [freq_hz], port=port)
+
+
+def _marker_view(m, number: int, t, previous: MarkerView | None) -> MarkerView:
+    key = (m, t.displayed, t.port, number, t.colour, t.visible, tuple(t.overlays.items()))
+    if previous is not None and previous.key == key:
+        return previous
+    if previous is not None and previous.key[:3] == key[:3] and previous.key[6] == key[6]:
+        readings = None  # number, colour or visibility changed: the reading stands
+        readout, gamma, cells, summary, models, model_readouts = (
+            previous.readout, previous.gamma, previous.cells, previous.summary, previous.model_cells,
+            previous.model_readouts)
+    else:
+        readings = _read(t.displayed, m.freq_hz, t.port)
+        readout = readings.readout.at(0)
+        gamma = complex(readings.gamma[0])
+        cells = MappingProxyType(present.readout_cells(readout))
+        summary = present.summary_line(readout)
+        models, model_readouts = {}, {}
+        from refplane.analysis.errors import AnalysisError
+
+        for name, overlay in t.overlays.items():
+            try:
+                model_readouts[name] = _read(overlay, m.freq_hz, 1).readout.at(0)
+            except AnalysisError:
+                continue  # the model does not reach this frequency
+            models[name] = MappingProxyType(present.readout_cells(model_readouts[name]))
+        models, model_readouts = MappingProxyType(models), MappingProxyType(model_readouts)
+    return MarkerView(id=m.id, number=number, trace_id=m.trace_id, colour=t.colour, visible=t.visible,
+                      freq_hz=m.freq_hz, gamma=gamma, readout=readout, cells=cells, summary=summary,
+                      model_cells=models, model_readouts=model_readouts, key=key)
+
+
+def _trace_curves(t, key: str, cache: dict) -> tuple[CurveView, ...]:
+    from refplane.session import plot_series
+
+    cache_key = (id(t), key)
+    hit = cache.get(cache_key)
+    if hit is not None and hit[0] is t:
+        return hit[1]
+    q = plot_series.BY_KEY[key]
+    out = []
+    if t.visible:
+        sweeps = [(t.displayed, 1.0)]
+        if t.corrected:
+            sweeps.append((t.raw, 0.3))
+        for sweep, alpha in sweeps:
+            for curve in plot_series.curves(sweep, t.port, key):
+                out.append(CurveView(t.id, curve.label, sweep.freq_hz, curve.y, t.colour, alpha,
+                                     "dashed" if curve.dashed else "solid", 1.8 if alpha == 1.0 else 1.2))
+        if not q.two_port:
+            for name, model in t.overlays.items():
+                for curve in plot_series.curves(model, 1, key):
+                    out.append(CurveView(t.id, f"{name}: {curve.label}", model.freq_hz, curve.y, t.colour,
+                                         1.0, "dotted", 1.4))
+    result = tuple(out)
+    cache[cache_key] = (t, result)
+    return result
+
+
+def _plot_view(traces, key: str, previous: PlotView | None, cache: dict) -> PlotView:
+    from refplane.session import plot_series
+
+    curves = tuple(c for t in traces for c in _trace_curves(t, key, cache))
+    q = plot_series.BY_KEY[key]
+    if q.two_port and traces and not curves:
+        note = "needs a two-port sweep"
+    elif key == "r_x" and curves:
+        note = "R solid, X dashed"
+    else:
+        note = ""
+    if previous is not None and previous.quantity == key and previous.note == note \
+            and len(previous.curves) == len(curves) \
+            and all(a is b for a, b in zip(previous.curves, curves)):
+        return previous
+    return PlotView(quantity=key, curves=curves, note=note)
+
+
+def resolve(session, previous: Scene | None = None) -> Scene:
+    """Everything the session shows, as a frozen :class:`Scene`.
+
+    Parameters
+    ----------
+    session : Session
+        The user's work.
+    previous : Scene, optional
+        The scene resolved before; parts whose inputs are unchanged are reused from it.
+    """
+    prev_traces = {t.id: t for t in previous.traces} if previous is not None else {}
+    prev_markers = {m.id: m for m in previous.markers} if previous is not None else {}
+    cache = getattr(session, "_curve_cache", None)
+    if cache is None:
+        cache = {}
+        try:
+            session._curve_cache = cache
+        except AttributeError:  # a read-only stand-in: no reuse across calls
+            pass
+    records = session.traces()
+    alive = {id(t) for t in records}
+    for k in [k for k in cache if k[0] not in alive]:
+        del cache[k]
+    traces = tuple(_trace_view(t, prev_traces.get(t.id)) for t in records)
+    by_id = {t.id: t for t in records}
+    markers = tuple(_marker_view(m, n, by_id[m.trace_id], prev_markers.get(m.id))
+                    for n, m in enumerate(session.markers(), start=1))
+    display = session.display
+    prev_plots = previous.plots if previous is not None else (None, None)
+    plots = (_plot_view(records, display.upper_plot, prev_plots[0], cache),
+             _plot_view(records, display.lower_plot, prev_plots[1], cache))
+    delta = _delta(markers, display.delta_markers)
+    legend = tuple(present.legend_lines_of(traces, markers))
+    return Scene(traces=traces, markers=markers, plots=plots, delta=delta, display=display,
+                 band=session.band, current_trace=session.current_trace,
+                 current_marker=session.current_marker, legend=legend)
+
+
+def _delta(markers, pair) -> DeltaView | None:
+    if len(markers) < 2:
+        return None
+    by_id = {m.id: m for m in markers}
+    if pair is None or pair[0] not in by_id or pair[1] not in by_id:
+        a, b = markers[-2], markers[-1]
+    else:
+        a, b = by_id[pair[0]], by_id[pair[1]]
+    cells = present.delta_cells(a.readout, b.readout)
+    return DeltaView(a=a.id, b=b.id, label=present.delta_label(a.number, b.number),
+                     cells=MappingProxyType(cells))
