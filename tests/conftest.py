@@ -1,6 +1,6 @@
 """Test set-up shared by every layer: GUI tests run offscreen, always.
 
-``REFPLANE_NO_QT=1 python -m pytest -p no:pytestqt tests/analysis tests/session tests/cli`` runs
+``REFPLANE_NO_QT=1 python -m pytest -p no:pytest-qt tests/analysis tests/session tests/cli`` runs
 the layers that must work without Qt with PySide6 and pyqtgraph made unimportable, which
 proves they do (CI runs it; tests that draw pictures are skipped there).
 """

@@ -128,6 +128,7 @@ def test_option_values_become_one_line_offset():
         offset_from_args(_parser().parse_args(["--vf", "0.5"]))
 
 
+@pytest.mark.needs_qt
 def test_render_takes_the_same_options(open_through_cable, tmp_path, capsys):
     out = tmp_path / "chart.png"
     assert _run(["render", open_through_cable, "--at", "100MHz", "-o", str(out),

@@ -31,6 +31,7 @@ def _run(*args, env_extra=None):
                           text=True, env=env, timeout=120)
 
 
+@pytest.mark.needs_qt
 def test_png_of_requested_size_without_a_display(sweep_file, tmp_path):
     out = tmp_path / "chart.png"
     result = _run(sweep_file, "--at", "470MHz", "-o", str(out), "--size", "640x720")
@@ -42,6 +43,7 @@ def test_png_of_requested_size_without_a_display(sweep_file, tmp_path):
     assert (image.width(), image.height()) == (640, 720)
 
 
+@pytest.mark.needs_qt
 def test_svg_output(sweep_file, tmp_path):
     out = tmp_path / "chart.svg"
     assert main(["render", sweep_file, "--at", "470 MHz", "-o", str(out)]) == 0
@@ -49,6 +51,7 @@ def test_svg_output(sweep_file, tmp_path):
     assert text.lstrip().startswith("<?xml") and "<svg" in text
 
 
+@pytest.mark.needs_qt
 def test_legend_lines_come_from_summary_line(qapp, sweep_file):
     from refplane.analysis.loading import read_sweep
     from refplane.analysis.readings import read_points
@@ -68,6 +71,7 @@ def test_legend_lines_come_from_summary_line(qapp, sweep_file):
     picture.deleteLater()
 
 
+@pytest.mark.needs_qt
 def test_existing_output_is_refused_unless_forced(sweep_file, tmp_path):
     out = tmp_path / "chart.png"
     out.write_bytes(b"keep me")
@@ -103,3 +107,44 @@ def test_unreadable_sweep_exits_2(tmp_path):
     assert result.returncode == 2
     assert "bad.s1p" in result.stderr and "line 2" in result.stderr
     assert _run(str(tmp_path / "missing.s1p"), "-o", str(tmp_path / "x.png")).returncode == 2
+
+
+_BLOCK_QT = (
+    "import sys, importlib.abc\n"
+    "class B(importlib.abc.MetaPathFinder):\n"
+    "    def find_spec(self, name, path=None, target=None):\n"
+    "        if name.split('.')[0] in ('PySide6', 'shiboken6', 'pyqtgraph'):\n"
+    "            raise ImportError('Qt cannot start here')\n"
+    "sys.meta_path.insert(0, B())\n"
+    "from refplane.cli import main\n"
+    "sys.exit(main(sys.argv[1:]))\n")
+
+
+@pytest.mark.parametrize("args, words", [
+    (["-o", "x.png", "--at", "5GHz"], "outside the sweep"),
+    (["-o", "x.png", "--port", "2"], "port 2 does not exist"),
+    (["-o", "x.png", "--vswr", "0.5"], "above 1"),
+    (["-o", "x.png", "--session", "none.refplane"], "leave out FILE"),
+])
+def test_input_is_checked_before_qt_is_touched(sweep_file, tmp_path, args, words):
+    # Where Qt cannot even be imported, bad input still gives its one line and status 2.
+    args = [a if not a.startswith("x.") else str(tmp_path / a) for a in args]
+    result = subprocess.run([sys.executable, "-c", _BLOCK_QT, "render", sweep_file, *args],
+                            capture_output=True, text=True, timeout=120)
+    assert result.returncode == 2, result.stderr
+    assert words in result.stderr and len(result.stderr.strip().splitlines()) == 1
+
+
+def test_render_session_of_a_missing_sweep_is_one_line(tmp_path, sweep_file):
+    from refplane.analysis.loading import read_sweep
+    from refplane.session.files import save_session
+    from refplane.session.model import Session
+
+    s = Session()
+    s.add_sweep(read_sweep(sweep_file))
+    path = save_session(s, tmp_path / "bench.refplane")
+    os.unlink(sweep_file)
+    result = subprocess.run([sys.executable, "-c", _BLOCK_QT, "render", "--session", str(path),
+                             "-o", str(tmp_path / "x.png")], capture_output=True, text=True, timeout=120)
+    assert result.returncode == 2
+    assert "r75.s1p is missing" in result.stderr and len(result.stderr.strip().splitlines()) == 1
