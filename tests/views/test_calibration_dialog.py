@@ -148,6 +148,7 @@ def test_edit_save_and_load_definitions(dialog, files, tmp_path):
     dialog.definition_table.item(row.index("offset_delay_s"), 1).setText("30e-12")
     assert dialog._definitions["short"]["offset_delay_s"] == 30e-12
     dialog.solve()
+    dialog.set_device_checked("File: ")  # unticked once corrected; ticked again on purpose
     right = dialog.state.trace(dialog.correct_devices()[0]).raw.s[:, 0, 0]
     assert np.max(np.abs(right - DUT)) < 1e-12
 
@@ -203,3 +204,233 @@ def test_additional_standards_in_a_loaded_file_are_set_aside(dialog, files, tmp_
     items = [dialog.warning_list.item(i).text() for i in range(dialog.warning_list.count())]
     assert any("not used here: oshort" in w for w in items)
 
+
+
+# ---------------------------------------------------------------------------------------------
+# On laptop screens: sizes, what is in view, units, which terms are used, ticks.
+# ---------------------------------------------------------------------------------------------
+
+from PySide6.QtCore import QPoint, QRect  # noqa: E402
+from PySide6.QtWidgets import (QAbstractButton, QComboBox, QGroupBox, QLineEdit,  # noqa: E402
+                               QListWidget, QTableWidget)
+
+from refplane.views.calibration_dialog import FRAME_MARGINS  # noqa: E402
+
+# Screens common beside a bench analyzer (common practice): 1280×800 and 1366×768 laptops and an
+# older 1024×768 display, each less a 40 px task bar, as a desktop's free area.
+SCREENS = {"1280x800": QRect(0, 0, 1280, 760), "1366x768": QRect(0, 0, 1366, 728),
+           "1024x768": QRect(0, 0, 1024, 728)}
+LONG = "a_folder_with_a_long_descriptive_name_from_a_bench_session_" * 3
+
+
+def rect_in(widget, top) -> QRect:
+    return QRect(widget.mapTo(top, QPoint(0, 0)), widget.size())
+
+
+def shown_whole(widget, top) -> bool:
+    """The widget's whole rectangle lies inside each of its parents up to ``top`` (nothing clipped)."""
+    mine = rect_in(widget, top)
+    parent = widget.parentWidget()
+    while parent is not None:
+        if not rect_in(parent, top).contains(mine):
+            return False
+        if parent is top:
+            return True
+        parent = parent.parentWidget()
+    return False
+
+
+def controls(dialog):
+    kinds = (QAbstractButton, QLineEdit, QComboBox, QTableWidget, QListWidget)
+    return [w for kind in kinds for w in dialog.findChildren(kind) if w.isVisibleTo(dialog)]
+
+
+def deep_file(tmp_path, name, text_or_gamma):
+    folder = tmp_path / LONG
+    folder.mkdir(exist_ok=True)
+    if isinstance(text_or_gamma, str):
+        (folder / name).write_text(text_or_gamma)
+        return str(folder / name)
+    return write1(folder / name, text_or_gamma)
+
+
+@pytest.fixture
+def laptop_dialog(qtbot, request):
+    area = SCREENS[request.param]
+    d = CalibrationDialog(ViewState())
+    d.errors = []
+    d.show_error = lambda title, message: d.errors.append((title, message))
+    qtbot.addWidget(d)
+    d.fit_to(area)
+    d.show()
+    qtbot.waitExposed(d)
+    d.area = area
+    return d
+
+
+@pytest.mark.parametrize("laptop_dialog", list(SCREENS), indirect=True)
+def test_everything_is_in_view_on_laptop_screens_and_long_paths_widen_nothing(laptop_dialog, files,
+                                                                                tmp_path, qtbot):
+    d, area = laptop_dialog, laptop_dialog.area
+    room_w, room_h = area.width() - FRAME_MARGINS[0], area.height() - FRAME_MARGINS[1]
+    assert d.minimumSizeHint().width() <= room_w and d.minimumSizeHint().height() <= room_h
+    assert d.width() <= room_w and d.height() <= room_h
+    size, least = d.size(), d.minimumSizeHint()
+
+    # Long paths everywhere a path is shown: standards, definitions, devices, saved terms.
+    for role in ("short", "open", "load"):
+        d.set_standard_file(role, deep_file(tmp_path, f"{role}.s1p", raw(
+            {"short": np.full(N, -1 + 0j), "open": np.full(N, 1 + 0j), "load": np.zeros(N, complex)}[role])))
+    kit = deep_file(tmp_path, "kit.json", json.dumps({"format": "refplane-standards", "version": 1,
+                                                     "name": "the kit in the drawer"}))
+    assert d.load_definitions(kit)
+    assert d.solve() is not None
+    d.add_device_files([deep_file(tmp_path, "r75_raw.s1p", raw(DUT))])
+    terms = tmp_path / LONG / "cal.json"
+    assert d.save_terms(str(terms)) and d.load_terms(str(terms))
+    qtbot.wait(10)
+    assert d.errors == []
+    assert d.size() == size and d.minimumSizeHint().width() == least.width()
+    assert kit in d.definitions_name.full_text() and str(terms) in d.terms_in_use.full_text()
+
+    for w in controls(d):
+        assert shown_whole(w, d), f"{type(w).__name__} {getattr(w, 'text', lambda: '')()!r} is cut off"
+        if isinstance(w, QAbstractButton):
+            assert w.width() >= w.minimumSizeHint().width(), f"{w.text()!r} is squeezed"
+    assert shown_whole(d.plot, d)
+    assert d.plot.width() >= 300 and d.plot.height() >= 140  # a plot one can still read
+
+
+@pytest.mark.parametrize("laptop_dialog", ["1024x768"], indirect=True)
+def test_every_row_of_every_standard_shows_at_the_default_size(laptop_dialog):
+    from refplane.analysis.standards import definition_keys
+
+    d, table = laptop_dialog, laptop_dialog.definition_table
+    for i in range(d.kind_combo.count()):
+        d.kind_combo.setCurrentIndex(i)
+        assert table.rowCount() == len(definition_keys(d.kind_combo.itemData(i)))
+        assert table.verticalScrollBar().maximum() == 0
+        for row in range(table.rowCount()):
+            for col in (0, 1):
+                cell = table.visualRect(table.model().index(row, col))
+                assert table.viewport().rect().contains(cell), (d.kind_combo.itemText(i), row)
+        # The quantity's name is not cut short either.
+        assert table.columnWidth(0) >= max(table.fontMetrics().horizontalAdvance(table.item(r, 0).text())
+                                           for r in range(table.rowCount()))
+
+
+def test_sections_are_numbered_in_reading_order(dialog):
+    # Two columns, read down the left, then down the right.
+    boxes = [b for b in dialog.findChildren(QGroupBox) if b.isVisibleTo(dialog)]
+    placed = sorted(boxes, key=lambda b: (rect_in(b, dialog).x() > dialog.width() // 3, rect_in(b, dialog).y()))
+    assert [b.title().split(".")[0] for b in placed] == ["1", "2", "3", "4"]
+
+
+def test_the_legend_sits_off_the_curves(dialog, files):
+    choose_standards(dialog, files)
+    dialog.solve()
+    assert dialog.plot.getPlotItem().legend is None  # nothing drawn over the plot
+    for name in dialog.plotted_curves():
+        assert name in dialog.legend.text()
+    assert not rect_in(dialog.legend, dialog).intersects(rect_in(dialog.plot, dialog))
+
+
+def test_definition_values_take_units(dialog, files, tmp_path):
+    short_row = {dialog.definition_table.item(r, 1).data(0x0100): r
+                 for r in range(dialog.definition_table.rowCount())}
+    dialog.definition_table.item(short_row["offset_delay_s"], 1).setText("31 ps")
+    # SI prefix pico = 1e-12 (BIPM, The International System of Units, 9th ed., table 7).
+    assert dialog._definitions["short"]["offset_delay_s"] == pytest.approx(31e-12, rel=1e-15)
+    assert dialog.definition_table.item(short_row["offset_delay_s"], 1).text() == "31 ps"
+    assert dialog.set_definition_value("open", "c0_f", "9 fF")  # femto = 1e-15 (same table)
+    assert dialog._definitions["open"]["c0_f"] == pytest.approx(9e-15, rel=1e-15)
+    assert dialog.set_definition_value("load", "series_l_h", "0.2 nH")
+    assert dialog._definitions["load"]["series_l_h"] == pytest.approx(2e-10, rel=1e-15)
+    assert dialog.set_definition_value("load", "r_ohm", "50.2 ohm")
+    assert dialog._definitions["load"]["r_ohm"] == pytest.approx(50.2)
+    # The offset loss is kept in GΩ/s: a bare number is in GΩ/s, a unit is converted.
+    assert dialog.set_definition_value("short", "offset_loss_gohm_per_s", "1.5 GΩ/s")
+    assert dialog._definitions["short"]["offset_loss_gohm_per_s"] == pytest.approx(1.5)
+    assert dialog.set_definition_value("short", "offset_loss_gohm_per_s", "2")
+    assert dialog._definitions["short"]["offset_loss_gohm_per_s"] == pytest.approx(2.0)
+    # A unit of another quantity is refused, and the value kept.
+    assert not dialog.set_definition_value("open", "c0_f", "9 fH")
+    assert "unit" in dialog.errors[-1][1] and dialog._definitions["open"]["c0_f"] == pytest.approx(9e-15)
+
+    # The unit-bearing value means what it says: a 30 ps offset short typed as "30 ps" corrects
+    # through the published three-term model back to the device.
+    d2_short = write1(tmp_path / "oshort.s1p", raw(reflection(Standard("short", offset_delay_s=30e-12), F)))
+    choose_standards(dialog, files)
+    dialog.set_standard_file("short", d2_short)
+    dialog.use_ideal_definitions()
+    assert dialog.set_definition_value("short", "offset_delay_s", "30 ps")
+    dialog.solve()
+    dialog.add_device_files([files["dut"]])
+    ids = dialog.correct_devices()
+    assert np.max(np.abs(dialog.state.trace(ids[0]).raw.s[:, 0, 0] - DUT)) < 1e-12
+
+
+def test_the_dialog_says_which_error_terms_are_in_use(dialog, files, tmp_path):
+    assert "none yet" in dialog.terms_in_use.full_text()
+    choose_standards(dialog, files)
+    dialog.solve()
+    text = dialog.terms_in_use.full_text()
+    assert "measured here" in text and "short.s1p" in text and "load.s1p" in text and "81 points" in text
+    dialog.set_standard_file("open", files["open"])  # a standard chosen again after solving
+    assert "changed since" in dialog.terms_in_use.full_text()
+    path = tmp_path / "cal.json"
+    dialog.save_terms(str(path))
+    dialog.load_terms(str(path))
+    assert f"saved in {path}" in dialog.terms_in_use.full_text()
+    assert "changed since" not in dialog.terms_in_use.full_text()
+    assert dialog.terms_in_use.toolTip() == dialog.terms_in_use.full_text()
+
+
+def test_corrected_devices_are_unticked_so_a_second_click_adds_nothing(dialog, files, qtbot):
+    choose_standards(dialog, files)
+    dialog.solve()
+    dialog.add_device_files([files["dut"]])
+    qtbot.mouseClick(dialog.correct_button, Qt.LeftButton)
+    assert len(dialog.state.trace_ids()) == 1
+    ticks = [dialog.device_list.item(i).checkState() for i in range(dialog.device_list.count())]
+    assert ticks and all(t == Qt.Unchecked for t in ticks)  # the file and its new trace
+    qtbot.mouseClick(dialog.correct_button, Qt.LeftButton)
+    assert len(dialog.state.trace_ids()) == 1
+    assert "tick at least one" in dialog.errors[-1][1]
+
+
+_ON_A_SIZED_SCREEN = r"""
+import json, sys
+from PySide6.QtWidgets import QAbstractButton, QApplication
+app = QApplication([])
+from refplane.views.calibration_dialog import CalibrationDialog
+from refplane.views.state import ViewState
+d = CalibrationDialog(ViewState())
+d.show(); app.processEvents()
+screen = d.screen().availableGeometry()
+frame = d.frameGeometry()
+buttons = [b for b in d.findChildren(QAbstractButton) if b.isVisible()]
+print(json.dumps({"screen": [screen.width(), screen.height()], "inside": screen.contains(frame),
+                  "buttons_inside": all(d.rect().contains(b.geometry().translated(b.parentWidget().mapTo(d, b.pos()) - b.pos()))
+                                        for b in buttons)}))
+"""
+
+
+@pytest.mark.parametrize("size", [(1024, 768), (1280, 800)])
+def test_on_a_screen_of_that_size_the_dialog_opens_inside_it(tmp_path, size):
+    # Qt's offscreen platform takes a screen layout from a JSON file (Qt 6 "configfile" option).
+    import os
+    import subprocess
+    import sys
+
+    config = tmp_path / "screen.json"
+    config.write_text(json.dumps({"screens": [{"name": "laptop", "x": 0, "y": 0, "width": size[0],
+                                               "height": size[1], "logicalDpi": 96, "logicalBaseDpi": 96,
+                                               "dpr": 1}]}))
+    env = dict(os.environ, QT_QPA_PLATFORM=f"offscreen:configfile={config}")
+    out = subprocess.run([sys.executable, "-c", _ON_A_SIZED_SCREEN], env=env, capture_output=True,
+                         text=True, timeout=120)
+    assert out.returncode == 0, out.stderr
+    report = json.loads(out.stdout.strip().splitlines()[-1])
+    assert report["screen"] == list(size)
+    assert report["inside"] and report["buttons_inside"]

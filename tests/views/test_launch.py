@@ -19,6 +19,8 @@ def test_offscreen_needs_no_display():
 def test_linux_without_display_is_explained():
     text = display_problem({}, platform="linux")
     assert "no display" in text and "refplane render" in text
+    # An offscreen window is invisible and never exits: never offered for the window.
+    assert "offscreen" not in text and "QT_QPA_PLATFORM" not in text
 
 
 def test_xcb_forced_without_display_is_explained():
@@ -31,13 +33,49 @@ def test_unreachable_x_server_is_explained():
     assert "no X server" in text
 
 
-def test_missing_xcb_cursor_library_is_explained(monkeypatch, tmp_path):
-    from refplane.views import launch
+def hide_libraries(monkeypatch, *hidden):
+    """Make the library lookup report ``hidden`` missing and everything else present."""
+    from refplane.views import launch, xcb_needs
 
     monkeypatch.setattr(launch, "_x_server_reachable", lambda display: True)
-    monkeypatch.setattr(launch, "_have_library", lambda name: name != "xcb-cursor")
+    monkeypatch.setattr(xcb_needs, "find_library",
+                        lambda soname, *rest: None if soname in hidden else f"/nowhere/{soname}")
+
+
+def test_every_missing_xcb_library_is_named_in_one_message(monkeypatch):
+    # Qt 6's xcb plugin links libxcb-icccm and libxcb-keysyms directly (its ELF header; checked
+    # against readelf below). With them missing Qt itself aborts (status 134) blaming libxcb-cursor.
+    hide_libraries(monkeypatch, "libxcb-icccm.so.4", "libxcb-keysyms.so.1")
     text = display_problem({"DISPLAY": ":0"}, platform="linux")
-    assert "libxcb-cursor0" in text and "refplane render" in text
+    assert "libxcb-icccm.so.4, libxcb-keysyms.so.1" in text
+    # Debian's package names for them (Debian Policy §8.1 naming; from memory).
+    assert "sudo apt install libxcb-icccm4 libxcb-keysyms1" in text
+    assert "cursor" not in text  # the installed library is not blamed
+    assert "refplane render" in text and "offscreen" not in text
+
+
+def test_one_missing_library_reads_as_one(monkeypatch):
+    hide_libraries(monkeypatch, "libxcb-cursor.so.0")
+    text = display_problem({"DISPLAY": ":0"}, platform="linux")
+    assert "needs a library that is not installed: libxcb-cursor.so.0." in text
+    assert "apt install libxcb-cursor0" in text
+
+
+def test_nothing_missing_means_no_problem(monkeypatch):
+    hide_libraries(monkeypatch)
+    assert display_problem({"DISPLAY": ":0"}, platform="linux") is None
+
+
+def test_the_window_command_exits_2_naming_the_libraries(monkeypatch, capsys):
+    from refplane.views.launch import run_window
+
+    hide_libraries(monkeypatch, "libxcb-icccm.so.4", "libxcb-keysyms.so.1")
+    monkeypatch.delenv("QT_QPA_PLATFORM", raising=False)
+    monkeypatch.delenv("WAYLAND_DISPLAY", raising=False)
+    monkeypatch.setenv("DISPLAY", ":0")
+    assert run_window([]) == 2
+    err = capsys.readouterr().err
+    assert err.count("refplane:") == 1 and "libxcb-icccm.so.4" in err and "libxcb-keysyms.so.1" in err
 
 
 def test_other_systems_are_not_second_guessed():

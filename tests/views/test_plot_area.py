@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import re
+
 import numpy as np
 import pyqtgraph as pg
 import pytest
@@ -62,3 +64,44 @@ def test_axis_label_carries_text_and_unit(qtbot, view):
     view.setLabel("left", "Return loss", units="dB")
     axis = view.getAxis("left")
     assert axis.labelText == "Return loss" and axis.labelUnits == "dB" and axis.label.isVisible()
+
+
+def _tick_labels(view, width=600):
+    axis = view.getAxis("bottom")
+    lo, hi = view.getViewBox().viewRange()[0]
+    return {spacing: axis.tickStrings(values, axis.autoSIPrefixScale, spacing)
+            for spacing, values in axis.tickValues(lo, hi, width)}
+
+
+def test_log_frequency_ticks_read_in_their_own_units(qtbot, view):
+    # A log axis is labelled per decade in the decade's own SI prefix (BIPM SI brochure, table 7:
+    # k = 1e3, M = 1e6, G = 1e9): 1 MHz, 10 MHz, 100 MHz, 1 GHz — common practice on analyzers.
+    view.addItem(pg.PlotDataItem(np.logspace(6, 9, 50), np.linspace(0.0, 1.0, 50)))
+    view.setLabel("bottom", "Frequency", units="Hz")
+    view.setLogMode(x=True)
+    view.getViewBox().autoRange()
+    labels = _tick_labels(view)
+    assert labels[1.0] == ["1 MHz", "10 MHz", "100 MHz", "1 GHz"]
+    every = [text for texts in labels.values() for text in texts]
+    assert "2 MHz" in every and "500 MHz" in every
+    assert all(re.fullmatch(r"[1-9]\d{0,2} [kMG]?Hz", text) for text in every), every  # never 0.001 GHz
+    axis = view.getAxis("bottom")
+    assert "Frequency" in axis.labelString() and "GHz" not in axis.labelString()  # units are on the ticks
+    # Back to a linear axis: one prefix for the axis, in its title, as before.
+    view.setLogMode(x=False)
+    view.getViewBox().autoRange()
+    assert "(GHz)" in axis.labelString()
+
+
+def test_log_ticks_across_kilohertz_and_gigahertz(qtbot, view):
+    view.addItem(pg.PlotDataItem(np.array([3e3, 2e10]), np.array([0.0, 1.0])))
+    view.setLabel("bottom", "Frequency", units="Hz")
+    view.setLogMode(x=True)
+    view.getViewBox().setXRange(3.0, 10.0, padding=0)
+    # Seven decades across 600 px: pyqtgraph may label every other decade; each label is a whole
+    # power of ten in the prefix that keeps its number at 1, 10 or 100.
+    major = [t for spacing, texts in _tick_labels(view).items() if spacing is not None for t in texts]
+    assert "1 kHz" in major and "1 GHz" in major
+    assert all(re.fullmatch(r"(1|10|100) [kMG]Hz", text) for text in major), major
+    assert _tick_labels(view, width=2000)[1.0] == ["1 kHz", "10 kHz", "100 kHz", "1 MHz", "10 MHz",
+                                                  "100 MHz", "1 GHz", "10 GHz"]

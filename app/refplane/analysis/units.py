@@ -140,6 +140,74 @@ def parse_band(text: str) -> tuple[float, float]:
     return f1, f2
 
 
+# Other spellings of unit symbols a keyboard makes easy: "ohm" for Ω, "^2" for ², "u" for µ.
+_UNIT_SPELLINGS = (("ohms", "Ω"), ("ohm", "Ω"), ("Ohm", "Ω"), ("^2", "²"), ("^3", "³"))
+
+
+def parse_quantity(text: str, unit: str, what: str | None = None) -> float:
+    """Parse a value of a quantity in SI units: ``parse_quantity("9 fF", "F")`` → 9e-15.
+
+    A number may be followed by a metric prefix and the unit ("31 ps", "0.2nH", "9 fF",
+    "1.5e-27 F/Hz", "50 ohm"). A bare number is taken in the unit itself. The prefix's case
+    matters (m is milli, M is mega); the unit's case is forgiven after a prefix ("9 pf").
+
+    Parameters
+    ----------
+    text : str
+        The value as typed.
+    unit : str
+        The SI unit expected, e.g. ``"F"``, ``"H"``, ``"s"``, ``"Ω"``, ``"F/Hz²"``.
+    what : str, optional
+        The quantity's name for messages (default: the unit).
+
+    Returns
+    -------
+    float
+        The value in ``unit`` (without prefix).
+
+    Raises
+    ------
+    AnalysisError
+        When the text is not a number with that unit.
+
+    Examples
+    --------
+    >>> parse_quantity("31 ps", "s")
+    3.1e-11
+    >>> parse_quantity("9 fF", "F")
+    9e-15
+    """
+    what = what or f"value in {unit}"
+    value, given = _split(text, what)
+    for spelled, symbol in _UNIT_SPELLINGS:
+        given = given.replace(spelled, symbol)
+    if given in ("", unit):
+        return value
+    if given.endswith(unit) and given[: -len(unit)] in _PREFIX:
+        return _scaled(value, _PREFIX[given[: -len(unit)]])
+    # After a prefix, a unit written in the other case ("9 pf", "10 nh") is still clear.
+    for prefix, scale in _PREFIX.items():
+        if prefix and given.startswith(prefix) and given[len(prefix):].lower() == unit.lower():
+            return _scaled(value, scale)
+    raise AnalysisError(f"{text!r}: unknown unit {given!r} for a {what} (write it like 1.5 p{unit} "
+                        f"or as a number in {unit})")
+
+
+def _scaled(value: float, scale: float) -> float:
+    # Dividing by the exact integer 10^k rounds once: "31 ps" is 3.1e-11, not 3.0999999999999996e-11.
+    return value / round(1.0 / scale) if scale < 1.0 else value * scale
+
+
+def parse_capacitance(text: str) -> float:
+    """Parse a capacitance in farads: "9 fF", "1.2pF", "1e-12" (bare numbers are farads)."""
+    return parse_quantity(text, "F", "capacitance")
+
+
+def parse_inductance(text: str) -> float:
+    """Parse an inductance in henries: "9 nH", "0.2nH", "1e-9" (bare numbers are henries)."""
+    return parse_quantity(text, "H", "inductance")
+
+
 _ENG = [(1e12, "T"), (1e9, "G"), (1e6, "M"), (1e3, "k"), (1.0, ""), (1e-3, "m"),
         (1e-6, "µ"), (1e-9, "n"), (1e-12, "p"), (1e-15, "f")]
 

@@ -9,6 +9,8 @@ from __future__ import annotations
 
 import argparse
 import importlib
+import os
+import re
 import sys
 
 from refplane import __version__
@@ -44,6 +46,50 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
+#: Names the window opens without asking (sweeps and saved sessions), even when not yet on disk.
+_WINDOW_FILE = re.compile(r".*\.(s\d+p|snp|ts|csv|refplane)$", re.IGNORECASE)
+_NUMBER = re.compile(r"^[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?$")
+#: A unit written as a word of its own: "470 MHz", "31 ps", "20 cm", "0.4 dB@1GHz", "50 ohm".
+_UNIT_WORD = re.compile(
+    r"^(?:[fpnuµμmkKMGT]?(?:[Hh][Zz]|s|m|F|H|Ω|[Oo]hms?)|[kKMGT]|cm|in|inch(?:es)?|ft|feet|foot"
+    r"|dB(?:@\S+)?)$")
+
+
+def join_split_values(argv: list[str]) -> list[str]:
+    """Join an option's number and a unit typed after a space: ``--at 470 MHz`` → ``--at '470 MHz'``.
+
+    Without this the shell hands argparse "MHz" as a separate word, which then reads as a file
+    name or an unknown argument. Only a unit word right after an option's number is joined.
+    """
+    out: list[str] = []
+    i = 0
+    while i < len(argv):
+        word = argv[i]
+        nxt = argv[i + 1] if i + 1 < len(argv) else None
+        is_value = bool(out) and out[-1].startswith("-") and not _NUMBER.match(out[-1]) and _NUMBER.match(word)
+        inline = word.startswith("--") and "=" in word and _NUMBER.match(word.partition("=")[2])
+        if nxt is not None and (is_value or inline) and _UNIT_WORD.match(nxt):
+            out.append(f"{word} {nxt}")
+            i += 2
+            continue
+        out.append(word)
+        i += 1
+    return out
+
+
+def _not_a_command(word: str) -> str | None:
+    """Why ``word`` (the first argument) is neither a command nor something to open, or None."""
+    import difflib
+
+    if os.path.exists(word) or _WINDOW_FILE.match(word) or os.sep in word or "/" in word:
+        return None
+    close = difflib.get_close_matches(word.lower(), COMMANDS, n=1, cutoff=0.6)
+    if close:
+        return f"refplane: unknown command '{word}'; did you mean '{close[0]}'? (see 'refplane --help')"
+    return (f"refplane: '{word}' is neither a command nor a file (commands: {', '.join(COMMANDS)}; "
+            "a sweep opens in the window: refplane FILE.s1p)")
+
+
 def _open_window(files: list[str]) -> int:
     from refplane.views.launch import run_window
 
@@ -56,7 +102,12 @@ def main(argv: list[str] | None = None) -> int:
 
     argv = sys.argv[1:] if argv is None else list(argv)
     if not argv or (argv[0] not in COMMANDS and not argv[0].startswith("-")):
+        problem = _not_a_command(argv[0]) if argv else None
+        if problem:
+            print(problem, file=sys.stderr)
+            return 2
         return _open_window(argv)
+    argv = join_split_values(argv)
     parser = build_parser()
     args = parser.parse_args(argv)
     if not getattr(args, "command", None):

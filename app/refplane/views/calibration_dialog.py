@@ -11,16 +11,19 @@ from __future__ import annotations
 
 import copy
 import dataclasses
+import html
+import math
 import os
 from pathlib import Path
 
 import numpy as np
 import pyqtgraph as pg
-from PySide6.QtCore import Qt
+from PySide6.QtCore import QRect, Qt
+from PySide6.QtGui import QPalette
 from PySide6.QtWidgets import (QCheckBox, QComboBox, QDialog, QFileDialog, QGridLayout, QGroupBox,
                                QHBoxLayout, QHeaderView, QLabel, QLineEdit, QListWidget,
-                               QListWidgetItem, QMessageBox, QPushButton, QSplitter, QTableWidget,
-                               QTableWidgetItem, QVBoxLayout, QWidget)
+                               QListWidgetItem, QMessageBox, QPushButton, QSizePolicy, QSplitter,
+                               QTableWidget, QTableWidgetItem, QVBoxLayout, QWidget)
 
 from refplane.views.binding import bind
 from refplane.analysis.errors import AnalysisError
@@ -32,11 +35,15 @@ ROLES = (
     ("short", "Measured short", True),
     ("open", "Measured open", True),
     ("load", "Measured load", True),
-    ("through", "Measured through (optional, 2-port)", False),
-    ("isolation", "Ports terminated, for leakage (optional, 2-port)", False),
+    ("through", "Through (2-port, optional)", False),
+    ("isolation", "Isolation (2-port, optional)", False),
 )
+_ROLE_TIPS = {
+    "through": "The two ports connected together, for two-port error terms.",
+    "isolation": "Both ports terminated, to measure the leakage between them.",
+}
 
-#: Plain labels for the keys of the standards file.
+#: Plain labels for the keys of the standards file; the unit shown is the unit of a bare number.
 KEY_LABELS = {
     "offset_delay_s": "Offset delay, one way (s)",
     "offset_loss_gohm_per_s": "Offset loss (GΩ/s)",
@@ -53,14 +60,102 @@ KEY_LABELS = {
     "series_l_h": "Series inductance (H)",
 }
 
+#: SI unit of each key, and the factor from the file's number to SI (offset loss is kept in GΩ/s).
+KEY_UNITS = {
+    "offset_delay_s": ("s", 1.0), "offset_loss_gohm_per_s": ("Ω/s", 1e9), "offset_z0_ohm": ("Ω", 1.0),
+    "c0_f": ("F", 1.0), "c1_f_per_hz": ("F/Hz", 1.0), "c2_f_per_hz2": ("F/Hz²", 1.0),
+    "c3_f_per_hz3": ("F/Hz³", 1.0), "l0_h": ("H", 1.0), "l1_h_per_hz": ("H/Hz", 1.0),
+    "l2_h_per_hz2": ("H/Hz²", 1.0), "l3_h_per_hz3": ("H/Hz³", 1.0), "r_ohm": ("Ω", 1.0),
+    "series_l_h": ("H", 1.0),
+}
+
 _CAUTION = ("Connecting standards: discharge long cables before connecting them to the analyzer, and "
             "never connect a line that a transmitter may still feed.")
 
 _EMPTY_DEFINITIONS = {"format": "refplane-standards", "version": 1, "name": "ideal standards"}
 
+#: The dialog's first size (pixels) on a screen with room for it; smaller screens get less.
+DEFAULT_SIZE = (1100, 720)
+#: Room left around the dialog on a screen for its frame and title bar (as the main window's).
+FRAME_MARGINS = (24, 48)
+
+
+def format_definition_value(key: str, value: float) -> str:
+    """A standards-file value as text with its unit: 3e-11 → "30 ps", 9e-15 → "9 fF"."""
+    from refplane.analysis.units import format_si
+
+    unit, scale = KEY_UNITS.get(key, ("", 1.0))
+    if scale != 1.0:  # kept in the file's own unit (GΩ/s), which is the unit shown
+        return f"{value:.6g} G{unit}"
+    number, _, rest = format_si(float(value), unit, 6).partition(" ")
+    try:
+        mantissa = abs(float(number))
+    except ValueError:
+        mantissa = 0.0
+    if mantissa != 0.0 and not 1.0 <= mantissa < 1000.0:
+        # Beyond the prefixes (a C2 of 1e-36 F/Hz²): plain powers of ten read better.
+        return f"{value:.6g} {unit}"
+    if "." in number and "e" not in number:
+        number = number.rstrip("0").rstrip(".")
+    return f"{number} {rest}".strip()
+
+
+def parse_definition_value(key: str, text: str) -> float:
+    """Text typed for a standards-file key → the number kept in the file.
+
+    A value may carry its unit with a metric prefix ("31 ps", "9 fF", "0.2 nH", "50 ohm"), as
+    everywhere in Refplane (:func:`refplane.analysis.units.parse_quantity`); a bare number is in
+    the unit shown beside the key (seconds, farads, …; GΩ/s for the offset loss).
+    """
+    from refplane.analysis.units import parse_quantity
+
+    unit, scale = KEY_UNITS.get(key, ("", 1.0))
+    what = KEY_LABELS.get(key, key).split(" (")[0].lower()
+    try:
+        value = float(text)
+    except ValueError:
+        value = parse_quantity(text, unit, what) / scale
+    if not math.isfinite(value):
+        raise AnalysisError(f"{text!r} is not a finite {what}")
+    return value
+
+
+class ElidedLabel(QLabel):
+    """One line of text that never widens its window: too long, it is shortened in the middle
+    ("…") and the whole text is in the tooltip. For paths and file names."""
+
+    def __init__(self, text: str = "", parent: QWidget | None = None):
+        super().__init__(parent)
+        self._full = ""
+        # Ignored: the text's length plays no part in the layout's width.
+        self.setSizePolicy(QSizePolicy.Ignored, QSizePolicy.Preferred)
+        self.setMinimumWidth(60)
+        self.set_full_text(text)
+
+    def full_text(self) -> str:
+        """The text before shortening."""
+        return self._full
+
+    def set_full_text(self, text: str) -> None:
+        """Show ``text``, shortened to the label's width when it does not fit."""
+        self._full = text
+        self.setToolTip(text)
+        self._elide()
+
+    def resizeEvent(self, event) -> None:  # noqa: N802 (Qt's name)
+        super().resizeEvent(event)
+        self._elide()
+
+    def _elide(self) -> None:
+        self.setText(self.fontMetrics().elidedText(self._full, Qt.ElideMiddle, max(self.width(), 1)))
+
 
 class CalibrationDialog(QDialog):
-    """Calibrate from measured standards and open corrected devices as new traces."""
+    """Calibrate from measured standards and open corrected devices as new traces.
+
+    The sections are numbered in reading order: 1 and 2 (files, definitions) on the left,
+    3 and 4 (error terms, devices) on the right.
+    """
 
     def __init__(self, state: Session, parent: QWidget | None = None, theme: Theme = LIGHT):
         super().__init__(parent)
@@ -73,40 +168,62 @@ class CalibrationDialog(QDialog):
         self._definitions_file: str | None = None
         self._device_files: list[str] = []
         self._filling = False
+        self._terms_source = ""      # where the error terms in use came from, in words
+        self._terms_outdated = False  # standards or definitions changed after they were worked out
 
         layout = QVBoxLayout(self)
         split = QSplitter(Qt.Horizontal)
+        split.setChildrenCollapsible(False)
         layout.addWidget(split, 1)
         left = QWidget()
         left_layout = QVBoxLayout(left)
         left_layout.setContentsMargins(0, 0, 0, 0)
         left_layout.addWidget(self._build_files())
         left_layout.addWidget(self._build_definitions(), 1)
-        left_layout.addWidget(self._build_devices())
         split.addWidget(left)
-        split.addWidget(self._build_results())
+        right = QWidget()
+        right_layout = QVBoxLayout(right)
+        right_layout.setContentsMargins(0, 0, 0, 0)
+        right_layout.addWidget(self._build_results(), 1)
+        right_layout.addWidget(self._build_devices())
+        split.addWidget(right)
+        split.setStretchFactor(0, 0)
         split.setStretchFactor(1, 1)
 
         self.problem = QLabel("")
         self.problem.setWordWrap(True)
         self.problem.setStyleSheet("color: #B00020;")
+        self.problem.hide()  # takes no room until there is something to say
         layout.addWidget(self.problem)
+        bottom = QHBoxLayout()
         caution = QLabel(_CAUTION)
         caution.setWordWrap(True)
-        layout.addWidget(caution)
-        bottom = QHBoxLayout()
-        bottom.addStretch(1)
-        close = QPushButton("Close")
-        close.clicked.connect(self.close)
-        bottom.addWidget(close)
+        bottom.addWidget(caution, 1)
+        self.close_button = QPushButton("Close")
+        self.close_button.clicked.connect(self.close)
+        bottom.addWidget(self.close_button, 0, Qt.AlignBottom)
         layout.addLayout(bottom)
 
         bind(self, state.tracesChanged, self._fill_devices)
         bind(self, state.traceChanged, lambda _id: self._fill_devices())
         self._fill_definition_table()
         self._fill_devices()
+        self._show_terms_in_use()
         self._update_buttons()
-        self.resize(1100, 720)
+        self.resize(*DEFAULT_SIZE)
+        screen = self.screen() if parent is None else parent.screen()
+        if screen is not None:
+            self.fit_to(screen.availableGeometry())
+
+    def fit_to(self, available: QRect) -> None:
+        """Shrink the dialog to fit ``available`` (a screen's free area), frame included.
+
+        The default size suits a desktop monitor; on a laptop screen (1366×768, 1280×800,
+        1024×768) the dialog takes what there is, and every part of it stays usable there.
+        """
+        w = min(DEFAULT_SIZE[0], max(self.minimumSizeHint().width(), available.width() - FRAME_MARGINS[0]))
+        h = min(DEFAULT_SIZE[1], max(self.minimumSizeHint().height(), available.height() - FRAME_MARGINS[1]))
+        self.resize(w, h)
 
     # ------------------------------------------------------------------ building
     def _build_files(self) -> QGroupBox:
@@ -114,11 +231,13 @@ class CalibrationDialog(QDialog):
         grid = QGridLayout(box)
         self.path_edits: dict[str, QLineEdit] = {}
         for row, (role, label, _needed) in enumerate(ROLES):
-            grid.addWidget(QLabel(label), row, 0)
+            name = QLabel(label)
+            name.setToolTip(_ROLE_TIPS.get(role, ""))
+            grid.addWidget(name, row, 0)
             edit = QLineEdit()
             edit.setReadOnly(True)
             edit.setPlaceholderText("no file chosen")
-            edit.setMinimumWidth(180)
+            edit.setMinimumWidth(120)  # a line edit never grows with its text; the path scrolls
             self.path_edits[role] = edit
             grid.addWidget(edit, row, 1)
             choose = QPushButton("Choose…")
@@ -128,15 +247,19 @@ class CalibrationDialog(QDialog):
             clear.clicked.connect(lambda _c=False, r=role: self.clear_standard(r))
             grid.addWidget(clear, row, 3)
         grid.setColumnStretch(1, 1)
-        self.interpolate_box = QCheckBox("Allow sweeps on different frequencies (interpolate, less accurate)")
+        self.interpolate_box = QCheckBox("Allow sweeps on different frequencies (interpolated)")
+        self.interpolate_box.setToolTip("Standards or devices swept on other frequencies are interpolated "
+                                        "onto the error terms' frequencies; less accurate.")
         grid.addWidget(self.interpolate_box, len(ROLES), 0, 1, 4)
         return box
 
     def _build_definitions(self) -> QGroupBox:
+        from refplane.analysis.standards import KINDS, definition_keys
+
         box = QGroupBox("2. What the standards are")
         v = QVBoxLayout(box)
         top = QHBoxLayout()
-        self.definitions_name = QLabel("")
+        self.definitions_name = ElidedLabel("")
         top.addWidget(self.definitions_name, 1)
         for text, slot in (("Load…", self._ask_load_definitions), ("Save…", self._ask_save_definitions),
                            ("Ideal", self.use_ideal_definitions)):
@@ -152,24 +275,44 @@ class CalibrationDialog(QDialog):
         self.kind_combo.currentIndexChanged.connect(lambda _i: self._fill_definition_table())
         pick.addWidget(self.kind_combo, 1)
         v.addLayout(pick)
-        self.definition_table = QTableWidget(0, 2)
-        self.definition_table.setHorizontalHeaderLabels(["Quantity", "Value"])
-        self.definition_table.verticalHeader().setVisible(False)
-        self.definition_table.horizontalHeader().setSectionResizeMode(0, QHeaderView.Stretch)
-        self.definition_table.itemChanged.connect(self._on_definition_edited)
-        self.definition_table.setMinimumHeight(200)
-        v.addWidget(self.definition_table, 1)
+        table = self.definition_table = QTableWidget(0, 2)
+        table.setHorizontalHeaderLabels(["Quantity", "Value"])
+        table.verticalHeader().setVisible(False)
+        table.horizontalHeader().setSectionResizeMode(0, QHeaderView.ResizeToContents)
+        table.horizontalHeader().setSectionResizeMode(1, QHeaderView.Stretch)
+        table.setWordWrap(False)
+        row_h = table.fontMetrics().height() + 8
+        table.verticalHeader().setSectionResizeMode(QHeaderView.Fixed)
+        table.verticalHeader().setDefaultSectionSize(row_h)
+        # Tall enough for the longest definition (a short or an open: 4 + 3 offset rows) without
+        # scrolling; the height is fixed so the rows are always all in view.
+        most_rows = max(len(definition_keys(k)) for k in KINDS)
+        height = table.horizontalHeader().sizeHint().height() + most_rows * row_h + 2 * table.frameWidth() + 2
+        table.setMinimumHeight(height)
+        table.setMaximumHeight(height)
+        table.setVerticalScrollBarPolicy(Qt.ScrollBarAlwaysOff)
+        table.itemChanged.connect(self._on_definition_edited)
+        v.addWidget(table)
+        hint = QLabel("Type values with their unit (31 ps, 9 fF, 0.2 nH, 50 ohm); a bare number is in the "
+                      "unit shown. Empty means none.")
+        hint.setWordWrap(True)
+        hint.setForegroundRole(QPalette.PlaceholderText)
+        v.addWidget(hint)
+        v.addStretch(1)
         return box
 
     def _build_devices(self) -> QGroupBox:
         box = QGroupBox("4. Devices to correct")
         v = QVBoxLayout(box)
-        note = QLabel("Ticked sweeps are corrected as measured (before any reference-plane offsets) "
-                      "and open as new traces.")
+        note = QLabel("Ticked sweeps are corrected as measured (before any reference-plane offsets), "
+                      "open as new traces and are then unticked.")
         note.setWordWrap(True)
         v.addWidget(note)
         self.device_list = QListWidget()
-        self.device_list.setMaximumHeight(140)
+        self.device_list.setTextElideMode(Qt.ElideMiddle)  # long paths shorten, never widen
+        self.device_list.setHorizontalScrollBarPolicy(Qt.ScrollBarAlwaysOff)
+        # A fixed height of about four entries: the error-term plot above takes what room is left.
+        self.device_list.setFixedHeight(4 * (self.device_list.fontMetrics().height() + 4) + 8)
         v.addWidget(self.device_list)
         row = QHBoxLayout()
         add = QPushButton("Add files…")
@@ -178,6 +321,7 @@ class CalibrationDialog(QDialog):
         self.correct_button = QPushButton("Correct and open")
         self.correct_button.clicked.connect(self.correct_devices)
         row.addWidget(self.correct_button)
+        row.addStretch(1)
         v.addLayout(row)
         return box
 
@@ -188,14 +332,18 @@ class CalibrationDialog(QDialog):
         self.solve_button = QPushButton("Work out error terms")
         self.solve_button.clicked.connect(self.solve)
         row.addWidget(self.solve_button)
-        self.save_terms_button = QPushButton("Save error terms…")
+        self.save_terms_button = QPushButton("Save…")
+        self.save_terms_button.setToolTip("Save the error terms to a file, to correct later sweeps")
         self.save_terms_button.clicked.connect(self._ask_save_terms)
         row.addWidget(self.save_terms_button)
-        load_terms = QPushButton("Use saved error terms…")
-        load_terms.clicked.connect(self._ask_load_terms)
-        row.addWidget(load_terms)
+        self.load_terms_button = QPushButton("Use saved…")
+        self.load_terms_button.setToolTip("Use error terms saved earlier instead of measured standards")
+        self.load_terms_button.clicked.connect(self._ask_load_terms)
+        row.addWidget(self.load_terms_button)
         row.addStretch(1)
         v.addLayout(row)
+        self.terms_in_use = ElidedLabel("")
+        v.addWidget(self.terms_in_use)
         self.plot = pg.PlotWidget(background=self.theme.chart_bg)
         for side in ("left", "bottom"):
             self.plot.getAxis(side).setTextPen(self.theme.text)
@@ -203,15 +351,19 @@ class CalibrationDialog(QDialog):
         self.plot.setLabel("bottom", "Frequency", units="Hz")
         self.plot.setLabel("left", "Magnitude", units="dB")
         self.plot.showGrid(x=True, y=True, alpha=0.3)
-        self.legend = self.plot.addLegend(offset=(10, 10), labelTextColor=self.theme.text,
-                                          brush=pg.mkBrush(self.theme.chart_bg))
+        self.plot.setMinimumHeight(140)
         v.addWidget(self.plot, 1)
+        # The key to the curves sits below the plot, never over them.
+        self.legend = QLabel("")
+        self.legend.setTextFormat(Qt.RichText)
+        self.legend.setWordWrap(True)
+        v.addWidget(self.legend)
         self.verdict = QLabel("Choose the three measured standards, then work out the error terms.")
         self.verdict.setWordWrap(True)
         v.addWidget(self.verdict)
         self.warning_list = QListWidget()
         self.warning_list.setWordWrap(True)
-        self.warning_list.setMaximumHeight(140)
+        self.warning_list.setFixedHeight(4 * (self.warning_list.fontMetrics().height() + 4) + 8)
         v.addWidget(self.warning_list)
         return box
 
@@ -219,6 +371,7 @@ class CalibrationDialog(QDialog):
     def show_error(self, title: str, message: str) -> None:
         """Report a problem without blocking (tests replace this method)."""
         self.problem.setText(message)
+        self.problem.show()
         box = QMessageBox(QMessageBox.Warning, title, message, QMessageBox.Ok, self)
         box.setAttribute(Qt.WA_DeleteOnClose, True)
         box.setWindowModality(Qt.NonModal)
@@ -226,6 +379,7 @@ class CalibrationDialog(QDialog):
 
     def _ok(self) -> None:
         self.problem.setText("")
+        self.problem.hide()
 
     # ------------------------------------------------------------------ standards' files
     def _ask_standard_file(self, role: str) -> None:
@@ -253,13 +407,22 @@ class CalibrationDialog(QDialog):
         self.path_edits[role].setToolTip(os.fspath(path))
         self.path_edits[role].setCursorPosition(len(os.fspath(path)))  # the file name shows
         self._ok()
-        self._update_buttons()
+        self._standards_changed()
         return True
 
     def clear_standard(self, role: str) -> None:
         """Forget the file chosen for one standard."""
-        self._sweeps.pop(role, None)
+        had = self._sweeps.pop(role, None) is not None
         self.path_edits[role].clear()
+        self.path_edits[role].setToolTip("")
+        if had:
+            self._standards_changed()
+
+    def _standards_changed(self) -> None:
+        """A standard's file or definition changed: terms worked out from the old ones are outdated."""
+        if self.calibration is not None and self._terms_source.startswith("worked out"):
+            self._terms_outdated = True
+            self._show_terms_in_use()
         self._update_buttons()
 
     def _update_buttons(self) -> None:
@@ -297,6 +460,7 @@ class CalibrationDialog(QDialog):
         self._definitions_file = os.fspath(path)
         self._ok()
         self._fill_definition_table()
+        self._standards_changed()
         return True
 
     def _ask_save_definitions(self) -> None:
@@ -322,10 +486,11 @@ class CalibrationDialog(QDialog):
         self._definitions = copy.deepcopy(_EMPTY_DEFINITIONS)
         self._definitions_file = None
         self._fill_definition_table()
+        self._standards_changed()
 
     def set_definition_value(self, kind: str, key: str, text: str) -> bool:
-        """Set one value of a standard's definition from text (empty = default); invalid values
-        are reported and not kept."""
+        """Set one value of a standard's definition from text ("31 ps", "9 fF", a bare number in
+        the unit shown; empty = default); invalid values are reported and not kept."""
         entry = dict(self._definitions.get(kind, {}))
         if "file" in entry:
             self.show_error("Defined by a file", f"the {kind} is defined by the data file {entry['file']}; "
@@ -334,9 +499,9 @@ class CalibrationDialog(QDialog):
         text = text.strip()
         if text:
             try:
-                entry[key] = float(text)
-            except ValueError:
-                self.show_error("Not a number", f"{KEY_LABELS.get(key, key)}: {text!r} is not a number")
+                entry[key] = parse_definition_value(key, text)
+            except AnalysisError as exc:
+                self.show_error("Not a value", f"{KEY_LABELS.get(key, key)}: {exc}")
                 self._fill_definition_table()
                 return False
         else:
@@ -355,6 +520,7 @@ class CalibrationDialog(QDialog):
         self._definitions = trial
         self._ok()
         self._fill_definition_table()
+        self._standards_changed()
         return True
 
     def _fill_definition_table(self) -> None:
@@ -381,7 +547,7 @@ class CalibrationDialog(QDialog):
                     label.setFlags(Qt.ItemIsEnabled)
                     label.setData(Qt.UserRole, key)
                     value = entry.get(key)
-                    item = QTableWidgetItem("" if value is None else f"{value:.6g}")
+                    item = QTableWidgetItem("" if value is None else format_definition_value(key, value))
                     item.setData(Qt.UserRole, key)
                     table.setItem(row, 0, label)
                     table.setItem(row, 1, item)
@@ -389,7 +555,7 @@ class CalibrationDialog(QDialog):
             self._filling = False
         name = self._definitions.get("name", "standards")
         where = f" ({self._definitions_file})" if self._definitions_file else ""
-        self.definitions_name.setText(f"Definitions: {name}{where}")
+        self.definitions_name.set_full_text(f"Definitions: {name}{where}")
 
     def _on_definition_edited(self, item: QTableWidgetItem) -> None:
         if self._filling or item.column() != 1 or item.data(Qt.UserRole) is None:
@@ -416,6 +582,8 @@ class CalibrationDialog(QDialog):
         except AnalysisError as exc:
             self.show_error("Cannot work out the error terms", str(exc))
             return None
+        used = ", ".join(Path(self.path_edits[r].text()).name for r, _, _ in ROLES if r in self._sweeps)
+        self._terms_source = f"worked out from the standards measured here ({used})"
         self._show_calibration(cal)
         if extra:
             self.warning_list.addItem(f"not used here: {', '.join(extra)} (additional and check standards "
@@ -426,14 +594,18 @@ class CalibrationDialog(QDialog):
         from refplane.analysis.calibration import terms_db
 
         self.calibration = cal
+        self._terms_outdated = False
         self._ok()
         self.plot.clear()
-        self.legend.clear()
+        keys = []
         for i, (name, values) in enumerate(terms_db(cal).items()):
-            pen = pg.mkPen(PALETTE[i % len(PALETTE)], width=2)
+            colour = PALETTE[i % len(PALETTE)]
             self.plot.plot(np.asarray(cal.freq_hz), np.where(np.isfinite(values), values, np.nan),
-                           pen=pen, name=name.capitalize(), connect="finite")
+                           pen=pg.mkPen(colour, width=2), name=name.capitalize(), connect="finite")
+            keys.append(f'<span style="color:{colour}">&#9473;&#9473;</span>&nbsp;{html.escape(name.capitalize())}')
+        self.legend.setText("&nbsp;&nbsp; ".join(keys))
         self.plot.enableAutoRange()
+        self._show_terms_in_use()
         self.verdict.setText(f"Quality: {cal.quality}. {cal.verdict}")
         self.warning_list.clear()
         for w in cal.warnings:
@@ -483,8 +655,25 @@ class CalibrationDialog(QDialog):
         except (AnalysisError, OSError) as exc:
             self.show_error("Cannot use these error terms", str(exc))
             return False
+        self._terms_source = f"saved in {os.fspath(path)}"
         self._show_calibration(cal)
         return True
+
+    def _show_terms_in_use(self) -> None:
+        """Say which error terms a correction would use: none, the ones worked out here, or a file."""
+        from refplane.analysis.units import format_frequency
+
+        cal = self.calibration
+        if cal is None:
+            text = "Error terms in use: none yet (work them out, or use saved ones)"
+        else:
+            f = np.asarray(cal.freq_hz)
+            span = f"{format_frequency(f[0])} to {format_frequency(f[-1])}, {len(f)} points"
+            text = f"Error terms in use: {self._terms_source}; {span}"
+            if self._terms_outdated:  # said first, so shortening a long line never hides it
+                text = ("Outdated, the standards have changed since (work them out again). "
+                        + text.replace("Error terms in use", "In use"))
+        self.terms_in_use.set_full_text(text)
 
     # ------------------------------------------------------------------ devices
     def _ask_device_files(self) -> None:
@@ -512,6 +701,7 @@ class CalibrationDialog(QDialog):
         entries += [(("file", p), f"File: {p}") for p in self._device_files]
         for key, label in entries:
             item = QListWidgetItem(label)
+            item.setToolTip(label)
             item.setFlags(Qt.ItemIsEnabled | Qt.ItemIsUserCheckable)
             # New files start ticked; open traces start unticked (they may be unrelated sweeps).
             on = key in ticked or (key not in known and key[0] == "file")
@@ -536,7 +726,7 @@ class CalibrationDialog(QDialog):
         if self.calibration is None:
             self.show_error("No error terms", "work out or load the error terms first")
             return []
-        new_ids, problems, notes = [], [], []
+        new_ids, problems, notes, done = [], [], [], []
         # Collected first: each new trace refills the list.
         keys = [self.device_list.item(i).data(Qt.UserRole) for i in range(self.device_list.count())
                 if self.device_list.item(i).checkState() == Qt.Checked]
@@ -549,7 +739,12 @@ class CalibrationDialog(QDialog):
                 continue
             base = self.state.trace(ref).name if kind == "trace" else Path(ref).stem
             new_ids.append(self.state.add_sweep(result.sweep, name=f"{base} (calibrated)"))
+            done.append((kind, ref))
             notes.extend(result.warnings)
+        # Corrected devices are unticked, so a second click does not open the same traces again.
+        for i in range(self.device_list.count()):
+            if self.device_list.item(i).data(Qt.UserRole) in done:
+                self.device_list.item(i).setCheckState(Qt.Unchecked)
         for n in dict.fromkeys(notes):
             self.warning_list.addItem(n)
         if problems:

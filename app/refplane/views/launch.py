@@ -2,7 +2,9 @@
 
 A Qt platform plugin that cannot start aborts the whole process (a core dump, not an
 exception), so the check happens before any Qt object exists: environment variables
-first, then, on Linux with X11, a short probe in a child process.
+first, then, on Linux with X11, every library the xcb plugin needs (read from the plugin
+itself, :mod:`refplane.views.xcb_needs`), and on request a short probe in a child process.
+Without a display the advice is ``refplane render``: an offscreen window would be invisible.
 """
 
 from __future__ import annotations
@@ -14,14 +16,31 @@ import sys
 
 NO_DISPLAY = (
     "refplane: no display is available to open the window{why}.\n"
-    "  To draw a chart to a picture without a display, use: refplane render FILE -o chart.png\n"
-    "  On Linux, start from a desktop session, or set QT_QPA_PLATFORM=offscreen for headless use."
+    "  Start refplane from a desktop session (or with X11 forwarding over ssh).\n"
+    "  To draw a chart to a picture without a display, use: refplane render FILE -o chart.png"
 )
 NO_XCB = (
     "refplane: the window cannot start: Qt's X11 support failed to load{why}.\n"
-    "  On Debian or Ubuntu this is usually fixed by: sudo apt install libxcb-cursor0\n"
     "  To draw a chart to a picture without a window, use: refplane render FILE -o chart.png"
 )
+MISSING_XCB_LIBRARIES = (
+    "refplane: the window cannot start: Qt's X11 support (its xcb platform plugin) needs "
+    "{count} that {are} not installed: {names}.\n"
+    "  On Debian or Ubuntu: sudo apt install {packages}\n"
+    "  (on other systems, install the packages that hold these files)\n"
+    "  To draw a chart to a picture without a window, use: refplane render FILE -o chart.png"
+)
+
+
+def missing_libraries_message(missing: list[str]) -> str:
+    """One message naming every missing library and the packages that usually hold them."""
+    from refplane.views.xcb_needs import debian_package
+
+    packages = list(dict.fromkeys(debian_package(s) for s in missing))
+    return MISSING_XCB_LIBRARIES.format(
+        count="a library" if len(missing) == 1 else f"{len(missing)} libraries",
+        are="is" if len(missing) == 1 else "are", names=", ".join(missing), packages=" ".join(packages))
+
 
 _PROBE = ("import sys\n"
           "from PySide6.QtGui import QGuiApplication\n"
@@ -63,8 +82,9 @@ def display_problem(env: dict[str, str] | None = None, platform: str | None = No
     # From here Qt will use X11 (the xcb plugin).
     if not _x_server_reachable(env.get("DISPLAY", "")):
         return NO_DISPLAY.format(why=f" (no X server answers on DISPLAY={env.get('DISPLAY')})")
-    if not _have_library("xcb-cursor"):
-        return NO_XCB.format(why=" (libxcb-cursor is missing)")
+    missing = _missing_xcb_libraries()
+    if missing:
+        return missing_libraries_message(missing)
     if probe:
         return _probe(env)
     return None
@@ -88,13 +108,14 @@ def _abstract_socket(number: str) -> bool:
         return False
 
 
-def _have_library(name: str) -> bool:
-    import ctypes.util
+def _missing_xcb_libraries() -> list[str]:
+    # Read from the plugin's own ELF header, so every library it needs is checked, not one.
+    from refplane.views.xcb_needs import missing_xcb_libraries
 
     try:
-        return ctypes.util.find_library(name) is not None
+        return missing_xcb_libraries()
     except Exception:  # noqa: BLE001 - if we cannot tell, let Qt try
-        return True
+        return []
 
 
 def _probe(env: dict[str, str]) -> str | None:
@@ -108,7 +129,8 @@ def _probe(env: dict[str, str]) -> str | None:
         return None
     text = out.stderr
     if "xcb" in text:
-        return NO_XCB.format(why="")
+        missing = _missing_xcb_libraries()
+        return missing_libraries_message(missing) if missing else NO_XCB.format(why="")
     last = next((ln for ln in reversed(text.strip().splitlines()) if ln.strip()), "")
     return NO_DISPLAY.format(why=f" ({last.strip()})" if last else "")
 

@@ -13,6 +13,38 @@ import pyqtgraph as pg
 from PySide6.QtWidgets import QGraphicsGridLayout, QGraphicsItem, QSizePolicy
 
 
+def log_tick_text(value: float, unit: str) -> str:
+    """A tick of a logarithmic axis with its own metric prefix: 1e6 Hz → "1 MHz", 2e8 → "200 MHz"."""
+    from refplane.analysis.units import format_si
+
+    # Six significant digits first: 10**6.30103 is 2000000.0000000005, which is "2 MHz".
+    number, _, rest = format_si(float(f"{value:.6g}"), unit, 6).partition(" ")
+    if "." in number and "e" not in number:
+        number = number.rstrip("0").rstrip(".")
+    return f"{number} {rest}".strip()
+
+
+class LogUnitAxis(pg.AxisItem):
+    """An axis that, on a logarithmic scale, names each tick in its own unit ("1 MHz", "10 MHz",
+    "1 GHz") instead of in one prefix chosen for the whole axis ("0.001 GHz"); its title then
+    carries no unit. On a linear scale it is pyqtgraph's own axis."""
+
+    def logTickStrings(self, values, scale, spacing):  # noqa: N802 (pyqtgraph's name)
+        if not self.labelUnits:
+            return super().logTickStrings(values, scale, spacing)
+        return [log_tick_text(10.0 ** float(v), self.labelUnits) for v in values]
+
+    def labelString(self) -> str:  # noqa: N802 (pyqtgraph's name)
+        if not (self.logMode and self.labelUnits):
+            return super().labelString()
+        style = ";".join(f"{k}: {v}" for k, v in self.labelStyle.items())
+        return f"<span style='{style}'>{self.labelText}</span>"
+
+    def setLogMode(self, *args, **kwargs) -> None:  # noqa: N802 (pyqtgraph's name)
+        super().setLogMode(*args, **kwargs)
+        self._updateLabel()  # the title gains or drops its unit
+
+
 class PlotArea(pg.GraphicsWidget):
     """A view box with a left and a bottom axis laid out around it."""
 
@@ -25,7 +57,7 @@ class PlotArea(pg.GraphicsWidget):
         layout.setHorizontalSpacing(0)
         layout.setVerticalSpacing(0)
         self.setLayout(layout)
-        self._axes = {"left": pg.AxisItem("left", parent=self), "bottom": pg.AxisItem("bottom", parent=self)}
+        self._axes = {"left": pg.AxisItem("left", parent=self), "bottom": LogUnitAxis("bottom", parent=self)}
         for axis in self._axes.values():
             axis.linkToView(self.vb)
             # Above the curves' view box like pyqtgraph's own plots, but behind any child
