@@ -257,7 +257,7 @@ def deep_file(tmp_path, name, text_or_gamma):
 @pytest.fixture
 def laptop_dialog(qtbot, request):
     area = SCREENS[request.param]
-    d = CalibrationDialog(ViewState())
+    d = CalibrationDialog(Session())
     d.errors = []
     d.show_error = lambda title, message: d.errors.append((title, message))
     qtbot.addWidget(d)
@@ -404,8 +404,8 @@ import json, sys
 from PySide6.QtWidgets import QAbstractButton, QApplication
 app = QApplication([])
 from refplane.views.calibration_dialog import CalibrationDialog
-from refplane.views.state import ViewState
-d = CalibrationDialog(ViewState())
+from refplane.session.model import Session
+d = CalibrationDialog(Session())
 d.show(); app.processEvents()
 screen = d.screen().availableGeometry()
 frame = d.frameGeometry()

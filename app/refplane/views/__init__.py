@@ -1,1 +1,1 @@
-"""The desktop window: PySide6 + pyqtgraph views over :mod:`refplane.views.state`; no RF maths here."""
+"""The desktop window: PySide6 + pyqtgraph views over the session (:mod:`refplane.session`); no RF maths here."""

@@ -15,7 +15,7 @@ Adding panels later
 
       window.add_tool_action("Calibrate from standards…", lambda: CalibrationDialog(window.state, window).open())
 
-Panels take :attr:`MainWindow.state` (a :class:`~refplane.views.state.Session`) and talk
+Panels take :attr:`MainWindow.state` (a :class:`~refplane.session.model.Session`) and talk
 to the rest of the window only through it.
 """
 

@@ -10,7 +10,7 @@ One graphics item per visual element, each fed precomputed arrays:
   drags, the chart turns them into frequencies and tells the state.
 - :class:`VswrCircleItem` — the constant-VSWR circle.
 
-:class:`SmithChart` observes a :class:`~refplane.views.state.Session`; its slots only move
+:class:`SmithChart` observes a :class:`~refplane.session.model.Session`; its slots only move
 data from the state into items (and the cursor's Γ through ``impedance.gamma_to_z`` for the
 hover line).
 """

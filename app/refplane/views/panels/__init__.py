@@ -1,1 +1,1 @@
-"""Small panels of the window, one per module; each observes :class:`refplane.views.state.Session`."""
+"""Small panels of the window, one per module; each observes :class:`refplane.session.model.Session`."""
