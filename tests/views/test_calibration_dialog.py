@@ -429,7 +429,7 @@ def test_on_a_screen_of_that_size_the_dialog_opens_inside_it(tmp_path, size):
                                                "dpr": 1}]}))
     env = dict(os.environ, QT_QPA_PLATFORM=f"offscreen:configfile={config}")
     out = subprocess.run([sys.executable, "-c", _ON_A_SIZED_SCREEN], env=env, capture_output=True,
-                         text=True, timeout=120)
+                         text=True, timeout=600)
     assert out.returncode == 0, out.stderr
     report = json.loads(out.stdout.strip().splitlines()[-1])
     assert report["screen"] == list(size)
