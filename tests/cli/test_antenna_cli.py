@@ -1,0 +1,109 @@
+"""``refplane resonance``, ``feedline`` and ``match``: JSON keys, values against outside references,
+the cautions in help and output, and status 2 on bad requests.
+
+Sources named beside each check:
+- "textbook": series R-L-C resonance f0 = 1/(2π√(LC)), Q = ω0L/R; Γ = (Z − Z0)/(Z + Z0)
+  (Pozar, Microwave Engineering, ch. 2 and 6 — from memory).
+- scikit-rf as a reference library: a matched line of known length and velocity factor cascaded in
+  front of the model (``DefinedGammaZ0.line`` and ``**``).
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import subprocess
+import sys
+
+import numpy as np
+import pytest
+
+from refplane.analysis import touchstone
+from refplane.analysis.sweep import Sweep
+from refplane.cli import main
+
+skrf = pytest.importorskip("skrf")
+
+C0 = 299_792_458.0
+R_ANT, L_ANT, C_ANT = 36.0, 2.0e-6, 0.25e-9      # a series R-L-C "antenna", f0 ≈ 7.118 MHz
+F0 = 1 / (2 * math.pi * math.sqrt(L_ANT * C_ANT))
+
+
+def _antenna_z(f):
+    w = 2 * np.pi * f
+    return R_ANT + 1j * w * L_ANT + 1 / (1j * w * C_ANT)
+
+
+@pytest.fixture
+def antenna_through_line(tmp_path):
+    """The model antenna measured through 5 m of lossless 50 Ω line, vf 0.66 (cascaded with scikit-rf)."""
+    f = np.linspace(6.0e6, 8.2e6, 441)
+    freq = skrf.Frequency.from_f(f, unit="hz")
+    z = _antenna_z(f)
+    load = skrf.Network(frequency=freq, s=((z - 50) / (z + 50)).reshape(-1, 1, 1), z0=50)
+    media = skrf.media.DefinedGammaZ0(freq, z0=50, gamma=1j * 2 * np.pi * f / (0.66 * C0))
+    measured = media.line(5.0, unit="m") ** load
+    sweep = Sweep(f, measured.s[:, 0, 0], 50.0, name="antenna")
+    return touchstone.write(sweep, tmp_path / "antenna.s1p", freq_unit="MHz",
+                            comments=["invented test antenna: series RLC behind 5 m of line"])
+
+
+@pytest.fixture
+def antenna_file(tmp_path):
+    f = np.linspace(6.0e6, 8.2e6, 441)
+    z = _antenna_z(f)
+    return touchstone.write(Sweep(f, (z - 50) / (z + 50), 50.0), tmp_path / "feedpoint.s1p")
+
+
+def _status(argv) -> int:
+    """Exit status of ``refplane ARGV`` run in-process (argparse usage errors raise SystemExit)."""
+    try:
+        return main([str(a) for a in argv])
+    except SystemExit as exc:
+        return int(exc.code)
+
+
+def _json(capsys, *argv):
+    assert main([str(a) for a in argv]) == 0
+    return json.loads(capsys.readouterr().out)
+
+
+# ---------------------------------------------------------------- resonance
+
+
+def test_resonance_after_removing_the_line(capsys, antenna_through_line):
+    out = _json(capsys, "resonance", antenna_through_line, "--length", "5m", "--vf", "0.66", "--json")
+    assert set(out) >= {"file", "port", "resonances", "best", "bands"}
+    series = [r for r in out["resonances"] if r["kind"] == "series"]
+    assert len(series) == 1
+    # textbook: f0 = 1/(2π√(LC)), R there = 36 Ω, Q = ω0 L / R.
+    assert series[0]["freq_hz"] == pytest.approx(F0, rel=1e-5)
+    assert series[0]["r_ohm"] == pytest.approx(R_ANT, rel=1e-3)
+    assert series[0]["q"] == pytest.approx(2 * math.pi * F0 * L_ANT / R_ANT, rel=1e-3)
+    # textbook: VSWR 50/36 at resonance.
+    assert out["best"]["vswr"] == pytest.approx(50 / 36, rel=1e-3)
+    band = [b for b in out["bands"] if b["vswr_limit"] == 2.0]
+    assert len(band) == 1
+    assert set(band[0]) >= {"vswr_limit", "start_hz", "stop_hz", "centre_hz", "width_hz"}
+    assert band[0]["start_hz"] < F0 < band[0]["stop_hz"]
+
+
+def test_resonance_human_output_and_several_limits(capsys, antenna_file):
+    assert main(["resonance", str(antenna_file), "--vswr", "2", "--vswr", "1.5"]) == 0
+    text = capsys.readouterr().out
+    assert "series" in text and "VSWR" in text and "≤ 1.5" in text and "≤ 2" in text
+
+
+def test_resonance_help_carries_caution():
+    proc = subprocess.run([sys.executable, "-m", "refplane", "resonance", "--help"],
+                          capture_output=True, text=True, timeout=120)
+    assert proc.returncode == 0
+    assert "transmitter" in proc.stdout and "licensed practice" in proc.stdout
+
+
+@pytest.mark.parametrize("extra", [["--vswr", "0.9"], ["--vswr", "abc"], ["--port", "2"],
+                                   ["--band", "1GHz:2GHz"]])
+def test_resonance_bad_requests_exit_2(capsys, antenna_file, extra):
+    assert _status(["resonance", antenna_file, *extra]) == 2
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1
