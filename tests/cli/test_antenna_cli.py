@@ -107,3 +107,54 @@ def test_resonance_bad_requests_exit_2(capsys, antenna_file, extra):
     assert _status(["resonance", antenna_file, *extra]) == 2
     err = capsys.readouterr().err
     assert err.count("\n") == 1
+
+
+# ---------------------------------------------------------------- feedline
+
+
+@pytest.fixture
+def load_150(tmp_path):
+    f = np.linspace(13e6, 15e6, 21)
+    z = np.full(f.size, 150.0 + 0j)
+    return touchstone.write(Sweep(f, (z - 50) / (z + 50), 50.0), tmp_path / "ant150.s1p")
+
+
+POINT_KEYS = {"freq_hz", "z_radio_ohm", "z_antenna_ohm", "vswr_radio", "vswr_antenna",
+              "matched_loss_db", "total_loss_db", "power_at_antenna_w"}
+
+
+def test_feedline_json_handbook_example(capsys, load_150):
+    # handbook (amateur-radio handbook relation): ML 1 dB, SWR 3 at the antenna → ≈ 1.50 dB total, SWR ≈ 2.32.
+    out = _json(capsys, "feedline", load_150, "--length", "20m", "--vf", "0.66", "--loss", "1dB@14MHz",
+                "--power", "100W", "--at", "14MHz", "--json")
+    point = out["points"][0]
+    assert set(point) >= POINT_KEYS
+    assert point["vswr_antenna"] == pytest.approx(3.0)
+    assert point["total_loss_db"] == pytest.approx(1.50, abs=0.005)
+    assert point["vswr_radio"] == pytest.approx(2.32, abs=0.005)
+    assert point["power_at_antenna_w"] == pytest.approx(100 * 10 ** (-point["total_loss_db"] / 10))
+    assert point["z_antenna_ohm"] == pytest.approx([150.0, 0.0])
+
+
+def test_feedline_toward_antenna_removes_the_line(capsys, antenna_through_line):
+    # scikit-rf made the file by cascading 5 m of vf 0.66 line in front of the model; removing it gives the model.
+    out = _json(capsys, "feedline", antenna_through_line, "--length", "5m", "--vf", "0.66", "--at", "7MHz",
+                "--toward", "antenna", "--json")
+    z = _antenna_z(np.array([7e6]))[0]
+    assert out["points"][0]["z_antenna_ohm"] == pytest.approx([z.real, z.imag], rel=1e-6, abs=1e-6)
+    assert out["points"][0]["power_at_antenna_w"] is None
+
+
+def test_feedline_human_output_cautions_with_power(capsys, load_150):
+    assert main(["feedline", str(load_150), "--length", "20m", "--vf", "0.66", "--loss", "1dB@14MHz",
+                 "--power", "100W", "--at", "14MHz"]) == 0
+    text = capsys.readouterr().out
+    assert "1.50 dB" in text and "RF exposure" in text and "licensed practice" in text
+
+
+@pytest.mark.parametrize("extra", [["--power", "-5W"], ["--length=-3m"], ["--vf", "1.5"], ["--at", "1GHz"],
+                                   ["--loss", "x"]])
+def test_feedline_bad_requests_exit_2(capsys, load_150, extra):
+    argv = ["feedline", load_150, "--length", "20m", "--vf", "0.66", "--at", "14MHz"]
+    assert _status(argv + extra) == 2
+    assert capsys.readouterr().err.count("\n") == 1
