@@ -158,3 +158,69 @@ def test_feedline_bad_requests_exit_2(capsys, load_150, extra):
     argv = ["feedline", load_150, "--length", "20m", "--vf", "0.66", "--at", "14MHz"]
     assert _status(argv + extra) == 2
     assert capsys.readouterr().err.count("\n") == 1
+
+
+# ---------------------------------------------------------------- match
+
+
+@pytest.fixture
+def pozar_load(tmp_path):
+    """ZL = 200 − j100 Ω (constant) from 400 to 600 MHz, in a 100 Ω reference."""
+    f = np.linspace(400e6, 600e6, 201)
+    z = np.full(f.size, 200 - 100j)
+    return touchstone.write(Sweep(f, (z - 100) / (z + 100), 100.0), tmp_path / "pozar.s1p")
+
+
+def test_match_json_pozar_example(capsys, pozar_load):
+    # Pozar, Microwave Engineering, ch. 5 worked example (from memory, recomputed in the analysis tests):
+    # shunt 0.92 pF + series 38.8 nH, or shunt 46.1 nH + series 2.61 pF.
+    out = _json(capsys, "match", pozar_load, "--at", "500MHz", "--json")
+    assert set(out) >= {"freq_hz", "load_ohm", "target_ohm", "networks", "bode_fano_max_width_hz"}
+    assert out["load_ohm"] == pytest.approx([200.0, -100.0])
+    assert out["target_ohm"] == 100.0
+    ls = [n for n in out["networks"] if n["topology"] == "L"]
+    values = sorted((p["kind"], p["place"], p["value"]) for n in ls for p in n["parts"])
+    want = sorted([("C", "shunt", 0.92e-12), ("L", "series", 38.8e-9), ("L", "shunt", 46.1e-9),
+                   ("C", "series", 2.61e-12)])
+    for got, ref in zip(values, want):
+        assert got[:2] == ref[:2]
+        assert got[2] == pytest.approx(ref[2], rel=6e-3)
+    for n in out["networks"]:
+        assert n["vswr_exact"] == pytest.approx(1.0, abs=1e-8)
+        for p in n["parts"]:
+            assert set(p) >= {"kind", "place", "value", "unit", "standard_value", "peak_voltage_v", "rms_current_a"}
+
+
+def test_match_after_removing_the_line_with_power(capsys, antenna_through_line):
+    out = _json(capsys, "match", antenna_through_line, "--length", "5m", "--vf", "0.66", "--at", "7.3MHz",
+                "--power", "100W", "--series", "E12", "--json")
+    z = _antenna_z(np.array([7.3e6]))[0]
+    assert out["load_ohm"] == pytest.approx([z.real, z.imag], rel=1e-4)
+    # Bode–Fano (Fano 1950) for the series R-L-C antenna: Δf = R/(2L·ln 3).
+    assert out["bode_fano_max_width_hz"] == pytest.approx(R_ANT / (2 * L_ANT * math.log(3)), rel=1e-3)
+    lumped = [p for n in out["networks"] for p in n["parts"] if p["kind"] in ("L", "C")]
+    assert lumped and all(p["peak_voltage_v"] > 0 and p["rms_current_a"] > 0 for p in lumped)
+
+
+def test_match_human_output_has_parts_and_caution(capsys, antenna_file):
+    assert main(["match", str(antenna_file), "--at", "7.3MHz", "--power", "100W", "--to", "50"]) == 0
+    text = capsys.readouterr().out
+    assert "Bode–Fano" in text and "peak V" in text and "RMS I" in text
+    assert "high voltage" in text and "licensed practice" in text
+
+
+def test_match_help_carries_caution():
+    proc = subprocess.run([sys.executable, "-m", "refplane", "match", "--help"],
+                          capture_output=True, text=True, timeout=120)
+    assert proc.returncode == 0
+    assert "high voltage" in proc.stdout and "transmitter" in proc.stdout
+
+
+@pytest.mark.parametrize("extra", [["--at", "1GHz"], ["--series", "E7"], ["--to", "-50"], ["--q", "0"],
+                                   ["--power", "lots"], ["--port", "3"]])
+def test_match_bad_requests_exit_2(capsys, antenna_file, extra):
+    argv = ["match", antenna_file, "--at", "7.3MHz"]
+    if extra[0] == "--at":
+        argv = ["match", antenna_file]
+    assert _status(argv + extra) == 2
+    assert capsys.readouterr().err.count("\n") == 1

@@ -44,6 +44,14 @@ def _parse_q(text: str) -> float:
     return value
 
 
+def _plain(text: str) -> str:
+    """``390.0 nH`` → ``390 nH``, ``1.500 nF`` → ``1.5 nF``: standard values without trailing zeros."""
+    number, _, unit = text.partition(" ")
+    if "." in number:
+        number = number.rstrip("0").rstrip(".")
+    return f"{number} {unit}".strip()
+
+
 def add_parser(sub: argparse._SubParsersAction) -> None:
     from refplane.analysis.units import parse_frequency
     from refplane.cli.offsets import _parse_vf
@@ -116,7 +124,7 @@ def run(args: argparse.Namespace) -> int:
                 std = f"{part.end} stub" if part.end else "line"
             else:
                 value = format_si(part.value, part.unit)
-                std = format_si(part.standard_value, part.unit, 3)
+                std = _plain(format_si(part.standard_value, part.unit, 4))
             row = [f"{part.place} {part.kind}", value, std]
             if args.power_w is not None:
                 row += ["—" if part.peak_voltage_v is None else format_si(part.peak_voltage_v, "V", 4),

@@ -647,7 +647,7 @@ def bode_fano_width_hz(circuit: str, values: tuple[float, ...], f0_hz: float, vs
 
 
 def bode_fano(freq_hz: np.ndarray, z_ohm: np.ndarray, f0_hz: float, *, z_ref_ohm: float = 50.0,
-              vswr_limit: float = 2.0, window: float = 0.1) -> BodeFano:
+              vswr_limit: float = 2.0, window: float = 0.1, max_points: int = 400) -> BodeFano:
     """Fit the load's equivalent circuit around ``f0_hz`` and give its Bode–Fano limit.
 
     Parameters
@@ -658,6 +658,8 @@ def bode_fano(freq_hz: np.ndarray, z_ohm: np.ndarray, f0_hz: float, *, z_ref_ohm
         Design frequency.
     window : float
         Fit the points within f0·(1 ± window) (widened until there are at least 8 points).
+    max_points : int
+        At most this many of them, spread evenly, are fitted.
 
     Returns
     -------
@@ -679,7 +681,11 @@ def bode_fano(freq_hz: np.ndarray, z_ohm: np.ndarray, f0_hz: float, *, z_ref_ohm
         win *= 2
     if mask.sum() < 4:
         raise AnalysisError("too few swept points near the design frequency to fit the load")
-    fit = fit_impedance(f[mask], z[mask], z_ref_ohm=z_ref_ohm, model="auto")
+    idx = np.flatnonzero(mask)
+    if idx.size > max_points:
+        # A few hundred points pin a three-part circuit down; more only slow the fit.
+        idx = idx[np.unique(np.linspace(0, idx.size - 1, max_points).round().astype(int))]
+    fit = fit_impedance(f[idx], z[idx], z_ref_ohm=z_ref_ohm, model="auto")
     circuit = fit.model.circuit
     values = fit.model.values(fit.params)
     s = float(vswr_limit)
@@ -790,7 +796,8 @@ def match_sweep(sweep: Sweep, freq_hz: float, *, port: int = 1, target_ohm: floa
     f = sweep.freq_hz
     # Four points per swept interval: the measured load read between points as the markers do.
     if f.size > 1:
-        fine = np.concatenate([np.linspace(a, b, 4, endpoint=False) for a, b in zip(f[:-1], f[1:])] + [f[-1:]])
+        steps = (f[1:] - f[:-1])[:, None] * (np.arange(4) / 4.0)
+        fine = np.concatenate([(f[:-1, None] + steps).ravel(), f[-1:]])
     else:
         fine = f
     z_fine = gamma_to_z(gamma_at(sweep, fine, port), z_ref)

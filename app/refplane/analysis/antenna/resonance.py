@@ -213,23 +213,24 @@ def find_resonances(sweep: Sweep, port: int = 1, *,
     # An open (Γ = 1) has no defined reactance; treat its sign as zero but never report it.
     usable = np.abs(1.0 - g) >= 1e-12
     sign = np.where(usable, np.sign(im), 0.0)
-    found: list[Resonance] = []
-    for k in range(f.size - 1):
+    found: list[tuple[float, Resonance]] = []
+    # Only the few intervals where the sign changes are worked in Python.
+    for k in np.flatnonzero(sign[:-1] * sign[1:] < 0):
         a, b = g[k], g[k + 1]
-        if sign[k] * sign[k + 1] < 0:
-            t = im[k] / (im[k] - im[k + 1])
-            freq = f[k] + t * (f[k + 1] - f[k])
-            gam = complex(a + t * (b - a))
-            gam = complex(gam.real, 0.0)
-            slope = (b - a) / (w[k + 1] - w[k])
-            r, q = _q_at(freq, gam, slope, z0)
-            kind = "series" if im[k + 1] > im[k] else "parallel"
-            found.append(Resonance(float(freq), float(r), kind, float(q)))
-        elif 0 < k and sign[k] == 0 and usable[k] and sign[k - 1] * sign[k + 1] < 0:
-            slope = 0.5 * ((g[k + 1] - g[k]) / (w[k + 1] - w[k]) + (g[k] - g[k - 1]) / (w[k] - w[k - 1]))
-            r, q = _q_at(f[k], complex(g[k]), slope, z0)
-            kind = "series" if im[k + 1] > im[k - 1] else "parallel"
-            found.append(Resonance(float(f[k]), float(r), kind, float(q)))
+        t = im[k] / (im[k] - im[k + 1])
+        freq = f[k] + t * (f[k + 1] - f[k])
+        gam = complex((a + t * (b - a)).real, 0.0)
+        slope = (b - a) / (w[k + 1] - w[k])
+        r, q = _q_at(freq, gam, slope, z0)
+        kind = "series" if im[k + 1] > im[k] else "parallel"
+        found.append((float(freq), Resonance(float(freq), float(r), kind, float(q))))
+    zero = np.flatnonzero((sign[1:-1] == 0) & usable[1:-1] & (sign[:-2] * sign[2:] < 0)) + 1
+    for k in zero:
+        slope = 0.5 * ((g[k + 1] - g[k]) / (w[k + 1] - w[k]) + (g[k] - g[k - 1]) / (w[k] - w[k - 1]))
+        r, q = _q_at(f[k], complex(g[k]), slope, z0)
+        kind = "series" if im[k + 1] > im[k - 1] else "parallel"
+        found.append((float(f[k]), Resonance(float(f[k]), float(r), kind, float(q))))
+    found = [res for _, res in sorted(found, key=lambda item: item[0])]
     return tuple(found)
 
 
@@ -303,7 +304,14 @@ def vswr_bands(sweep: Sweep, port: int = 1, *, vswr_limit: float = 2.0,
     bands: list[VswrBand] = []
     start = float(f[0]) if inside[0] else None
     clipped_low = bool(inside[0])
-    for k in range(f.size - 1):
+    # Candidate intervals: an end inside and the other outside, or both outside with the chord
+    # dipping inside between them. Everything else cannot meet the circle.
+    d = g[1:] - g[:-1]
+    dd = np.abs(d) ** 2
+    with np.errstate(divide="ignore", invalid="ignore"):
+        t_min = np.clip(np.where(dd > 0, -np.real(np.conj(g[:-1]) * d) / dd, 0.0), 0.0, 1.0)
+    dips = ~inside[:-1] & ~inside[1:] & (np.abs(g[:-1] + t_min * d) < rho)
+    for k in np.flatnonzero((inside[:-1] != inside[1:]) | dips):
         a, b = complex(g[k]), complex(g[k + 1])
         roots = _circle_roots(a, b, rho)
         state = bool(inside[k])
