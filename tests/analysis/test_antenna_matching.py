@@ -297,3 +297,25 @@ def test_match_result_json_keys_and_bad_input():
         design_all(50 + 3j, 7e6, series="E7")
     with pytest.raises(AnalysisError):
         match_sweep(Sweep(f, (z - 50) / (z + 50), 50.0), 20e6)
+
+
+def test_a_matched_load_needs_nothing():
+    # Pozar ch. 2 identity: Z = Z0 reflects nothing, so no network is designed (no femtofarads or farads).
+    nets, notes = design_all(50 + 1e-7j, 7e6, target_ohm=50.0)
+    assert [n.topology for n in nets] == ["none"] and nets[0].parts == ()
+    assert nets[0].vswr_exact == pytest.approx(1.0, abs=1e-8) and notes
+
+
+def test_bode_fano_local_q_fallback():
+    # Fano 1950 for a series R-L, Δω = πR/(L·ln(1/Γm)) = πω0/(Q·ln(1/Γm)) with Q = ω0L/R; for a circuit without a
+    # closed form the same expression is used with the load's Q = |X|/R at f0, and marked approximate.
+    f = np.linspace(80e6, 120e6, 101)
+    w = 2 * np.pi * f
+    z = 1 / (1 / (20 + 1j * w * 100e-9) + 1j * w * 10e-12)
+    bf = bode_fano(f, z, 100e6)
+    if bf.model_id != "resistor-leads":
+        pytest.skip(f"the fit chose {bf.model_id}; the fallback is not exercised")
+    z0 = complex(1 / (1 / (20 + 1j * 2 * np.pi * 1e8 * 100e-9) + 1j * 2 * np.pi * 1e8 * 10e-12))
+    q = abs(z0.imag) / z0.real
+    assert bf.basis.startswith("local Q")
+    assert bf.max_width_hz == pytest.approx(1e8 * math.pi / (q * math.log(3)), rel=1e-6)

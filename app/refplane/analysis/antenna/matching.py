@@ -54,6 +54,9 @@ from refplane.analysis.sweep import Sweep
 #: Speed of light in vacuum, m/s (exact, SI).
 _C0 = 299_792_458.0
 
+#: A load closer than this to the target (|Γ|) needs no network.
+MATCHED_GAMMA = 1e-6
+
 #: Points drawn along each part's arc on the chart.
 PATH_POINTS_PER_PART = 48
 
@@ -128,7 +131,8 @@ class Network:
     Attributes
     ----------
     topology : str
-        ``"L"``, ``"pi"``, ``"T"``, ``"quarter-wave"``, ``"open-stub"`` or ``"short-stub"``.
+        ``"L"``, ``"pi"``, ``"T"``, ``"quarter-wave"``, ``"open-stub"`` or ``"short-stub"``; ``"none"``
+        (no parts) when the load is already matched.
     parts : tuple of Part
         From the load toward the source.
     vswr_exact, vswr_standard : float
@@ -582,11 +586,12 @@ def evaluate(topology: str, elements: list[dict], *, z_load: complex, freq_hz: f
     if power_w is not None:
         stress = _stress(elements, exact, z_load, w0, power_w)
         parts = [_with_stress(p, s) for p, s in zip(parts, stress)]
+    path = _path(elements, exact, z_load, f0, z_ref_ohm)
+    path.setflags(write=False)
     return Network(topology=topology, parts=tuple(parts),
                    vswr_exact=float(_vswr_to(zin_exact, r_s)[0]),
                    vswr_standard=float(_vswr_to(zin_std, r_s)[0]),
-                   band_vswr2_hz=band, band_clipped=clipped, q=q,
-                   path_gamma=_path(elements, exact, z_load, f0, z_ref_ohm))
+                   band_vswr2_hz=band, band_clipped=clipped, q=q, path_gamma=path)
 
 
 def _with_stress(part: Part, stress: tuple[float, float]) -> Part:
@@ -739,6 +744,10 @@ def design_all(z_load: complex, freq_hz: float, *, target_ohm: float = 50.0, z_r
     kw = dict(z_load=zl, freq_hz=freq_hz, r_s=r_s, z_ref_ohm=z_ref, series=series, power_w=power_w,
               vf=vf, sweep_freq_hz=sweep_freq_hz, sweep_z_ohm=sweep_z_ohm)
     nets, notes = [], []
+    if abs((zl - r_s) / (zl + r_s)) < MATCHED_GAMMA:
+        # Any design would be parts of vanishing reactance (a femtofarad, or farads in series).
+        notes.append(f"the load is already matched to {r_s:g} Ω (VSWR below {1 + 2 * MATCHED_GAMMA:.7g})")
+        return (evaluate("none", [], **kw),), tuple(notes)
     for els in l_networks(zl, r_s):
         nets.append(evaluate("L", els, **kw))
     for name, qmin_fn, design in (("pi", pi_min_q, pi_network), ("T", t_min_q, t_network)):
