@@ -319,3 +319,31 @@ def test_bode_fano_local_q_fallback():
     q = abs(z0.imag) / z0.real
     assert bf.basis.startswith("local Q")
     assert bf.max_width_hz == pytest.approx(1e8 * math.pi / (q * math.log(3)), rel=1e-6)
+
+
+def test_band_on_a_long_sweep_against_brute_force():
+    # brute force: the band edges of the L-network with rounded parts on the analytic load, solved with brentq;
+    # the sweep is long enough (20 001 points) that the band spans many thousands of points.
+    from scipy.optimize import brentq
+
+    r, l_h, c_f = 36.0, 2e-6, 0.25e-9
+    f = np.linspace(5e6, 9.5e6, 20001)
+    z = _series_rlc(f, r, l_h, c_f)
+    res = match_sweep(Sweep(f, (z - 50) / (z + 50), 50.0), 7.3e6, series="E24", bode_fano_limit=False)
+    net = next(n for n in res.networks if n.topology == "L")
+    assert net.band_vswr2_hz is not None and not net.band_clipped
+    std = [(p.kind, p.place, p.standard_value) for p in net.parts]
+
+    def excess(v):
+        zz = complex(_series_rlc(v, r, l_h, c_f))
+        w = 2 * math.pi * v
+        for kind, place, value in std:
+            ze = 1j * w * value if kind == "L" else 1 / (1j * w * value)
+            zz = zz + ze if place == "series" else 1 / (1 / zz + 1 / ze)
+        g = abs((zz - 50) / (zz + 50))
+        return (1 + g) / (1 - g) - 2.0
+
+    lo, hi = net.band_vswr2_hz
+    assert lo == pytest.approx(brentq(excess, f[0], 7.3e6, xtol=1e-3), rel=1e-7)
+    assert hi == pytest.approx(brentq(excess, 7.3e6, f[-1], xtol=1e-3), rel=1e-7)
+    assert np.count_nonzero((f > lo) & (f < hi)) > 4096     # the outward search had to widen its window

@@ -168,7 +168,7 @@ class Network:
                 "q": self.q, "parts": [p.json() for p in self.parts],
                 "vswr_exact": self.vswr_exact, "vswr_standard": self.vswr_standard,
                 "band_vswr2_hz": list(self.band_vswr2_hz) if self.band_vswr2_hz else None,
-                "band_clipped": self.band_clipped}
+                "band_clipped": bool(self.band_clipped)}
 
 
 @dataclass(frozen=True)
@@ -506,36 +506,48 @@ def _path(elements: list[dict], values, z_load: complex, f0: float, z_ref: float
     return np.where(np.isfinite(zs), g, 1.0 + 0j)
 
 
-def _band(freq_hz: np.ndarray, vswr_values: np.ndarray, f0: float) -> tuple[tuple[float, float] | None, bool]:
-    """The stretch around ``f0`` where VSWR < 2, edges interpolated linearly; (band, clipped)."""
-    k = int(np.clip(np.searchsorted(freq_hz, f0), 0, freq_hz.size - 1))
-    if k > 0 and abs(freq_hz[k - 1] - f0) < abs(freq_hz[k] - f0):
-        k -= 1
+def _band(freq_hz: np.ndarray, vswr_values: np.ndarray, f0: float,
+          refine=None) -> tuple[tuple[float, float] | None, bool]:
+    """The stretch around ``f0`` where VSWR < 2; (band, clipped).
+
+    ``freq_hz`` must hold ``f0`` itself. Each edge lies between a point inside and one outside;
+    ``refine(fa, fb)`` (if given) returns (frequencies, VSWR) on a fine grid between them,
+    and the edge is interpolated linearly on that grid, else between the two points.
+    """
+    k = int(np.argmin(np.abs(freq_hz - f0)))
     if not vswr_values[k] < 2.0:
         return None, False
-    lo, hi = k, k
-    while lo > 0 and vswr_values[lo - 1] < 2.0:
-        lo -= 1
-    while hi < freq_hz.size - 1 and vswr_values[hi + 1] < 2.0:
-        hi += 1
+    outside = np.flatnonzero(~(vswr_values < 2.0))
+    below, above = outside[outside < k], outside[outside > k]
+    lo = int(below[-1]) + 1 if below.size else 0
+    hi = int(above[0]) - 1 if above.size else freq_hz.size - 1
     clipped = lo == 0 or hi == freq_hz.size - 1
 
-    def edge(inside: int, outside: int) -> float:
-        a, b = vswr_values[inside], vswr_values[outside]
+    def edge(i_in: int, i_out: int) -> float:
+        fa, fb = float(freq_hz[i_in]), float(freq_hz[i_out])
+        if refine is not None:
+            ff, vv = refine(fa, fb)
+        else:
+            ff, vv = np.array([fa, fb]), np.array([vswr_values[i_in], vswr_values[i_out]])
+        j = int(np.argmax(~(vv < 2.0)))          # the first fine point outside, walking out
+        a, b = vv[j - 1], vv[j]
         if not np.isfinite(b):
-            return float(freq_hz[inside])
-        t = (2.0 - a) / (b - a)
-        return float(freq_hz[inside] + t * (freq_hz[outside] - freq_hz[inside]))
+            return float(ff[j - 1])
+        return float(ff[j - 1] + (2.0 - a) / (b - a) * (ff[j] - ff[j - 1]))
 
     start = float(freq_hz[0]) if lo == 0 else edge(lo, lo - 1)
     stop = float(freq_hz[-1]) if hi == freq_hz.size - 1 else edge(hi, hi + 1)
     return (start, stop), clipped
 
 
+#: Points of the fine grid an edge of the VSWR < 2 band is placed on, between two swept points.
+EDGE_POINTS = 257
+
+
 def evaluate(topology: str, elements: list[dict], *, z_load: complex, freq_hz: float, r_s: float,
              z_ref_ohm: float, series: str = "E24", power_w: float | None = None, vf: float = 0.66,
              sweep_freq_hz: np.ndarray | None = None, sweep_z_ohm: np.ndarray | None = None,
-             q: float | None = None) -> Network:
+             load_at=None, q: float | None = None) -> Network:
     """Turn a design's elements into a :class:`Network`: values, rounding, VSWR, band, stress, path.
 
     Parameters
@@ -557,6 +569,9 @@ def evaluate(topology: str, elements: list[dict], *, z_load: complex, freq_hz: f
         Velocity factor of the coax used for lines and stubs (physical lengths).
     sweep_freq_hz, sweep_z_ohm : ndarray, optional
         The load across a sweep, for the VSWR < 2 band.
+    load_at : callable, optional
+        ``load_at(freq_hz) -> Z`` between swept points (as the markers read them), to place
+        the band's edges on a fine grid; without it they are interpolated between points.
     q : float, optional
         Recorded loaded Q (Pi, T).
     """
@@ -581,8 +596,31 @@ def evaluate(topology: str, elements: list[dict], *, z_load: complex, freq_hz: f
     zin_std = _input_z(elements, np.array([z_load]), f_arr, f0, rounded)
     band, clipped = None, False
     if sweep_freq_hz is not None and sweep_z_ohm is not None:
-        zin = _input_z(elements, sweep_z_ohm, sweep_freq_hz, f0, rounded)
-        band, clipped = _band(sweep_freq_hz, _vswr_to(zin, r_s), f0)
+        sf = np.asarray(sweep_freq_hz, float)
+        sz = np.asarray(sweep_z_ohm, complex)
+        if not np.any(sf == f0) and sf[0] < f0 < sf[-1]:
+            at = int(np.searchsorted(sf, f0))
+            sf, sz = np.insert(sf, at, f0), np.insert(sz, at, complex(z_load))
+        refine = None
+        if load_at is not None:
+            def refine(fa, fb):
+                ff = np.linspace(fa, fb, EDGE_POINTS)
+                return ff, _vswr_to(_input_z(elements, load_at(ff), ff, f0, rounded), r_s)
+        # Work outward from f0 in windows that double, so a narrow band on a long sweep only
+        # costs the points near it.
+        k0 = int(np.argmin(np.abs(sf - f0)))
+        half = 1024
+        while True:
+            lo, hi = max(0, k0 - half), min(sf.size, k0 + half + 1)
+            zin = _input_z(elements, sz[lo:hi], sf[lo:hi], f0, rounded)
+            band, clipped = _band(sf[lo:hi], _vswr_to(zin, r_s), f0, refine)
+            if band is None or not clipped or (lo == 0 and hi == sf.size):
+                break
+            if (band[0] > sf[lo] or lo == 0) and (band[1] < sf[hi - 1] or hi == sf.size):
+                break
+            half *= 2
+        if band is not None:
+            clipped = bool(band[0] <= sf[0] or band[1] >= sf[-1])
     if power_w is not None:
         stress = _stress(elements, exact, z_load, w0, power_w)
         parts = [_with_stress(p, s) for p, s in zip(parts, stress)]
@@ -712,7 +750,7 @@ def bode_fano(freq_hz: np.ndarray, z_ohm: np.ndarray, f0_hz: float, *, z_ref_ohm
 def design_all(z_load: complex, freq_hz: float, *, target_ohm: float = 50.0, z_ref_ohm: float | None = None,
                series: str = "E24", power_w: float | None = None, q: float | None = None,
                vf: float = 0.66, sweep_freq_hz: np.ndarray | None = None,
-               sweep_z_ohm: np.ndarray | None = None) -> tuple[tuple[Network, ...], tuple[str, ...]]:
+               sweep_z_ohm: np.ndarray | None = None, load_at=None) -> tuple[tuple[Network, ...], tuple[str, ...]]:
     """Every network this module designs, for one load at one frequency.
 
     Returns
@@ -742,7 +780,7 @@ def design_all(z_load: complex, freq_hz: float, *, target_ohm: float = 50.0, z_r
         raise AnalysisError(f"the loaded Q must be a positive number, not {q!r}")
     z_ref = r_s if z_ref_ohm is None else float(z_ref_ohm)
     kw = dict(z_load=zl, freq_hz=freq_hz, r_s=r_s, z_ref_ohm=z_ref, series=series, power_w=power_w,
-              vf=vf, sweep_freq_hz=sweep_freq_hz, sweep_z_ohm=sweep_z_ohm)
+              vf=vf, sweep_freq_hz=sweep_freq_hz, sweep_z_ohm=sweep_z_ohm, load_at=load_at)
     nets, notes = [], []
     if abs((zl - r_s) / (zl + r_s)) < MATCHED_GAMMA:
         # Any design would be parts of vanishing reactance (a femtofarad, or farads in series).
@@ -803,15 +841,13 @@ def match_sweep(sweep: Sweep, freq_hz: float, *, port: int = 1, target_ohm: floa
     zl = complex(gamma_to_z(gamma_at(sweep, f0, port), z_ref))
     r_s = z_ref.real if target_ohm is None else float(target_ohm)
     f = sweep.freq_hz
-    # Four points per swept interval: the measured load read between points as the markers do.
-    if f.size > 1:
-        steps = (f[1:] - f[:-1])[:, None] * (np.arange(4) / 4.0)
-        fine = np.concatenate([(f[:-1, None] + steps).ravel(), f[-1:]])
-    else:
-        fine = f
-    z_fine = gamma_to_z(gamma_at(sweep, fine, port), z_ref)
+
+    def load_at(freq):
+        return gamma_to_z(gamma_at(sweep, freq, port), z_ref)
+
     nets, notes = design_all(zl, f0, target_ohm=r_s, z_ref_ohm=z_ref.real, series=series, power_w=power_w,
-                             q=q, vf=vf, sweep_freq_hz=fine, sweep_z_ohm=z_fine)
+                             q=q, vf=vf, sweep_freq_hz=f, sweep_z_ohm=gamma_to_z(sweep.reflection(port), z_ref),
+                             load_at=load_at)
     bf = None
     if bode_fano_limit:
         try:
