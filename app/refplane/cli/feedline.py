@@ -110,6 +110,8 @@ def run(args: argparse.Namespace) -> int:
         v = complex(v)
         if abs(v) == float("inf") or v != v:
             return "∞"
+        # Rounding leaves a trace of reactance (1e-13 Ω) on a real load; show it as zero.
+        v = complex(v.real if abs(v.real) > 1e-9 * abs(v) else 0.0, v.imag if abs(v.imag) > 1e-9 * abs(v) else 0.0)
         return f"{v.real:.4g} {'+' if v.imag >= 0 else '−'} j{abs(v.imag):.4g} Ω"
 
     where = "the antenna (file)" if args.toward == "radio" else "the radio end (file)"

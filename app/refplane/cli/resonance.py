@@ -9,7 +9,8 @@ from refplane.cli.common import arg_type, format_table, print_json
 #: Shown in the help of every antenna command.
 CAUTION = (
     "caution: measure antennas with the analyzer only, never with a transmitter connected; never "
-    "connect the analyzer to a line a transmitter can feed (a key-down destroys its input). "
+    "connect the analyzer to a line a transmitter can feed (a key-down destroys its input); discharge a "
+    "long antenna or cable to ground before connecting it. "
     "RF exposure limits apply whenever an antenna is driven; follow local codes and licensed practice.")
 
 
