@@ -142,3 +142,24 @@ def test_bad_input():
         toward_radio(0.0, 50.0, line)
     with pytest.raises(AnalysisError):
         toward_radio(14e6, 50.0, "10 m")
+
+
+@pytest.mark.parametrize("options", [{"skin_phase": True}, {"z0_follows_skin": True}])
+def test_richer_line_models_against_the_telegrapher(options):
+    # telegrapher: when the line model carries the skin effect's phase or an impedance that follows the skin
+    # law (complex, frequency-dependent Zc), the budget still equals the exact V/I computation with that γl
+    # and Zc, and the matched loss is Re(γl) in dB (a wave on a line ended in its own impedance decays as e^(−αz)).
+    import dataclasses
+
+    if not set(options) <= {x.name for x in dataclasses.fields(LineOffset)}:
+        pytest.skip("this line model has no such option")
+    f = np.linspace(0.5e6, 30e6, 60)
+    line = LineOffset.from_length(40.0, 0.66, loss_db=2.0, loss_ref_hz=30e6, **options)
+    z_ant = 25 + 1j * np.linspace(-150, 200, f.size)
+    r = toward_radio(f, z_ant, line, power_w=100.0)
+    z_in, loss = _telegrapher(f, z_ant, line)
+    assert np.allclose(r.z_radio_ohm, z_in, rtol=1e-9)
+    assert np.allclose(r.total_loss_db, loss, atol=1e-9)
+    assert np.allclose(r.matched_loss_db, 20 / math.log(10) * line.gamma_l(f).real, rtol=1e-12)
+    back = toward_antenna(f, r.z_radio_ohm, line)
+    assert np.allclose(back.z_antenna_ohm, z_ant, rtol=1e-8)

@@ -347,3 +347,23 @@ def test_band_on_a_long_sweep_against_brute_force():
     assert lo == pytest.approx(brentq(excess, f[0], 7.3e6, xtol=1e-3), rel=1e-7)
     assert hi == pytest.approx(brentq(excess, 7.3e6, f[-1], xtol=1e-3), rel=1e-7)
     assert np.count_nonzero((f > lo) & (f < hi)) > 4096     # the outward search had to widen its window
+
+
+def test_any_passive_load_any_target_matches_in_skrf():
+    # scikit-rf as the reference, over loads drawn at random across the chart (hypothesis): every design exists
+    # where it should, and cascaded in scikit-rf brings |Γ| below 1e-9 at the design frequency.
+    from hypothesis import given, settings, strategies as st
+
+    @settings(max_examples=40, deadline=None)
+    @given(r=st.floats(0.5, 3000.0), x=st.floats(-3000.0, 3000.0), r_s=st.floats(5.0, 600.0))
+    def check(r, x, r_s):
+        z = complex(r, x)
+        if abs((z - r_s) / (z + r_s)) < 1e-5:
+            return
+        nets, _ = design_all(z, 21.2e6, target_ohm=r_s, vf=1.0)
+        for net in nets:
+            gamma = _skrf_input_gamma(net, z, 21.2e6, r_s, 1.0)
+            # Relative to the load's own reflection: a load near the chart's edge leaves rounding of ~1e-10.
+            assert abs(gamma) < 1e-9 / max(1e-3, 1 - abs((z - r_s) / (z + r_s))), (net.topology, z, r_s)
+
+    check()

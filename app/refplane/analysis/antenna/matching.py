@@ -10,8 +10,9 @@ L-networks
     susceptance after the shunt part must be B' = ±√(G/R_s − G²) (needs G ≤ 1/R_s), and the
     series part cancels the reactance left, X = B'/(G² + B'²). *Series part next to the load*,
     then a shunt part: the total reactance after the series part must be X' = ±√(R·R_s − R²)
-    (needs R ≤ R_s), and the shunt part adds B = X'/(R² + X'²)... so every L-network that exists
-    for the load is found (two or four).
+    (needs R ≤ R_s), and the shunt part cancels the susceptance left, B = X'/(R² + X'²).
+    Both signs of both forms are tried, so every L-network that exists for the load is found
+    (two, or four when the load lies inside both circles).
 Pi and T for a chosen loaded Q
     Two L sections back to back through a virtual resistance R_v: for the Pi,
     R_v = R_high/(Q² + 1) below both the source and the load's parallel resistance; for the T,
