@@ -434,3 +434,26 @@ def test_on_a_screen_of_that_size_the_dialog_opens_inside_it(tmp_path, size):
     report = json.loads(out.stdout.strip().splitlines()[-1])
     assert report["screen"] == list(size)
     assert report["inside"] and report["buttons_inside"]
+
+
+def test_inputs_live_in_the_session_and_come_back_with_it(qtbot, files):
+    # The dialog's inputs are session fields: a second dialog (or a reopened session) has them.
+    from refplane.session.model import Session
+
+    paths = {role: files[role] for role in ("short", "open", "load")}
+    state = Session()
+    first = CalibrationDialog(state)
+    qtbot.addWidget(first)
+    for role, path in paths.items():
+        assert first.set_standard_file(role, path)
+    first.add_device_files([files["dut"]])
+    assert dict(state.calibration.standards) == paths
+    assert state.calibration.devices == (files["dut"],)
+    first.close()
+    second = CalibrationDialog(state)
+    qtbot.addWidget(second)
+    assert {r: second.path_edits[r].full_text() if hasattr(second.path_edits[r], "full_text")
+            else second.path_edits[r].text() for r in paths} == paths
+    assert second.solve_button.isEnabled()
+    second.clear_standard("open")
+    assert "open" not in state.calibration.standards

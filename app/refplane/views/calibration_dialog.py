@@ -207,6 +207,7 @@ class CalibrationDialog(QDialog):
         bind(self, state.tracesChanged, self._fill_devices)
         bind(self, state.traceChanged, lambda _id: self._fill_devices())
         self._fill_definition_table()
+        self._restore_from_session()
         self._fill_devices()
         self._show_terms_in_use()
         self._update_buttons()
@@ -214,6 +215,37 @@ class CalibrationDialog(QDialog):
         screen = self.screen() if parent is None else parent.screen()
         if screen is not None:
             self.fit_to(screen.availableGeometry())
+
+    # ------------------------------------------------------------------ the session's inputs
+    def _restore_from_session(self) -> None:
+        """Take up the inputs the session remembers (a reopened session, or this dialog opened again).
+
+        Files that cannot be read now are reported once and left out; the session keeps them.
+        """
+        cal = self.state.calibration
+        problems = []
+        self._restoring = True
+        try:
+            for role, path in cal.standards.items():
+                if role in self.path_edits and not self.set_standard_file(role, path, quiet=True):
+                    problems.append(f"{role}: {path}")
+            if cal.definitions_file and not self.load_definitions(cal.definitions_file, quiet=True):
+                problems.append(f"definitions: {cal.definitions_file}")
+            if cal.saved_terms_file and not self.load_terms(cal.saved_terms_file, quiet=True):
+                problems.append(f"error terms: {cal.saved_terms_file}")
+            self._device_files = [p for p in cal.devices]
+        finally:
+            self._restoring = False
+        if problems:
+            self.show_error("Some remembered inputs could not be read",
+                            "These files from the session could not be read now: " + "; ".join(problems))
+
+    _restoring = False
+
+    def _remember(self, **changes) -> None:
+        """Write an input back to the session (so a saved session keeps it)."""
+        if not self._restoring:
+            self.state.set_calibration(**changes)
 
     def fit_to(self, available: QRect) -> None:
         """Shrink the dialog to fit ``available`` (a screen's free area), frame included.
@@ -390,19 +422,22 @@ class CalibrationDialog(QDialog):
         if path:
             self.set_standard_file(role, path)
 
-    def set_standard_file(self, role: str, path: str) -> bool:
+    def set_standard_file(self, role: str, path: str, *, quiet: bool = False) -> bool:
         """Read the sweep of one standard; on a problem, report it and keep what was there."""
         from refplane.analysis.loading import read_sweep
 
         try:
             sweep = read_sweep(path)
         except AnalysisError as exc:
-            self.show_error("Cannot use this file", str(exc))
+            if not quiet:
+                self.show_error("Cannot use this file", str(exc))
             return False
         except OSError as exc:
-            self.show_error("Cannot use this file", f"{path}: {exc.strerror or exc}")
+            if not quiet:
+                self.show_error("Cannot use this file", f"{path}: {exc.strerror or exc}")
             return False
         self._sweeps[role] = sweep
+        self._remember(standards={**self.state.calibration.standards, role: os.fspath(path)})
         self.path_edits[role].setText(os.fspath(path))
         self.path_edits[role].setToolTip(os.fspath(path))
         self.path_edits[role].setCursorPosition(len(os.fspath(path)))  # the file name shows
@@ -413,6 +448,7 @@ class CalibrationDialog(QDialog):
     def clear_standard(self, role: str) -> None:
         """Forget the file chosen for one standard."""
         had = self._sweeps.pop(role, None) is not None
+        self._remember(standards={r: p for r, p in self.state.calibration.standards.items() if r != role})
         self.path_edits[role].clear()
         self.path_edits[role].setToolTip("")
         if had:
@@ -444,7 +480,7 @@ class CalibrationDialog(QDialog):
         if path:
             self.load_definitions(path)
 
-    def load_definitions(self, path: str) -> bool:
+    def load_definitions(self, path: str, *, quiet: bool = False) -> bool:
         """Load a standards file; on a problem, report it and keep the current definitions."""
         import json
 
@@ -454,10 +490,12 @@ class CalibrationDialog(QDialog):
             load_standards(path)  # validates everything, data files included
             obj = json.loads(Path(path).read_text(encoding="utf-8"))
         except (AnalysisError, OSError, ValueError) as exc:
-            self.show_error("Cannot use these definitions", str(exc))
+            if not quiet:
+                self.show_error("Cannot use these definitions", str(exc))
             return False
         self._definitions = obj
         self._definitions_file = os.fspath(path)
+        self._remember(definitions_file=os.fspath(path))
         self._ok()
         self._fill_definition_table()
         self._standards_changed()
@@ -485,6 +523,7 @@ class CalibrationDialog(QDialog):
         """Go back to ideal standards."""
         self._definitions = copy.deepcopy(_EMPTY_DEFINITIONS)
         self._definitions_file = None
+        self._remember(definitions_file=None)
         self._fill_definition_table()
         self._standards_changed()
 
@@ -571,17 +610,25 @@ class CalibrationDialog(QDialog):
         if missing:
             self.show_error("Standards missing", "choose: " + ", ".join(missing))
             return None
-        try:
+        from refplane.session import jobs
+
+        extra = []
+
+        def work():
             standards = self.standards()
-            extra = [n for n, _ in standards.additional + standards.checks]
+            extra.extend(n for n, _ in standards.additional + standards.checks)
             # The dialog measures short, open and load only; further standards are a command-line matter.
             standards = dataclasses.replace(standards, additional=(), checks=())
-            cal = calibrate({r: self._sweeps[r] for r in ("short", "open", "load")}, standards,
-                            through=self._sweeps.get("through"), isolation=self._sweeps.get("isolation"),
-                            interpolate=self.interpolate_box.isChecked())
-        except AnalysisError as exc:
-            self.show_error("Cannot work out the error terms", str(exc))
+            return calibrate({r: self._sweeps[r] for r in ("short", "open", "load")}, standards,
+                             through=self._sweeps.get("through"), isolation=self._sweeps.get("isolation"),
+                             interpolate=self.interpolate_box.isChecked())
+
+        result = jobs.calibrate(work)
+        if not result.ok:
+            self.show_error("Cannot work out the error terms", result.message)
             return None
+        cal = result.value
+        self._remember(saved_terms_file=None)  # the terms in use now are the ones worked out here
         used = ", ".join(Path(self.path_edits[r].text()).name for r, _, _ in ROLES if r in self._sweeps)
         self._terms_source = f"worked out from the standards measured here ({used})"
         self._show_calibration(cal)
@@ -646,16 +693,18 @@ class CalibrationDialog(QDialog):
         if path:
             self.load_terms(path)
 
-    def load_terms(self, path: str) -> bool:
+    def load_terms(self, path: str, *, quiet: bool = False) -> bool:
         """Use error terms saved earlier instead of measured standards."""
         from refplane.analysis.calfile import load_calibration
 
         try:
             cal = load_calibration(path)
         except (AnalysisError, OSError) as exc:
-            self.show_error("Cannot use these error terms", str(exc))
+            if not quiet:
+                self.show_error("Cannot use these error terms", str(exc))
             return False
         self._terms_source = f"saved in {os.fspath(path)}"
+        self._remember(saved_terms_file=os.fspath(path))
         self._show_calibration(cal)
         return True
 
@@ -690,6 +739,7 @@ class CalibrationDialog(QDialog):
             p = os.fspath(p)
             if p not in self._device_files:
                 self._device_files.append(p)
+        self._remember(devices=list(self._device_files))
         self._fill_devices()
 
     def _fill_devices(self) -> None:
