@@ -14,6 +14,16 @@ POWER_CAUTION = (
     "licensed practice.")
 
 
+def _num(value, pattern: str) -> str:
+    """A number for a table cell: ∞ for infinity, — for a value that does not apply."""
+    value = float(value)
+    if value != value:
+        return "—"
+    if value in (float("inf"), float("-inf")):
+        return "∞"
+    return pattern.format(value)
+
+
 def parse_power(text: str) -> float:
     """Watts from text: ``100``, ``100W``, ``1.5kW``, ``500mW``."""
     from refplane.analysis.errors import AnalysisError
@@ -118,9 +128,9 @@ def run(args: argparse.Namespace) -> int:
     print(f"{args.file}  port {args.port}: measured at {where}; line: {line.describe(args.vf)}")
     rows = []
     for k, f in enumerate(result.freq_hz):
-        row = [format_frequency(f), zt(result.z_radio_ohm[k]), f"{result.vswr_radio[k]:.3g}",
-               zt(result.z_antenna_ohm[k]), f"{result.vswr_antenna[k]:.3g}",
-               f"{result.matched_loss_db[k]:.2f} dB", f"{result.total_loss_db[k]:.2f} dB"]
+        row = [format_frequency(f), zt(result.z_radio_ohm[k]), _num(result.vswr_radio[k], "{:.3g}"),
+               zt(result.z_antenna_ohm[k]), _num(result.vswr_antenna[k], "{:.3g}"),
+               _num(result.matched_loss_db[k], "{:.2f} dB"), _num(result.total_loss_db[k], "{:.2f} dB")]
         if result.power_at_antenna_w is not None:
             row.append(format_si(float(result.power_at_antenna_w[k]), "W", 4))
         rows.append(row)

@@ -81,7 +81,8 @@ def run(args: argparse.Namespace) -> int:
         print("no resonance: the reactance keeps one sign over the sweep")
     b = report.best
     print()
-    print(f"best match: VSWR {b.vswr:.4g} (return loss {b.return_loss_db:.2f} dB) at {format_frequency(b.freq_hz)}")
+    vswr_text = "∞" if b.vswr == float("inf") else f"{b.vswr:.4g}"
+    print(f"best match: VSWR {vswr_text} (return loss {b.return_loss_db:.2f} dB) at {format_frequency(b.freq_hz)}")
     print(f"largest |Z|: {format_si(report.max_z.z_mag_ohm, 'Ω')} at {format_frequency(report.max_z.freq_hz)}")
     print()
     if report.bands:
