@@ -177,3 +177,29 @@ def test_a_trace_from_no_file_is_refused_with_advice(tmp_path):
     s.add_sweep(resistor_with_leads())  # made in memory: no file to point to
     with pytest.raises(AnalysisError, match="save it as a sweep first"):
         save_session(s, tmp_path / "x.refplane")
+
+
+def test_tool_settings_come_back_with_the_session(tmp_path):
+    from dataclasses import dataclass
+
+    from refplane.session import tools
+
+    @tools.register("test-tool")
+    @dataclass(frozen=True)
+    class Probe:
+        power_w: float = 100.0
+        series: str = "E12"
+        limits: tuple = ()
+
+    try:
+        s, _ = _work(tmp_path)
+        s.set_tool("test-tool", power_w=25.0, limits=("vswr <= 2 over 1MHz:2MHz",))
+        again, _ = open_session(save_session(s, tmp_path / "t.refplane"))
+        assert again.tool("test-tool") == Probe(power_w=25.0, series="E12", limits=("vswr <= 2 over 1MHz:2MHz",))
+        doc = json.loads((tmp_path / "t.refplane").read_text())
+        doc["tools"]["test-tool"]["power_w"] = "lots"
+        (tmp_path / "t.refplane").write_text(json.dumps(doc))
+        with pytest.raises(AnalysisError, match="tools.test-tool"):
+            open_session(tmp_path / "t.refplane")
+    finally:
+        tools.REGISTRY.pop("test-tool", None)

@@ -138,7 +138,14 @@ def session_document(session, path: str | os.PathLike) -> dict:
             "saved_terms_file": _relative(cal.saved_terms_file, folder) if cal.saved_terms_file else None,
             "devices": [_relative(p, folder) for p in cal.devices],
         },
+        "tools": {name: _tools_json(value) for name, value in session.tools().items()},
     }
+
+
+def _tools_json(value) -> dict:
+    from refplane.session import tools
+
+    return tools.to_json(value)
 
 
 def save_session(session, path: str | os.PathLike, *, overwrite: bool = False) -> Path:
@@ -342,6 +349,21 @@ def _check(doc: dict, file: str) -> dict:
     c.text(cal.get("saved_terms_file"), "calibration.saved_terms_file", null=True)
     for j, p in enumerate(c.lst(cal.get("devices", []), "calibration.devices", max_len=1000)):
         c.text(p, f"calibration.devices[{j}]")
+    from refplane.session import tools as tool_registry
+
+    for name, obj in c.obj(doc.get("tools", {}), "tools").items():
+        if name not in tool_registry.REGISTRY:
+            c.fail(f"tools.{name}", "not a tool this program knows")
+        c.obj(obj, f"tools.{name}")
+        for key, value in obj.items():
+            if isinstance(value, list):
+                for j, v in enumerate(value):
+                    if not (v is None or isinstance(v, (str, bool)) or c.num(v, f"tools.{name}.{key}[{j}]") is not None):
+                        c.fail(f"tools.{name}.{key}[{j}]", "expected a number, text, true/false or null")
+            elif isinstance(value, (int, float)) and not isinstance(value, bool):
+                c.num(value, f"tools.{name}.{key}")
+            elif not (value is None or isinstance(value, (str, bool))):
+                c.fail(f"tools.{name}.{key}", "expected a number, text, true/false, null or a list")
     return doc
 
 
@@ -520,6 +542,13 @@ def build_session(doc: SessionDocument, sweeps: Mapping[int, object], session=No
         definitions_file=_resolve_path(cal.get("definitions_file"), folder),
         saved_terms_file=_resolve_path(cal.get("saved_terms_file"), folder),
         devices=[_resolve_path(p, folder) for p in cal.get("devices", [])])
+    from refplane.session import tools as tool_registry
+
+    for name, obj in data.get("tools", {}).items():
+        try:
+            session.set_tool(name, tool_registry.from_json(name, obj))
+        except (AnalysisError, TypeError, ValueError) as exc:
+            raise AnalysisError(f"tools.{name}: {exc}", file=doc.path) from None
     if data.get("current_trace") is not None and data["current_trace"] in ids:
         session.set_current_trace(ids[data["current_trace"]])
     current = data.get("current_marker")

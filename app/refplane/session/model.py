@@ -205,6 +205,8 @@ class Session:
     """The fit settings changed."""
     calibrationChanged = Signal()
     """The calibration inputs changed."""
+    toolChanged = Signal(str)
+    """A tool panel's settings changed; the argument names the tool (see :mod:`session.tools`)."""
 
     def __init__(self, parent: object | None = None):
         # ``parent`` is accepted (and ignored) so code written for the old Qt model still runs.
@@ -218,13 +220,14 @@ class Session:
         self._display = DisplayOptions()
         self._fit = FitSettings()
         self._calibration = CalibrationInputs()
+        self._tools: dict[str, object] = {}
         self._scene = None
         self._last_scene = None
         # Any change makes the cached Scene stale; it is resolved again when next asked for.
         for name in ("tracesChanged", "traceChanged", "offsetsChanged", "overlaysChanged",
                      "velocityFactorsChanged", "currentTraceChanged", "markersChanged",
                      "markerMoving", "currentMarkerChanged", "bandChanging", "bandChanged",
-                     "displayChanged", "fitSettingsChanged", "calibrationChanged"):
+                     "displayChanged", "fitSettingsChanged", "calibrationChanged", "toolChanged"):
             getattr(self, name).connect(self._stale, priority=1000)
 
     def _stale(self) -> None:
@@ -595,6 +598,30 @@ class Session:
         if new != self._calibration:
             self._calibration = new
             self.calibrationChanged.emit()
+
+    # ------------------------------------------------------------------ tools
+    def tool(self, name: str):
+        """The settings of a tool panel (its defaults until set); see :mod:`refplane.session.tools`."""
+        from refplane.session import tools
+
+        return self._tools.get(name) or tools.default(name)
+
+    def tools(self) -> dict[str, object]:
+        """Every tool's settings that differ from nothing set (name → frozen settings)."""
+        return dict(self._tools)
+
+    def set_tool(self, name: str, value=None, **changes) -> None:
+        """Set a tool's settings: a whole value, or fields changed by name."""
+        from refplane.session import tools
+
+        if name not in tools.REGISTRY:
+            raise AnalysisError(f"unknown tool {name!r}")
+        new = value if value is not None else replace(self.tool(name), **changes)
+        if not isinstance(new, tools.REGISTRY[name]):
+            raise AnalysisError(f"settings of {name!r} must be a {tools.REGISTRY[name].__name__}")
+        if new != self.tool(name) or name not in self._tools:
+            self._tools[name] = new
+            self.toolChanged.emit(name)
 
     # ---------------------------------------------------------------- internal
     def _get(self, trace_id: int) -> Trace:
