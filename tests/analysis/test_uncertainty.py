@@ -208,3 +208,12 @@ def test_result_has_the_json_keys_and_one_point_view():
     assert one.r_ohm.shape == (1,) and one.r_ohm[0] == u.r_ohm[1]
     assert u.region(0).shape == (72, 2)
     assert set(u.budget) >= {"residual directivity", "trace noise"}
+
+
+def test_trace_noise_of_a_fast_turning_trace_is_not_swamped_by_its_curvature():
+    # A long cable turns Γ by about 12° per point here; the higher differences (variance
+    # C(2k, k)·σ², binomial weights) still recover the noise.
+    rng = np.random.default_rng(8)
+    f = np.linspace(1e6, 3e9, 201)
+    g = 0.9 * np.exp(-2j * np.pi * f * 2.2e-9) + 0.0005 * (rng.standard_normal(201) + 1j * rng.standard_normal(201))
+    assert trace_noise(g) == pytest.approx(0.0005, rel=0.3)

@@ -5,13 +5,15 @@ From one sweep (the default)
 The second difference of neighbouring points, d_i = Γ_(i−1) − 2·Γ_i + Γ_(i+1), cancels
 everything that varies smoothly (a straight line exactly, a gently curving trace nearly),
 and leaves white noise of standard deviation σ per axis as noise of variance
-(1 + 4 + 1)·σ² = 6σ². The robust scatter (median absolute deviation × 1.4826, the normal
-consistency constant) of the real and the imaginary parts of d, pooled, divided by √6 is the
-estimate of σ. A trace that turns quickly between points (few points per turn of the chart)
-leaves some of its curvature in d, so the estimate is then an upper bound — sweeps with a few
-degrees per point read close to the true noise. (Second-difference noise estimators are a
-common practice in signal processing; the √6 follows from the variance of a sum of
-independent terms.)
+(1 + 4 + 1)·σ² = 6σ²; the k-th difference leaves C(2k, k)·σ² (the sum of its squared
+binomial weights). The robust scatter (median absolute deviation × 1.4826, the normal
+consistency constant) of the real and the imaginary parts of the k-th difference, pooled,
+divided by √C(2k, k), estimates σ. A trace that turns quickly between points (a long cable
+before the port turns Γ by a sizeable angle φ per point) leaves about φ^k of itself in the
+k-th difference, so the estimate is taken for k = 2 … 6 and the smallest kept: a gently
+curving trace reads on the second difference, a fast-turning one on a higher one. What is
+left is an upper bound. (Difference-based noise estimators are common practice in signal
+processing; the variances follow from the variance of a sum of independent terms.)
 
 From repeated sweeps
 --------------------
@@ -22,6 +24,7 @@ each).
 
 from __future__ import annotations
 
+import math
 from typing import Sequence
 
 import numpy as np
@@ -49,10 +52,18 @@ def trace_noise(gamma) -> float:
     g = g[np.isfinite(g)]
     if g.size < 5:
         raise AnalysisError("at least 5 points are needed to estimate the trace noise")
-    d = g[:-2] - 2 * g[1:-1] + g[2:]
-    parts = np.concatenate([d.real, d.imag])
-    mad = np.median(np.abs(parts - np.median(parts)))
-    return float(MAD_TO_SIGMA * mad / np.sqrt(6.0))
+    best = math.inf
+    d = g
+    for order in range(1, 7):
+        d = np.diff(d)
+        if order < 2:
+            continue
+        if d.size < 3:
+            break
+        parts = np.concatenate([d.real, d.imag])
+        mad = np.median(np.abs(parts - np.median(parts)))
+        best = min(best, MAD_TO_SIGMA * mad / math.sqrt(math.comb(2 * order, order)))
+    return float(best)
 
 
 def repeat_noise(traces: Sequence) -> np.ndarray:
