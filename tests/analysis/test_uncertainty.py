@@ -217,3 +217,23 @@ def test_trace_noise_of_a_fast_turning_trace_is_not_swamped_by_its_curvature():
     f = np.linspace(1e6, 3e9, 201)
     g = 0.9 * np.exp(-2j * np.pi * f * 2.2e-9) + 0.0005 * (rng.standard_normal(201) + 1j * rng.standard_normal(201))
     assert trace_noise(g) == pytest.approx(0.0005, rel=0.3)
+
+
+def test_fit_systematic_part_matches_the_linear_sensitivity():
+    # A 75 Ω resistor (Γ = 0.2) with one residual directivity D of unknown phase, the same at
+    # every point: the fitted R moves by Re(dZ/dΓ · D e^{jφ}) with dZ/dΓ = 2·Z0/(1 − Γ)²
+    # (differentiating Γ → Z, Pozar ch. 2), so its standard uncertainty is 2·Z0/(1 − Γ)²·D/√2.
+    from refplane.analysis.fitting import fit_reflection
+    from refplane.analysis.uncertainty.fitunc import fit_uncertainty
+
+    f = np.linspace(1e6, 1e8, 41)
+    g = np.full(f.size, complex(z_to_gamma(75.0 + 1e-3j, Z0)))
+    result = fit_reflection(f, g, Z0, model="series-rl")
+    d = 0.01
+    u = fit_uncertainty(result, f, g, residual=ResidualTerms(d, 0.0, 0.0), draws=120, seed=3)
+    expected = 2 * Z0 / (1 - 0.2) ** 2 * d / math.sqrt(2)
+    # 120 draws estimate a standard deviation to about ±7 % (1/√(2·120)); allow 20 %.
+    assert u.systematic["r_ohm"] == pytest.approx(expected, rel=0.2)
+    assert u.expanded["r_ohm"] == pytest.approx(2 * math.hypot(u.systematic["r_ohm"], u.statistical["r_ohm"]))
+    none = fit_uncertainty(result, f, g)
+    assert none.draws == 0 and none.combined == none.statistical
