@@ -82,6 +82,8 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
                         "beside it: <output stem>_u.csv or _u.json")
     p.add_argument("--json", action="store_true",
                    help="print the calibration, the doctor's findings and the files written as JSON")
+    p.add_argument("--diagnose", action="store_true",
+                   help="solve the calibration and report the doctor's findings only (no device needed)")
     p.add_argument("--interpolate", action="store_true",
                    help="allow sweeps on other frequencies (interpolated, with a warning); "
                         "by default mismatched frequencies are refused")
@@ -143,8 +145,9 @@ def run(args: argparse.Namespace) -> int:
         missing = [f"--{n}" for n in ("short", "open", "load") if not getattr(args, n)]
         if missing:
             return _fail(f"give {', '.join(missing)} (the measured standards), or --cal with saved error terms")
-    if not args.duts and not args.save_cal and not args.recheck:
-        return _fail("give at least one device sweep to correct (or --save-cal to only save the calibration)")
+    if not args.duts and not args.save_cal and not args.recheck and not args.diagnose:
+        return _fail("give at least one device sweep to correct (or --save-cal to only save the calibration, "
+                     "or --diagnose to only hear the doctor)")
     if args.duts and not args.output:
         return _fail("give -o OUT: an output file for one device, a folder for several")
     if args.output and not args.duts:

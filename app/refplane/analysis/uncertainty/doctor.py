@@ -183,15 +183,18 @@ def check_swapped(freq_hz, gm: np.ndarray, gd: np.ndarray, names: Sequence[str])
     cost_b, pen_b, _ = scores[best]
     f = np.asarray(freq_hz, float)
     better = cost_b < cost_g - 0.1
-    if pen_g > pen_b or not better.any():
-        band = (float(f[0]), float(f[-1]))
-        why = "the reflection tracking's phase then extrapolates to about 0° at 0 Hz, as a working port's does"
-    else:
+    phase_reason = "the reflection tracking's phase extrapolates to about 0° at 0 Hz, as a working port's does"
+    if better.any():
         runs = _bands(f, better)
         first, last = max(runs, key=lambda r: r[1] - r[0])
         band = (float(f[first]), float(f[last]))
-        why = (f"the port's raw directivity and source match then read "
-               f"{np.median(cost_b[better]):.2f} instead of {np.median(cost_g[better]):.2f}")
+        why = (f"the port's raw directivity and source match read {np.median(cost_b[better]):.2f} "
+               f"instead of {np.median(cost_g[better]):.2f} (a working port's are well under 1)")
+        if pen_g > pen_b:
+            why += f", and {phase_reason}"
+    else:
+        band = (float(f[0]), float(f[-1]))
+        why = phase_reason
     if len(exchanged) == 2:
         what = f"the {exchanged[0]} and the {exchanged[1]} look swapped"
     else:
