@@ -81,7 +81,7 @@ def test_auto_stays_linear_for_an_ordinary_load_and_switch_tracks_disagreement()
     lin, _ = linear(model)
     poor = linearity_poor(model)
     for i, g in enumerate(gammas):
-        mc = independent_mc(complex(g), draws=20_000)
+        mc = independent_mc(complex(g), draws=10_000)
         disagree = any(abs(lin[k][i] / mc[k] - 1) > 0.10 for k in ("gamma_mag", "r_ohm", "x_ohm"))
         if disagree:
             assert poor[i], (g, {k: (lin[k][i], mc[k]) for k in ("gamma_mag", "r_ohm", "x_ohm")})
@@ -205,7 +205,7 @@ def test_result_has_the_json_keys_and_one_point_view():
     assert set(point) == set(U_KEYS)
     assert point["series_c_f"] is None and point["series_l_h"] > 0
     one = u.at(1)
-    assert one.r_ohm.shape == (1,) and one.r_ohm[0] == u.r_ohm[1]
+    assert one.r_ohm.shape == (1,) and one.r_ohm[0] == u.r_ohm[1] == u.at(-1).r_ohm[0]
     assert u.region(0).shape == (72, 2)
     assert set(u.budget) >= {"residual directivity", "trace noise"}
 

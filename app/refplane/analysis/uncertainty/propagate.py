@@ -218,7 +218,8 @@ class ReadoutUncertainty:
 
     def at(self, index: int) -> "ReadoutUncertainty":
         """The uncertainty of one point (arrays of length 1)."""
-        i = slice(index, index + 1) if index >= 0 else slice(index, None if index == -1 else index + 1)
+        k = range(self.gamma.size)[index]  # IndexError for a point that does not exist
+        i = slice(k, k + 1)
         return ReadoutUncertainty(
             freq_hz=self.freq_hz[i], gamma=self.gamma[i], cov_gamma=self.cov_gamma[i],
             method=self.method[i], **{k: getattr(self, k)[i] for k in U_KEYS},
