@@ -99,6 +99,20 @@ def test_wrong_offset_delay_is_detected_and_estimated():
     assert "open" in found[0].sentence and "35 ps" in found[0].sentence or "34 ps" in found[0].sentence
 
 
+def test_adapter_left_out_of_short_and_open_shows_on_the_check_standard():
+    # Both the short and the open really sit behind 30 ps more line than described: solved
+    # alone that is only a moved plane, but the (correctly described) check standard then reads
+    # 30 ps short of its definition (Γ turns by 2ωτ, textbook line phase).
+    std = standards_from_json(KIT)
+    actual = dataclasses.replace(std, open=dataclasses.replace(std.open, offset_delay_s=50e-12),
+                                 short=dataclasses.replace(std.short, offset_delay_s=50e-12))
+    diag = run(actual=actual)
+    delay = [f for f in diag.findings if f.kind == "kit delay"]
+    assert delay and delay[0].values["missing_delay_s"] == pytest.approx(30e-12, abs=2e-12)
+    assert "30 ps too short" in delay[0].sentence
+    assert any(f.kind == "check" for f in diag.findings)
+
+
 def test_step_in_tracking_is_found_at_its_frequency():
     diag = run(terms=box(step_at=1.2e9, step_db=0.3))
     found = [f for f in diag.findings if f.kind == "repeatability"]

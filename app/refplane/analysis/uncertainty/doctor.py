@@ -282,10 +282,15 @@ def check_kit_delay_from_check(chk, u_dev: np.ndarray) -> list[Finding]:
     explained = np.abs(chk.corrected[use] - chk.defined[use] * np.exp(-1j * w2 * delay))
     if abs(delay) < DELAY_FLOOR_S or np.max(explained) > 0.5 * np.max(chk.deviation[use]):
         return []
-    sentence = (f"The check standard {chk.name!r} reads turned as if by {delay * 1e12:+.0f} ps of line "
-                f"(from {format_frequency(f[0])} to {format_frequency(f[-1])}): the kit's offset delays look "
-                "off by that much (an adapter's length left out of the short and open definitions?).")
-    return [Finding("kit delay", "care", (float(f[0]), float(f[-1])), sentence, {"missing_delay_s": delay})]
+    # Reading less delay than defined puts the calibrated plane beyond the true one: the short's
+    # and open's definitions then miss that much line (and the reverse).
+    how = "shorter" if delay < 0 else "longer"
+    wrong = "too short (an adapter's length left out of their definitions?)" if delay < 0 else "too long"
+    sentence = (f"The check standard {chk.name!r} reads as if its line were {abs(delay) * 1e12:.0f} ps {how} than "
+                f"defined (from {format_frequency(f[0])} to {format_frequency(f[-1])}): the short's and open's "
+                f"offset delays in the kit description look {abs(delay) * 1e12:.0f} ps {wrong}.")
+    return [Finding("kit delay", "care", (float(f[0]), float(f[-1])), sentence,
+                    {"standard": "short and open", "missing_delay_s": -delay, "check": chk.name})]
 
 
 # --------------------------------------------------------------------------- repeatability
