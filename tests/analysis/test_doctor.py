@@ -142,3 +142,43 @@ def test_passive_device_above_one_is_reported_with_its_uncertainty():
     assert "1.080" in found[0].sentence
     small = check_passive("antenna", F, np.where(np.arange(N) == 5, 1.002, 0.5), np.eye(2) * 0.005**2 + np.zeros((N, 2, 2)))
     assert small[0].severity == "note"
+
+
+def test_a_stray_point_is_told_from_a_step():
+    # One point of the short's sweep disturbed (cable touched): the terms jump there and back.
+    rng = np.random.default_rng(0)
+    std = standards_from_json(KIT)
+    measured = {n: sweep(raw(box(), reflection(std.reflect(n), F), rng), n) for n in ("short", "open", "load")}
+    s = np.array(measured["short"].s)
+    s[120, 0, 0] *= 1.3
+    measured["short"] = measured["short"].replace(s=s)
+    cal = calibrate(measured, std)
+    found = [f for f in diagnose(cal, measured=measured, standards=std).findings if f.kind == "repeatability"]
+    assert found and "stray point" in found[0].sentence
+    assert found[0].band_hz[0] == pytest.approx(F[120])
+
+
+def test_real_shipped_calibration_gives_no_false_swap_or_steps():
+    # scikit-rf's shipped measured calibration (skrf.data.one_port_cal, 500-750 GHz), real data:
+    # nothing about swapped standards (the band starts too far from 0 Hz to judge the tracking's
+    # phase, and the terms are physical), and no steps: its tracking turns by up to about 135°
+    # between points, too sparse to tell a step from the trace.
+    import warnings
+
+    import skrf as rf
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        shipped = rf.data.one_port_cal
+        f = shipped.frequency.f
+        meas = [m.s[:, 0, 0] for m in shipped.measured]
+        ideal = [m.s[:, 0, 0] for m in shipped.ideals]
+    mk = lambda v, n: Sweep(f, v, 50.0, name=n)  # noqa: E731
+    std = StandardSet(short=Standard("short", data=mk(ideal[0], "s")), open=Standard("open", data=mk(ideal[1], "o")),
+                      load=Standard("load", data=mk(ideal[3], "l")),
+                      additional=(("ds2", Standard("short", data=mk(ideal[2], "d"))),))
+    measured = {"short": mk(meas[0], "s"), "open": mk(meas[1], "o"), "load": mk(meas[3], "l"), "ds2": mk(meas[2], "d")}
+    diag = diagnose(calibrate(measured, std), measured=measured, standards=std)
+    assert not [x for x in diag.findings if x.kind == "swapped"]
+    assert not [x for x in diag.findings if x.kind == "repeatability"]
+    assert diag.verdict == "good"

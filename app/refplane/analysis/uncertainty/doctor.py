@@ -139,11 +139,12 @@ def dc_phase_deg(freq_hz: np.ndarray, tracking: np.ndarray) -> float | None:
 
     The unwrapped phase is fitted by a straight line over the lowest quarter of the band (at
     least 3 points) and taken at 0 Hz. None when the phase turns too much between points to
-    be followed (over 90°).
+    be followed (over 90°), or the band starts above a quarter of its span (too far to
+    extrapolate; an exchanged short and open then cannot be told from the terms).
     """
     f = np.asarray(freq_hz, float)
-    if f.size < 3:
-        return None
+    if f.size < 3 or f[0] > 0.25 * (f[-1] - f[0]):
+        return None  # too few points, or the band starts too far from 0 Hz to extrapolate
     step = np.abs(np.angle(tracking[1:] / tracking[:-1]))
     if np.max(step) > np.pi / 2:
         return None
@@ -298,10 +299,12 @@ def check_kit_delay_from_check(chk, u_dev: np.ndarray) -> list[Finding]:
 def check_repeatability(terms, *, floor: float = 0.004, factor: float = 10.0) -> list[Finding]:
     """Steps from one point to the next in the error terms (connector moved during the sweep).
 
-    The tracking is followed as its point-to-point ratio t_(i+1)/t_i − 1 (a cable's delay makes
-    that ratio nearly constant, a step makes one point stand out), directivity and source match
+    The tracking is followed as the logarithm of its point-to-point ratio, ln(t_(i+1)/t_i) (a
+    cable's delay makes that nearly constant, a step makes one point stand out, a stray point
+    two of opposite sign), directivity and source match
     as plain differences; each against its running median over 7 points. A step is reported
-    above ``factor`` times the robust scatter and above ``floor`` (0.004 ≈ 0.035 dB).
+    above ``factor`` times the robust scatter and above ``floor`` (0.004 ≈ 0.035 dB). A sweep
+    whose tracking turns more than 90° between points somewhere is too sparse to judge.
     """
     from scipy.ndimage import median_filter
 
@@ -310,7 +313,13 @@ def check_repeatability(terms, *, floor: float = 0.004, factor: float = 10.0) ->
         return []
     t = terms.reflection_tracking
     out = []
-    for label, d in (("reflection tracking", t[1:] / t[:-1] - 1),
+    ratio = t[1:] / t[:-1]
+    if np.max(np.abs(np.angle(ratio))) > np.pi / 2:
+        # Over 90° per point somewhere: too few points per turn to tell a step from the trace.
+        return []
+    # Log of the ratio with its phase unwrapped along the band: steps near ±180° stay continuous.
+    log_ratio = np.log(np.abs(ratio)) + 1j * np.unwrap(np.angle(ratio))
+    for label, d in (("reflection tracking", log_ratio),
                      ("directivity", np.diff(terms.directivity) / np.abs(t[1:])),
                      ("source match", np.diff(terms.source_match))):
         smooth = median_filter(d.real, 7, mode="nearest") + 1j * median_filter(d.imag, 7, mode="nearest")
@@ -323,14 +332,27 @@ def check_repeatability(terms, *, floor: float = 0.004, factor: float = 10.0) ->
             continue
         i = int(big[np.argmax(jump[big])])
         if label == "reflection tracking":
-            size = f"about {20 * math.log10(1 + abs(jump[i])):.2f} dB"
+            dev = d[i] - smooth[i]
+            size = f"about {abs(dev.real) * 20 / math.log(10):.2f} dB and {abs(math.degrees(dev.imag)):.0f}°"
         else:
             size = f"{abs(jump[i]):.3f}"
-        band = (float(f[i]), float(f[i + 1]))
-        extra = f" (and {big.size - 1} more steps)" if big.size > 1 else ""
-        sentence = (f"The {label} steps by {size} between {format_frequency(band[0])} and "
-                    f"{format_frequency(band[1])}{extra}: a connector or cable moved while the standards were "
-                    "swept; tighten it to its torque, keep the cable still and measure the standards again.")
+        extra = f" (and {big.size - 1} more)" if big.size > 1 else ""
+        # A jump straight back at the next point is one stray point, not a step.
+        neighbours = [j for j in (i - 1, i + 1) if 0 <= j < d.size]
+        spike = any(jump[j] > limit and np.real((d[j] - smooth[j]) * np.conj(d[i] - smooth[i])) < 0
+                    for j in neighbours)
+        if spike:
+            k = i + 1 if (i + 1 in neighbours and jump[i + 1] > limit) else i
+            band = (float(f[k]), float(f[k]))
+            sentence = (f"The {label} has a stray point at {format_frequency(f[k])}, off by {size}{extra}: "
+                        "something disturbed that point of a standard's sweep (a touched cable or connector, "
+                        "interference); measure the standards again, keeping everything still.")
+        else:
+            band = (float(f[i]), float(f[i + 1]))
+            sentence = (f"The {label} steps by {size} between {format_frequency(band[0])} and "
+                        f"{format_frequency(band[1])}{extra}: a connector or cable moved while the standards "
+                        "were swept; tighten it to its torque, keep the cable still and measure the standards "
+                        "again.")
         out.append(Finding("repeatability", "care", band, sentence,
                            {"term": label, "step": float(jump[i]), "steps": int(big.size)}))
     return out
@@ -357,14 +379,16 @@ def check_passive(name: str, freq_hz, gamma, cov) -> list[Finding]:
     excess = mag - 1
     beyond = over & (excess > u)
     out = []
-    i = int(np.argmax(np.where(over, excess, -np.inf)))
+    # The worst point: among those beyond their uncertainty when there are any.
+    pool = beyond if beyond.any() else over
+    i = int(np.argmax(np.where(pool, excess, -np.inf)))
     runs = _bands(f, over)
     first, last = runs[0][0], runs[-1][1]
     band = (float(f[first]), float(f[last]))
     if beyond.any():
         sentence = (f"{name} reads |Γ| up to {mag[i]:.3f} {_band_text(band)}, more than a passive device can "
-                    f"(above 1 by {excess[i]:.3f}, beyond its uncertainty ±{u[i]:.3f}): the calibration is off "
-                    "there, or the device is not passive.")
+                    f"(above 1 by {excess[i]:.3f} at {format_frequency(f[i])}, beyond its uncertainty "
+                    f"±{u[i]:.3f}): the calibration is off there, or the device is not passive.")
         sev = "redo" if excess[i] > 3 * max(u[i], 1e-6) else "care"
     else:
         sentence = (f"{name} reads |Γ| up to {mag[i]:.3f} {_band_text(band)}, just above 1 but within its "
