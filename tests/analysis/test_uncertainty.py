@@ -237,3 +237,14 @@ def test_fit_systematic_part_matches_the_linear_sensitivity():
     assert u.expanded["r_ohm"] == pytest.approx(2 * math.hypot(u.systematic["r_ohm"], u.statistical["r_ohm"]))
     none = fit_uncertainty(result, f, g)
     assert none.draws == 0 and none.combined == none.statistical
+
+
+def test_no_bound_where_the_region_crosses_a_pole():
+    # A nearly lossless inductor (R ≈ 0.01 Ω): the 95 % region of Γ reaches past the edge of the
+    # chart (R < 0), so Q = |X|/R and the parallel R = |Z|²/R have no bound there (Pozar ch. 2
+    # identities: both divide by R); X and series L stay bounded.
+    g = complex(z_to_gamma(0.01 + 31.4j, Z0))
+    u = propagate(model_for(g), draws=4000)
+    assert u.method == ("monte-carlo",)
+    assert math.isnan(u.q[0]) and math.isnan(u.parallel_r_ohm[0])
+    assert u.x_ohm[0] > 0 and u.series_l_h[0] > 0

@@ -472,9 +472,19 @@ def monte_carlo(model: GammaModel, *, draws: int = DEFAULT_DRAWS, seed: int | No
         cov[idx] = np.stack([np.stack([(dre * dre).sum(1), (dre * dim).sum(1)], -1),
                              np.stack([(dre * dim).sum(1), (dim * dim).sum(1)], -1)], -2) / (draws - 1)
         values = readout_values(model.freq_hz[idx][:, None], g, model.z0_ohm, reference=model.gamma[idx][:, None])
+        with np.errstate(divide="ignore", invalid="ignore"):
+            susceptance = np.imag(1.0 / (model.z0_ohm * (1 + g) / (1 - g)))
+        # Readouts with a pole inside the region: no bound (Q and parallel R where R changes
+        # sign — the region crosses the edge of the chart —, series C where X does, parallel X
+        # where the susceptance does).
+        crosses = {"q": values["r_ohm"], "parallel_r_ohm": values["r_ohm"], "series_c_f": values["x_ohm"],
+                   "parallel_x_ohm": susceptance}
         for k in U_KEYS:
             v = values[k]
             finite = np.all(np.isfinite(v), axis=1)
+            if k in crosses:
+                sign = np.sign(crosses[k])
+                finite &= np.all(sign == sign[:, :1], axis=1)
             with np.errstate(invalid="ignore"):
                 u95 = np.quantile(np.abs(v - central[k][idx][:, None]), COVERAGE_PROBABILITY, axis=1)
                 sd = np.std(v, axis=1, ddof=1)
