@@ -182,3 +182,13 @@ def test_real_shipped_calibration_gives_no_false_swap_or_steps():
     assert not [x for x in diag.findings if x.kind == "swapped"]
     assert not [x for x in diag.findings if x.kind == "repeatability"]
     assert diag.verdict == "good"
+
+
+def test_drift_is_reported_in_its_band():
+    # The port has moved only above 1.5 GHz (tracking 0.5 dB up there): the finding's band starts there.
+    diag = run(recheck_terms=box(step_at=1.5e9, step_db=0.5))
+    found = [f for f in diag.findings if f.kind == "drift"]
+    assert found
+    lo, hi = found[0].band_hz
+    assert 1.45e9 <= lo <= 1.6e9 and hi == pytest.approx(F[-1])
+    assert "1.5" in found[0].sentence or "1.51" in found[0].sentence

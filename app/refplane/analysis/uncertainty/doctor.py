@@ -20,7 +20,10 @@ kit described wrongly (offset delay)
     match at least :data:`DELAY_GAIN` times.
 connector repeatability
     Steps in the error terms from one point to the next (a connector moved or was
-    re-tightened during the sweep) stand out against the terms' own point-to-point scatter.
+    re-tightened during the sweep) stand out against the terms' own point-to-point scatter;
+    a jump there and straight back is one stray point. Smooth ripple in the raw terms is not
+    judged: a test cable's mismatch against the port ripples them legitimately, and that is
+    exactly what the calibration removes (repeatability between calibrations shows as drift).
 passive device with |Γ| > 1
     After correction a passive device cannot reflect more than it receives; where it reads so,
     by how much, and against the uncertainty of |Γ|.
@@ -417,8 +420,12 @@ def deviation_u(cal_u, freq_hz, defined, *, noise_sigma: float = 0.0, definition
     return K_COMPLEX * np.sqrt(var)
 
 
-def check_drift(name: str, freq_hz, corrected, defined, u_dev) -> list[Finding]:
-    """A re-measured standard against its definition through the saved calibration."""
+def check_drift(name: str, freq_hz, corrected, defined, u_dev, *, most: int = 3) -> list[Finding]:
+    """A re-measured standard against its definition through the saved calibration, per band.
+
+    Bands are the runs of points beyond the uncertainty (runs a few points apart are joined);
+    the ``most`` worst are reported, one sentence each.
+    """
     f = np.asarray(freq_hz, float)
     dev = np.abs(corrected - defined)
     ratio = dev / np.maximum(u_dev, 1e-9)
@@ -426,15 +433,26 @@ def check_drift(name: str, freq_hz, corrected, defined, u_dev) -> list[Finding]:
     if not (np.any(ratio > RATIO_ANY) or bad.mean() > SHARE_OVER):
         return []
     runs = _bands(f, bad)
-    first, last = max(runs, key=lambda r: np.max(ratio[r[0]:r[1] + 1]))
-    i = first + int(np.argmax(dev[first:last + 1]))
-    band = (float(f[first]), float(f[last]))
-    sentence = (f"The calibration has moved: the re-measured {name} reads up to {dev[i]:.3f} away from its "
-                f"definition {_band_text(band)}, {ratio[i]:.1f} times its uncertainty (±{u_dev[i]:.3f}); "
-                "calibrate again before trusting readings there.")
-    return [Finding("drift", "redo" if ratio[i] > 3 else "care", band, sentence,
-                    {"standard": name, "max_deviation": float(dev[i]), "u": float(u_dev[i]),
-                     "at_hz": float(f[i]), "bands": len(runs)})]
+    joined = [list(runs[0])]
+    for first, last in runs[1:]:
+        if first - joined[-1][1] <= 5:
+            joined[-1][1] = last
+        else:
+            joined.append([first, last])
+    joined.sort(key=lambda r: -np.max(ratio[r[0]:r[1] + 1]))
+    out = []
+    for first, last in joined[:most]:
+        i = first + int(np.argmax(ratio[first:last + 1]))
+        if ratio[i] <= 1:
+            continue
+        band = (float(f[first]), float(f[last]))
+        sentence = (f"The calibration has moved {_band_text(band)}: the re-measured {name} reads up to "
+                    f"{dev[i]:.3f} away from its definition there, {ratio[i]:.1f} times its uncertainty "
+                    f"(±{u_dev[i]:.3f}); calibrate again before trusting readings in that band.")
+        out.append(Finding("drift", "redo" if ratio[i] > 3 else "care", band, sentence,
+                           {"standard": name, "max_deviation": float(dev[i]), "u": float(u_dev[i]),
+                            "at_hz": float(f[i])}))
+    return out
 
 
 def check_against_u(chk, u_dev) -> tuple[list[Finding], str | None]:
