@@ -130,9 +130,10 @@ def summary(file: str, port: int, td) -> str:
 
     mode = "low-pass" if td.mode == "lowpass" else "band-pass"
     w = td.window
+    side = f"{w.sidelobe_db:.1f} dB".replace("-", "−")
     lines = [
         f"{file}  port {port}: {mode} time domain, {w.label} window (main lobe {w.width_6db_bins:.2f} bins "
-        f"wide at −6 dB, highest sidelobe {w.sidelobe_db:.1f} dB)",
+        f"wide at −6 dB, highest sidelobe {side})",
         f"  velocity factor {td.velocity_factor:g}: resolution {_si(td.resolution_m, 'm')}, range "
         f"{_si(td.range_m, 'm')} (1/Δf with Δf = {format_frequency(td.freq_step_hz)})",
     ]
