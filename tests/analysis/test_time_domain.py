@@ -231,3 +231,17 @@ def test_bad_gates():
         gate(sweep, 1.0, 40.0)
     with pytest.raises(AnalysisError, match="at least 8"):
         time_response(Sweep(f[:5], np.ones(5, complex), 50.0))
+
+
+def test_noise_floor_raises_no_events_and_a_measured_dc_point_is_used():
+    # A matched 50 Ω line ended in a 0.3-reflecting load, with 0.002 RMS noise per part (fixed
+    # seed): only the load is an event (the noise's impulse is far below |ρ| = 0.01).
+    rng = np.random.default_rng(5)
+    f = 2e6 * np.arange(0, 1501)                 # includes 0 Hz: the DC point is measured
+    media = _media(np.maximum(f, 1.0))
+    gamma = (media.line(3.0, unit="m") ** media.load(0.3)).s[:, 0, 0]
+    gamma = gamma + 0.002 * (rng.normal(size=f.size) + 1j * rng.normal(size=f.size))
+    gamma[0] = 0.3
+    td = time_response(Sweep(f, gamma, 50.0), velocity_factor=0.66)
+    assert len(td.events) == 1 and td.events[0].distance_m == pytest.approx(3.0, abs=td.resolution_m)
+    assert td.dc_value == 0.3 and td.dc_error == 0.0

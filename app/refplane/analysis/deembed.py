@@ -159,8 +159,12 @@ class LineOffset:
 
     @property
     def full_line(self) -> bool:
-        """True when the line is worked as its full R, L, G, C line (impedance varies with f)."""
-        return self.z0_follows_skin and self.loss_db > 0.0
+        """True when the line is worked as its full R, L, G, C line (impedance varies with f).
+
+        Only a line with both length (delay) and conductor loss has that law; otherwise the
+        low-loss form is exact or the only meaningful one.
+        """
+        return self.z0_follows_skin and self.loss_db > 0.0 and self.delay_s > 0.0
 
     def losses_np(self, freq_hz: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """One-way conductor and dielectric losses in nepers at ``freq_hz`` (A_c, A_d of the notes)."""

@@ -81,6 +81,11 @@ class CableResult:
         RMS over both sweeps of |Γ_model − Γ_measured| (0 is a perfect fit).
     band_hz : tuple of float
         The lowest and highest frequency used.
+
+    Notes
+    -----
+    Built to take an uncertainty later: a ``u`` mapping with the keys of :meth:`json`
+    (expanded, k = 2) can join without changing the figures.
     """
 
     freq_hz: np.ndarray

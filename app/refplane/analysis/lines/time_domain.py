@@ -19,7 +19,7 @@ is resampled onto the harmonic grid of its own top frequency and (nearly) its ow
 Γ·e^(+j2πf·t_c), with t_c the round-trip delay of the strongest event, varies slowly, so it is
 interpolated linearly and the delay put back (the error of linear interpolation of a phasor
 turning by θ between points is about θ²/8 of its size; after taking t_c out θ is small for
-the main event). The DC value, never measured, is extrapolated: a straight line through the
+the main event). The DC value, unless the sweep has a point at 0 Hz, is extrapolated: a straight line through the
 lowest five points of the slowly varying Γ·e^(+j2πf·t_c), its real part taken (a passive
 one-port's DC reflection is real). The reported DC error is the larger of the discarded
 imaginary part and the difference from a quadratic through the same points. An error ε at
@@ -42,7 +42,7 @@ Events
 Local peaks of |impulse| are events when they rise above the larger of |ρ| = 0.01 (40 dB
 return loss) and twice the window's highest sidelobe below the strongest peak (so a strong
 event's sidelobes are not reported as faults); a peak within one resolution cell of a
-stronger one belongs to it. They are listed strongest first. In low-pass mode ρ carries its
+stronger one belongs to it. They are listed strongest first, at most 50. In low-pass mode ρ carries its
 sign (+ towards higher impedance or an open, − towards lower or a short).
 
 Loss compensation: an event at round-trip time t has travelled twice through the cable up to
@@ -92,6 +92,8 @@ DEFAULT_KAISER_BETA = 6.0
 RHO_FLOOR = 0.01
 #: Points below the lowest swept one used to extrapolate to DC.
 DC_POINTS = 5
+#: At most this many events are listed (the strongest).
+MAX_EVENTS = 50
 #: Zero padding of the transforms (time samples per resolution step).
 PAD = 4
 #: Share of the period shown before t = 0 (the window's sidelobes of an event at the plane).
@@ -377,6 +379,8 @@ def harmonic_grid(freq_hz: np.ndarray, gamma: np.ndarray) -> tuple[np.ndarray, n
     dc_line = complex(line[-1])
     dc = float(dc_line.real)
     dc_error = float(max(abs(dc_line.imag), abs(dc_line - complex(quad[-1]))))
+    if f[0] == 0.0:
+        dc, dc_error = float(np.real(gamma[0])), 0.0      # measured: nothing to extrapolate
     if on_grid:
         values = np.empty(k + 1, dtype=np.complex128)
         values[first:] = gamma[measured]
@@ -430,6 +434,8 @@ def _find_events(time_s, impulse, resolution_s, range_s, window: WindowSpec, sig
     for i in order:
         if all(abs(time_s[i] - time_s[j]) > resolution_s for j in kept):
             kept.append(int(i))
+            if len(kept) == MAX_EVENTS:
+                break
     events = []
     for i in kept:
         # A parabola through the peak and its neighbours places it between samples.
