@@ -245,3 +245,23 @@ def test_noise_floor_raises_no_events_and_a_measured_dc_point_is_used():
     td = time_response(Sweep(f, gamma, 50.0), velocity_factor=0.66)
     assert len(td.events) == 1 and td.events[0].distance_m == pytest.approx(3.0, abs=td.resolution_m)
     assert td.dc_value == 0.3 and td.dc_error == 0.0
+
+
+def test_low_pass_step_agrees_with_scikit_rf_step_response():
+    # scikit-rf's Network.step_response (low-pass, Hamming window, after its own extrapolate_to_dc)
+    # as the reference library: the 50 Ω → 75 Ω step's level and the time its edge crosses half
+    # of it agree with ours within 0.005 and one resolution cell.
+    f = 2e6 * np.arange(1, 1501)
+    line50, line75 = _media(f, 50.0), _media(f, 75.0)
+    net = line50.line(1.0, unit="m") ** line75.line(2.0, unit="m") ** line50.resistor(75.0) ** line50.short()
+    ref = net.extrapolate_to_dc(kind="linear")
+    t_ref, s_ref = ref.step_response(window="hamming", pad=0)
+    ours = time_response(Sweep(f, net.s, 50.0), window="hamming", velocity_factor=0.66)
+    t_edge = 2 * 1.0 / (0.66 * C)
+    for t, s in ((t_ref, s_ref.real), (ours.time_s, ours.step)):
+        plateau = s[(t > t_edge + 2e-9) & (t < t_edge + 10e-9)]
+        np.testing.assert_allclose(plateau, 0.2, atol=0.005)
+    cross_ref = t_ref[np.argmax((t_ref > 0) & (s_ref.real > 0.1))]
+    cross_ours = ours.time_s[np.argmax((ours.time_s > 0) & (ours.step > 0.1))]
+    assert abs(cross_ours - cross_ref) <= ours.resolution_s
+    assert abs(cross_ours - t_edge) <= ours.resolution_s

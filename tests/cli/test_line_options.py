@@ -80,3 +80,14 @@ def test_plane_hands_every_term_to_read_and_removes_coax(tmp_path, capsys):
     for key in ("dielectric_loss_db", "skin_phase", "z0_follows_skin", "model"):
         assert key in out
     assert out["model"] == "full line" and out["dielectric_loss_db"] > 0
+
+
+def test_read_json_reports_every_term_of_the_removed_line(tmp_path, capsys):
+    f = np.linspace(1e6, 1e9, 11)
+    net = skrf.Network(frequency=skrf.Frequency.from_f(f, unit="hz"), s=np.ones(11, complex), z0=50)
+    net.write_touchstone("y", dir=str(tmp_path), skrf_comment=False)
+    assert _run(["read", str(tmp_path / "y.s1p"), "--at", "100MHz", "--delay", "1ns", "--loss", "0.3dB@1GHz",
+                 "--dielectric-loss", "0.1dB@1GHz", "--z0-follows-skin", "--json"]) == 0
+    removed = json.loads(capsys.readouterr().out)["lines_removed"][0]
+    assert removed["dielectric_loss_db"] == 0.1 and removed["skin_phase"] is True
+    assert removed["z0_follows_skin"] is True and removed["line_z0_ohm"] is None
