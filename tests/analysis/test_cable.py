@@ -182,3 +182,22 @@ def test_mismatched_frequencies_and_non_cables_are_refused():
     flat = Sweep(f, np.zeros(f.size, complex), 50.0)       # two matched loads: no cable at all
     with pytest.raises(AnalysisError):
         characterise_cable(flat, flat)
+
+
+def test_noisy_open_and_short_still_give_the_cable():
+    # 0.003 RMS noise per part on both readings (fixed seed) of 3 m of skrf Coaxial: Z0 within
+    # 0.1 %, vf within 0.05 %, conductor loss within 3 %, dielectric within 15 % of the clean fit.
+    rng = np.random.default_rng(11)
+    f = np.linspace(10e6, 3e9, 1001)
+    opened, shorted = _pair(_coax(f, 50.0), 3.0)
+    clean = characterise_cable(opened, shorted, length_m=3.0)
+
+    def noisy(sweep):
+        return Sweep(f, sweep.s[:, 0, 0] + 0.003 * (rng.normal(size=f.size) + 1j * rng.normal(size=f.size)), 50.0)
+
+    cable = characterise_cable(noisy(opened), noisy(shorted), length_m=3.0)
+    assert cable.z0_fit_ohm == pytest.approx(50.0, rel=1e-3)
+    assert cable.velocity_factor == pytest.approx(1 / 1.5, rel=5e-4)
+    assert cable.loss_conductor_db == pytest.approx(clean.loss_conductor_db, rel=0.03)
+    assert cable.loss_dielectric_db == pytest.approx(clean.loss_dielectric_db, rel=0.15)
+    assert 0.002 < cable.residual < 0.01          # the noise shows in the residual, nothing else

@@ -265,3 +265,18 @@ def test_low_pass_step_agrees_with_scikit_rf_step_response():
     cross_ours = ours.time_s[np.argmax((ours.time_s > 0) & (ours.step > 0.1))]
     assert abs(cross_ours - cross_ref) <= ours.resolution_s
     assert abs(cross_ours - t_edge) <= ours.resolution_s
+
+
+def test_marker_reading_along_the_profile():
+    # A marker 2 m along the 50 Ω → 75 Ω line of Hines and Stinehelfer's example reads ρ = 0.2
+    # in the step response and 75 Ω; before the junction, 50 Ω.
+    f = 2e6 * np.arange(1, 1501)
+    line50, line75 = _media(f, 50.0), _media(f, 75.0)
+    net = line50.line(1.0, unit="m") ** line75.line(2.0, unit="m") ** line50.resistor(75.0) ** line50.short()
+    td = time_response(Sweep(f, net.s, 50.0), velocity_factor=0.66)
+    at = td.reading_at(2.0)
+    assert at.step == pytest.approx(0.2, abs=0.005) and at.impedance_ohm == pytest.approx(75.0, abs=0.8)
+    assert td.reading_at(0.5).impedance_ohm == pytest.approx(50.0, abs=0.5)
+    assert td.reading_at(1.0).impulse == pytest.approx(0.2, abs=0.01)
+    with pytest.raises(AnalysisError, match="outside"):
+        td.reading_at(1e4)

@@ -225,6 +225,29 @@ class Event:
                 "return_loss_db": self.return_loss_db}
 
 
+@dataclass(frozen=True)
+class TimeReading:
+    """A marker's reading on a time response.
+
+    Attributes
+    ----------
+    distance_m, time_s : float
+        Where (distance along the line, round-trip time).
+    impulse : float
+        The impulse response there (ρ of an event at its peak; a magnitude in band-pass mode).
+    step : float or None
+        Low-pass step response there (the reflection seen up to that point).
+    impedance_ohm : float or None
+        Low-pass impedance profile there.
+    """
+
+    distance_m: float
+    time_s: float
+    impulse: float
+    step: float | None
+    impedance_ohm: float | None
+
+
 @dataclass(frozen=True, eq=False)
 class TimeResponse:
     """A reflection sweep in the time domain.
@@ -299,6 +322,20 @@ class TimeResponse:
     @property
     def range_m(self) -> float:
         return self.range_s * self.metres_per_second
+
+    def reading_at(self, distance_m: float) -> "TimeReading":
+        """What a marker at ``distance_m`` reads (linear between samples)."""
+        t = float(distance_m) / self.metres_per_second
+        if not self.time_s[0] <= t <= self.time_s[-1]:
+            raise AnalysisError(f"{distance_m:g} m lies outside the range shown "
+                                f"({self.time_s[0] * self.metres_per_second:.4g} m to {self.range_m:.4g} m)")
+        impulse = float(np.interp(t, self.time_s, self.impulse))
+        step = float(np.interp(t, self.time_s, self.step)) if self.step is not None else None
+        impedance = None
+        if step is not None:
+            impedance = self.z0_ohm * (1.0 + step) / (1.0 - step) if step < 1.0 else math.inf
+        return TimeReading(distance_m=float(distance_m), time_s=t, impulse=impulse, step=step,
+                           impedance_ohm=impedance)
 
     def json(self) -> dict:
         """The figures of ``refplane tdr --json`` (without file and port)."""
