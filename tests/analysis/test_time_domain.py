@@ -280,3 +280,16 @@ def test_marker_reading_along_the_profile():
     assert td.reading_at(1.0).impulse == pytest.approx(0.2, abs=0.01)
     with pytest.raises(AnalysisError, match="outside"):
         td.reading_at(1e4)
+
+
+def test_a_prepared_gate_dragged_along_gives_what_gate_gives():
+    # The drag path (prepare once, apply per position) is the same computation as gate().
+    from refplane.analysis.lines.time_domain import prepare_gate
+
+    f = np.linspace(50e6, 3e9, 801)
+    gamma = 0.3 * np.exp(-2j * np.pi * f * 10e-9) + 0.5 * np.exp(-2j * np.pi * f * 40e-9)
+    sweep = Sweep(f, gamma, 50.0)
+    plan = prepare_gate(sweep)
+    for near in (2.0, 4.5, 5.5):
+        np.testing.assert_array_equal(plan.apply(near, near + 1.0, velocity_factor=0.7).sweep.s,
+                                      gate(sweep, near, near + 1.0, velocity_factor=0.7).sweep.s)

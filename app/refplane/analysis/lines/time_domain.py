@@ -626,6 +626,93 @@ def _gate_shape(t: np.ndarray, start: float, stop: float, edge: float) -> np.nda
     return g
 
 
+@dataclass(frozen=True, eq=False)
+class GatePlan:
+    """What a gate needs that does not depend on where it sits: prepared once, applied per drag.
+
+    Build with :func:`prepare_gate`; :meth:`apply` then costs one gate shape, two products
+    and two FFTs (the transforms of the data and of the window alone are kept).
+    """
+
+    sweep: Sweep
+    port: int
+    window: WindowSpec
+    freq_hz: np.ndarray
+    response: np.ndarray
+    unit_response: np.ndarray
+    step_hz: float
+    size: int
+
+    @property
+    def period_s(self) -> float:
+        return 1.0 / self.step_hz
+
+    def apply(self, start_m: float, stop_m: float, *, velocity_factor: float = 1.0,
+              renormalise: bool = True) -> GatedSweep:
+        """The gated sweep for the span ``start_m`` … ``stop_m`` (see :func:`gate`)."""
+        vf = check_velocity_factor(velocity_factor)
+        start_m, stop_m = float(start_m), float(stop_m)
+        if not (math.isfinite(start_m) and math.isfinite(stop_m)) or not stop_m > start_m:
+            raise AnalysisError("the gate's far end must lie beyond its near end")
+        period, n, size = self.period_s, self.freq_hz.size, self.size
+        scale = vf * SPEED_OF_LIGHT_M_S / 2.0
+        t1, t2 = start_m / scale, stop_m / scale
+        if t2 - t1 >= period * (1.0 - 2 * PRE_TIME) or t1 < -PRE_TIME * period or t2 > period * (1 - PRE_TIME):
+            raise AnalysisError(f"the gate must lie within the range of this sweep, "
+                                f"{-PRE_TIME * period * scale:.3g} m to {(1 - PRE_TIME) * period * scale:.3g} m "
+                                f"at velocity factor {vf:g}")
+        dt = period / size
+        idx = np.arange(size)
+        edge = self.window.width_6db_bins / (n * self.step_hz)
+        t = np.where(idx >= size * (1.0 - PRE_TIME), idx - size, idx) * dt
+        gated = np.fft.fft(self.response * _gate_shape(t, t1, t2, edge))[:n]
+        if renormalise:
+            # The gate's response to a unit reflection at its centre, with that delay taken back
+            # out: the window's own response (an event at 0) under the gate moved to centre on 0.
+            half = 0.5 * (t2 - t1)
+            t_sym = np.where(idx >= size // 2, idx - size, idx) * dt
+            ref = np.fft.fft(self.unit_response * _gate_shape(t_sym, -half, half, edge))[:n]
+        else:
+            ref = self.window.values(n).astype(np.complex128)
+        if np.any(np.abs(ref) < 1e-6):
+            raise AnalysisError("the gate leaves nothing at some frequencies (a window falling to zero at the "
+                                "band edges, e.g. Hann, cannot be divided out there); use the Kaiser window")
+        out = gated / ref
+        spec = self.window
+        note = (f"Refplane: gated {start_m:g} m to {stop_m:g} m at velocity factor {vf:g} ({spec.label} band-pass "
+                f"transform, {'renormalised by the gate' if renormalise else 'window divided out'})")
+        sweep = self.sweep
+        gated_sweep = Sweep(freq_hz=self.freq_hz.copy(), s=out.reshape(-1, 1, 1), z0_ohm=sweep.z0_ohm[self.port - 1],
+                            name=f"{sweep.name} gated", source=sweep.source, comments=sweep.comments + (note,))
+        return GatedSweep(sweep=gated_sweep, start_m=start_m, stop_m=stop_m, start_s=t1, stop_s=t2, edge_s=edge,
+                          window=spec, renormalised=renormalise)
+
+
+def prepare_gate(sweep: Sweep, *, port: int = 1, window: str = "kaiser") -> GatePlan:
+    """Transform a sweep once for gating at any span (see :func:`gate`)."""
+    name, beta = parse_window(window)
+    spec = window_spec(name, beta)
+    f, gamma = _check(sweep, port)
+    if not _uniform(f):
+        grid = np.linspace(f[0], f[-1], f.size)
+        t_c = _strongest_delay(f, gamma)
+        u = gamma * np.exp(2j * np.pi * t_c * f)
+        values = (np.interp(grid, f, u.real) + 1j * np.interp(grid, f, u.imag)) * np.exp(-2j * np.pi * t_c * grid)
+    else:
+        grid, values = f, gamma
+    n = grid.size
+    w = spec.values(n)
+    size = _fft_size(PAD * n)
+    padded = np.zeros(size, dtype=np.complex128)
+    padded[:n] = values * w
+    response = np.fft.ifft(padded)
+    padded[:n] = w
+    padded[n:] = 0.0
+    unit = np.fft.ifft(padded)
+    return GatePlan(sweep=sweep, port=port, window=spec, freq_hz=np.asarray(grid, dtype=np.float64),
+                    response=response, unit_response=unit, step_hz=float((grid[-1] - grid[0]) / (n - 1)), size=size)
+
+
 def gate(sweep: Sweep, start_m: float, stop_m: float, *, port: int = 1, velocity_factor: float = 1.0,
          window: str = "kaiser", renormalise: bool = True) -> GatedSweep:
     """Keep only the reflections between ``start_m`` and ``stop_m`` along the line.
@@ -649,57 +736,12 @@ def gate(sweep: Sweep, start_m: float, stop_m: float, *, port: int = 1, velocity
     Returns
     -------
     GatedSweep
+
+    Notes
+    -----
+    For a gate dragged along the line, :func:`prepare_gate` once and ``plan.apply(...)``
+    per position does the same with half the transforms.
     """
     vf = check_velocity_factor(velocity_factor)
-    start_m, stop_m = float(start_m), float(stop_m)
-    if not (math.isfinite(start_m) and math.isfinite(stop_m)) or not stop_m > start_m:
-        raise AnalysisError("the gate's far end must lie beyond its near end")
-    name, beta = parse_window(window)
-    spec = window_spec(name, beta)
-    f, gamma = _check(sweep, port)
-    if not _uniform(f):
-        grid = np.linspace(f[0], f[-1], f.size)
-        t_c = _strongest_delay(f, gamma)
-        u = gamma * np.exp(2j * np.pi * t_c * f)
-        values = (np.interp(grid, f, u.real) + 1j * np.interp(grid, f, u.imag)) * np.exp(-2j * np.pi * t_c * grid)
-    else:
-        grid, values = f, gamma
-    n = grid.size
-    step = float((grid[-1] - grid[0]) / (n - 1))
-    period = 1.0 / step
-    scale = vf * SPEED_OF_LIGHT_M_S / 2.0
-    t1, t2 = start_m / scale, stop_m / scale
-    if t2 - t1 >= period * (1.0 - 2 * PRE_TIME) or t1 < -PRE_TIME * period or t2 > period * (1 - PRE_TIME):
-        raise AnalysisError(f"the gate must lie within the range of this sweep, "
-                            f"{-PRE_TIME * period * scale:.3g} m to {(1 - PRE_TIME) * period * scale:.3g} m at "
-                            f"velocity factor {vf:g}")
-    w = spec.values(n)
-    size = _fft_size(PAD * n)
-    dt = period / size
-    idx = np.arange(size)
-    t = np.where(idx >= size * (1.0 - PRE_TIME), idx - size, idx) * dt
-    edge = spec.width_6db_bins / (n * step)
-    g = _gate_shape(t, t1, t2, edge)
-    padded = np.zeros(size, dtype=np.complex128)
-    padded[:n] = values * w
-    gated = np.fft.fft(np.fft.ifft(padded) * g)[:n]
-    if renormalise:
-        # The gate's response to a unit reflection at its centre, with that delay taken back out.
-        centre = 0.5 * (t1 + t2)
-        unit = np.zeros(size, dtype=np.complex128)
-        unit[:n] = w * np.exp(-2j * np.pi * (grid - grid[0]) * centre)
-        ref = np.fft.fft(np.fft.ifft(unit) * g)[:n] * np.exp(2j * np.pi * (grid - grid[0]) * centre)
-    else:
-        ref = w.astype(np.complex128)
-    small = np.abs(ref) < 1e-6
-    if np.any(small):
-        raise AnalysisError("the gate leaves nothing at some frequencies (a window falling to zero at the band "
-                            "edges, e.g. Hann, cannot be divided out there); use the Kaiser window")
-    out = gated / ref
-    note = (f"Refplane: gated {start_m:g} m to {stop_m:g} m at velocity factor {vf:g} "
-            f"({spec.label} band-pass transform, {'renormalised by the gate' if renormalise else 'window divided out'})")
-    z0 = sweep.z0_ohm[port - 1]
-    gated_sweep = Sweep(freq_hz=grid.copy(), s=out.reshape(-1, 1, 1), z0_ohm=z0, name=f"{sweep.name} gated",
-                        source=sweep.source, comments=sweep.comments + (note,))
-    return GatedSweep(sweep=gated_sweep, start_m=start_m, stop_m=stop_m, start_s=t1, stop_s=t2, edge_s=edge,
-                      window=spec, renormalised=renormalise)
+    return prepare_gate(sweep, port=port, window=window).apply(start_m, stop_m, velocity_factor=vf,
+                                                               renormalise=renormalise)
