@@ -293,7 +293,10 @@ def estimate_sentence(est) -> str:
     """The plane estimate in one sentence, as the reference-plane panel shows it."""
     length = f", {format_si(est.length_m, 'm', 5)}" if est.length_m is not None else ""
     verdict = est.verdict()
-    return (f"Found {format_si(est.delay_s, 's', 5)}{length}, {est.loss_db:.3f} dB at "
+    dielectric = getattr(est, "dielectric_loss_db", 0.0) or 0.0
+    loss = f"{est.loss_db:.3f} dB" + (f" + {dielectric:.3f} dB dielectric" if dielectric else "")
+    phase = " (with its skin-effect phase)" if getattr(est, "skin_phase", False) else ""
+    return (f"Found {format_si(est.delay_s, 's', 5)}{length}, {loss}{phase} at "
             f"{format_frequency(est.loss_ref_hz)}; residual {est.residual:.4f}. "
             f"{verdict[:1].upper()}{verdict[1:]}.")
 
