@@ -14,7 +14,7 @@ import sys
 from refplane import __version__
 
 #: Sub-commands, each a module ``refplane.cli.<name>`` with ``add_parser(sub)`` and ``run(args)``.
-COMMANDS = ("read", "plane", "correct", "fit", "render")
+COMMANDS = ("read", "plane", "correct", "fit", "render", "check", "report")
 
 
 class _Parser(argparse.ArgumentParser):
