@@ -113,13 +113,15 @@ def _nice_ticks(low: float, high: float, count: int = 5) -> list[float]:
     raw = (high - low) / count
     mag = 10 ** math.floor(math.log10(raw))
     step = min((m * mag for m in (1, 2, 2.5, 5, 10) if m * mag >= raw), default=10 * mag)
-    start = math.ceil(low / step) * step
+    first = math.ceil(low / step)
     ticks = []
-    v = start
-    while v <= high + step * 1e-9:
+    # Counted, not accumulated: a step far below the values' own resolution cannot loop forever.
+    for k in range(first, first + 4 * count + 2):
+        v = k * step
+        if v > high + step * 1e-9:
+            break
         ticks.append(0.0 if abs(v) < step * 1e-9 else v)
-        v += step
-    return ticks
+    return ticks or [low]
 
 
 _PREFIXES = ((1e9, "G"), (1e6, "M"), (1e3, "k"), (1.0, ""), (1e-3, "m"), (1e-6, "µ"), (1e-9, "n"), (1e-12, "p"),
@@ -170,7 +172,7 @@ def frequency_plot_svg(freq_hz: np.ndarray, values: np.ndarray, *, quantity: str
     finite = v[np.isfinite(v)]
     candidates = list(finite) + [lv for _, lv, _, _ in limits]
     lo, hi = (min(candidates), max(candidates)) if candidates else (0.0, 1.0)
-    if hi - lo <= 0:
+    if hi - lo <= 1e-9 * max(abs(lo), abs(hi)):   # flat: give the line some room
         lo, hi = lo - max(abs(lo) * 0.1, 1e-12), hi + max(abs(hi) * 0.1, 1e-12)
     span = hi - lo
     lo, hi = lo - 0.06 * span, hi + 0.06 * span
