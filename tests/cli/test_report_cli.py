@@ -149,3 +149,25 @@ def test_check_report_has_the_batch_summary(resistor, tmp_path, capsys):
     assert status == 1
     text = html.unescape(out.read_text(encoding="utf-8"))
     assert "1 files: 0 passed, 1 failed" in text and "<svg" in text
+
+
+def test_marker_table_csv_holds_the_numbers_of_refplane_read_json(resistor, tmp_path, capsys):
+    import csv
+    import io
+    import json
+
+    out_csv = tmp_path / "markers.csv"
+    assert main(["report", str(resistor), "--at", "470MHz", "--at", "250MHz", "-o", str(tmp_path / "r.html"),
+                 "--csv", str(out_csv)]) == 0
+    capsys.readouterr()
+    assert main(["read", str(resistor), "--at", "470MHz", "--at", "250MHz", "--json"]) == 0
+    points = json.loads(capsys.readouterr().out)["points"]
+    text = out_csv.read_text(encoding="utf-8")
+    assert text.isascii()                                  # ASCII minus, plain units ("ohm")
+    rows = list(csv.DictReader(io.StringIO(text)))
+    assert len(rows) == 2 and "R (ohm)" in rows[0] and "frequency (Hz)" in rows[0]
+    for row, point in zip(rows, points):
+        assert float(row["frequency (Hz)"]) == point["freq_hz"]
+        assert float(row["R (ohm)"]) == point["r_ohm"]       # full precision, read back exactly
+        assert float(row["series L (H)"]) == point["series_l_h"]
+        assert row["series C (F)"] == "" and point["series_c_f"] is None

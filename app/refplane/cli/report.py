@@ -47,6 +47,8 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--cal", metavar="CAL.json", help="correct every sweep with saved error terms first")
     p.add_argument("--interpolate", action="store_true",
                    help="with --cal: allow sweeps on other frequencies (error terms interpolated)")
+    p.add_argument("--csv", metavar="OUT.csv",
+                   help="also write the marker tables (--at) as CSV for a spreadsheet, units in the header")
     p.add_argument("--title", default="Refplane measurement report", help="the report's title")
     # The lead adds --session FILE here when session files exist: its sweeps, markers, offsets
     # and limits would become report sections through refplane.report.build.sweep_report.
@@ -64,18 +66,25 @@ def run(args: argparse.Namespace) -> int:
     from refplane.analysis.errors import AnalysisError
     from refplane.analysis.limits import read_limits
     from refplane.cli.check import preparation_from_args
-    from refplane.report.build import report_for_paths
+    from refplane.report.build import report_sections, write_report
 
     if not args.output.lower().endswith((".html", ".htm", ".pdf")):
         raise AnalysisError("name the report .html or .pdf", file=args.output)
-    if Path(args.output).exists() and not args.force:
-        print(f"refplane report: {args.output} exists already; use --force to replace it", file=sys.stderr)
-        return 2
+    for out in (args.output, args.csv):
+        if out and Path(out).exists() and not args.force:
+            print(f"refplane report: {out} exists already; use --force to replace it", file=sys.stderr)
+            return 2
+    if args.csv and not args.at_hz:
+        raise AnalysisError("--csv writes the marker tables; give the markers with --at")
     limits = list(args.limits)
     if args.limit_file:
         limits.extend(read_limits(args.limit_file))
     prep = preparation_from_args(args)
-    path = report_for_paths(args.files, args.output, at_hz=args.at_hz, limits=limits, prep=prep,
-                            fit_model=args.fit_model, overwrite=args.force, title=args.title)
+    sections = report_sections(args.files, at_hz=args.at_hz, limits=limits, prep=prep, fit_model=args.fit_model)
+    path = write_report(sections, args.output, overwrite=args.force, title=args.title)
     print(f"wrote {path}")
+    if args.csv:
+        from refplane.report.tables import write_markers_csv
+
+        print(f"wrote {write_markers_csv(sections, args.csv, overwrite=args.force)}")
     return 0
