@@ -22,8 +22,14 @@ from refplane.analysis.limits import (
     Limit, LimitResult, LimitStatistics, evaluate_limits, limit_statistics, overall_decision,
 )
 
-#: Below this many files a batch runs in the calling process: starting workers costs more.
-SMALL_BATCH = 40
+#: Worker processes are started only when a batch holds about this much work (seconds in one
+#: process, estimated from the files' count and size): each worker starts a fresh interpreter
+#: and imports numpy and Refplane, which costs about half a second on a busy machine.
+PARALLEL_WORK_S = 4.0
+# Estimated cost of one file: a fixed part and a part per byte (measured on small and large
+# Touchstone files on a 2-core machine, rounded up).
+_S_PER_FILE = 0.0008
+_S_PER_BYTE = 1.0 / 60e6
 
 
 @dataclass(frozen=True)
@@ -222,6 +228,17 @@ def _check_chunk(paths: list[str]) -> list[FileCheck]:
     return [check_file(p, _WORKER["limits"], _WORKER["prep"]) for p in paths]
 
 
+def estimated_work_s(files: Sequence[str]) -> float:
+    """A rough estimate of the seconds one process needs to check ``files``."""
+    size = 0
+    for f in files:
+        try:
+            size += os.path.getsize(f)
+        except OSError:
+            pass
+    return len(files) * _S_PER_FILE + size * _S_PER_BYTE
+
+
 def default_jobs() -> int:
     """The processor cores this process may use."""
     try:
@@ -242,8 +259,9 @@ def run_checks(files: Sequence[str], limits: Sequence[Limit], prep: Preparation 
     prep : Preparation
         Port, calibration, offsets and uncertainties applied to every sweep.
     jobs : int, optional
-        Worker processes; default: one per available core (one process for small batches).
-        1 runs in the calling process.
+        Worker processes; default: one per available core when the batch is big enough to
+        repay starting them (:data:`PARALLEL_WORK_S`), else the calling process. 1 runs in
+        the calling process.
     progress : callable, optional
         Called as ``progress(done, total)`` as files finish.
 
@@ -256,7 +274,7 @@ def run_checks(files: Sequence[str], limits: Sequence[Limit], prep: Preparation 
     limits = tuple(limits)
     total = len(files)
     if jobs is None:
-        jobs = 1 if total < SMALL_BATCH else default_jobs()
+        jobs = default_jobs() if estimated_work_s(files) > PARALLEL_WORK_S else 1
     jobs = max(1, min(int(jobs), total or 1))
     checks: list[FileCheck | None] = [None] * total
     if jobs == 1:

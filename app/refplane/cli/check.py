@@ -76,7 +76,8 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
                    help="expanded uncertainty (k = 2) of a quantity, the same at every frequency, "
                         "e.g. vswr=0.05; readings within U of a limit are indeterminate (repeatable)")
     p.add_argument("--jobs", type=int, default=None, metavar="N",
-                   help="worker processes (default: one per core; small batches run in one)")
+                   help="worker processes (default: one per core when the batch is big enough to repay "
+                        "starting them, else one)")
     p.add_argument("--json", action="store_true", help="print JSON instead of a list")
     p.add_argument("--csv", metavar="OUT.csv", help="also write the results as CSV for a spreadsheet")
     p.add_argument("--report", metavar="OUT.html", help="also write a report (.html or .pdf)")
