@@ -197,3 +197,33 @@ def test_progress_bar_on_a_terminal(lot, capsys, monkeypatch):
     monkeypatch.setattr(sys, "stderr", fake)
     main(["check", str(lot), "--limit", LIMIT, "--jobs", "1"])
     assert "checking [" in fake.getvalue() and "9/9 files" in fake.getvalue()
+
+
+def test_calibration_is_applied_before_the_limits(tmp_path, capsys):
+    # One-port three-term error model (references: Γm = e00 + e10e01·Γ/(1 − e11·Γ), from
+    # memory): the raw device reads |Γm| = 0.1 + 0.9·0.1/(1 − 0.005) = 0.1905 (VSWR 1.47), the
+    # corrected one |Γ| = 0.1 (VSWR 1.222).
+    from refplane.analysis.calfile import save_calibration
+    from refplane.analysis.calibration import calibrate
+
+    e00, e11, e10e01 = 0.1, 0.05, 0.9
+
+    def raw(gamma):
+        g = np.full(F.size, gamma, dtype=complex)
+        return Sweep(F, (e00 + e10e01 * g / (1 - e11 * g)).reshape(-1, 1, 1), 50.0)
+
+    cal = calibrate({"short": raw(-1), "open": raw(1), "load": raw(0)})
+    save_calibration(cal, tmp_path / "cal.json")
+    touchstone.write(raw(0.1), tmp_path / "dut.s1p", comments=("invented raw sweep for a test",))
+    limit = "vswr <= 1.25 over 800MHz:960MHz"
+    status, out = _json(capsys, tmp_path / "dut.s1p", "--limit", limit)
+    assert status == 1 and out["files"][0]["limits"][0]["worst_value"] == pytest.approx(
+        _vswr(0.1 + 0.9 * 0.1 / (1 - 0.005)), rel=1e-9)
+    status, out = _json(capsys, tmp_path / "dut.s1p", "--limit", limit, "--cal", tmp_path / "cal.json")
+    assert status == 0 and out["files"][0]["limits"][0]["worst_value"] == pytest.approx(_vswr(0.1), rel=1e-9)
+    # The report says what was applied.
+    report = tmp_path / "dut.html"
+    assert main(["report", str(tmp_path / "dut.s1p"), "--cal", str(tmp_path / "cal.json"), "--delay", "10ps",
+                 "--limit", limit, "-o", str(report)]) == 0
+    text = report.read_text(encoding="utf-8")
+    assert "calibration applied" in text and "line removed" in text

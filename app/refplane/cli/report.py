@@ -18,6 +18,10 @@ examples:
   refplane report antenna.s1p --at 145MHz --limit "vswr <= 1.5 over 144MHz:148MHz" -o antenna.html
   refplane report cap.s1p --fit capacitor --at 100MHz -o cap.pdf
   refplane report lot/*.s1p --cal port1.json --delay 85ps --limits cable.limits -o lot.html
+
+Every report prints the usual cautions: never connect an analyzer port to an antenna system a
+transmitter may still feed; discharge antennas and long cables first; mind RF exposure limits
+and follow local codes and licensed practice.
 """
 
 
