@@ -169,7 +169,18 @@ def frequency_plot_svg(freq_hz: np.ndarray, values: np.ndarray, *, quantity: str
     v = np.asarray(values, float)
     fs, funit = _scale(f, "Hz")
     ys, yunit = _scale(np.concatenate([v, [lv for _, lv, _, _ in limits]]), unit)
-    finite = v[np.isfinite(v)]
+    # With limits, the vertical range follows the readings near the limited bands (a VSWR of
+    # thousands far outside the band would flatten the part that is judged); readings
+    # outside the range are drawn at its edge.
+    near = np.isfinite(v)
+    if limits:
+        inside = np.zeros(f.size, dtype=bool)
+        for _, _, (b0, b1), _ in limits:
+            pad = 0.25 * (b1 - b0)
+            inside |= (f >= b0 - pad) & (f <= b1 + pad)
+        if (near & inside).any():
+            near &= inside
+    finite = v[near]
     candidates = list(finite) + [lv for _, lv, _, _ in limits]
     lo, hi = (min(candidates), max(candidates)) if candidates else (0.0, 1.0)
     if hi - lo <= 1e-9 * max(abs(lo), abs(hi)):   # flat: give the line some room
