@@ -171,3 +171,12 @@ def test_marker_table_csv_holds_the_numbers_of_refplane_read_json(resistor, tmp_
         assert float(row["R (ohm)"]) == point["r_ohm"]       # full precision, read back exactly
         assert float(row["series L (H)"]) == point["series_l_h"]
         assert row["series C (F)"] == "" and point["series_c_f"] is None
+
+
+def test_source_date_epoch_fixes_the_printed_date(resistor, tmp_path, monkeypatch):
+    # Reproducible builds convention (reproducible-builds.org, SOURCE_DATE_EPOCH: seconds since
+    # 1970-01-01 00:00 UTC): 86400 is 1970-01-02 00:00 UTC.
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", "86400")
+    out = tmp_path / "r.html"
+    assert main(["report", str(resistor), "-o", str(out)]) == 0
+    assert "on 1970-01-02 00:00 UTC" in out.read_text(encoding="utf-8")
