@@ -108,3 +108,46 @@ class Sweep:
     def replace(self, **changes) -> "Sweep":
         """A copy with some fields changed (validated afresh)."""
         return dataclasses.replace(self, **changes)
+
+    def to_network(self):
+        """This sweep as a scikit-rf ``Network`` (scikit-rf is imported only here).
+
+        Frequencies in hertz, S as points × ports × ports, one reference impedance per port
+        (repeated at every frequency), the name, and the comments joined by newlines.
+
+        Examples
+        --------
+        >>> import numpy as np
+        >>> net = Sweep(np.array([1e6, 2e6]), np.array([0.1, 0.2]), 50.0).to_network()
+        >>> net.s.shape, float(net.f[1])
+        ((2, 1, 1), 2000000.0)
+        """
+        import skrf
+
+        freq = skrf.Frequency.from_f(np.array(self.freq_hz), unit="Hz")
+        z0 = np.broadcast_to(np.array(self.z0_ohm), (self.n_points, self.n_ports)).copy()
+        net = skrf.Network(frequency=freq, s=np.array(self.s), z0=z0, name=self.name)
+        if self.comments:
+            net.comments = "\n".join(self.comments)
+        return net
+
+    @classmethod
+    def from_network(cls, network, *, name: str | None = None, source: str | None = None) -> "Sweep":
+        """A sweep from a scikit-rf ``Network`` (anything with ``f``, ``s`` and ``z0``).
+
+        Raises
+        ------
+        AnalysisError
+            When a port's reference impedance changes with frequency (a sweep keeps one
+            reference impedance per port), or the network's values are not a valid sweep.
+        """
+        s = np.array(network.s, dtype=np.complex128)
+        z0 = np.array(network.z0, dtype=np.complex128)
+        if z0.ndim == 2:
+            if not np.allclose(z0, z0[:1], rtol=1e-12, atol=0.0):
+                raise AnalysisError("the network's reference impedance changes with frequency; "
+                                    "a sweep keeps one reference impedance per port (renormalise it first)")
+            z0 = z0[0]
+        comments = tuple(line for line in str(getattr(network, "comments", "") or "").splitlines() if line.strip())
+        label = name if name is not None else (getattr(network, "name", None) or "sweep")
+        return cls(np.array(network.f, dtype=np.float64), s, z0, name=str(label), source=source, comments=comments)
