@@ -336,12 +336,12 @@ def test_window_composes_plane_fit_and_calibration(qtbot, window):
     from refplane.views.panels.fit_panel import FitPanel
     from refplane.views.panels.offsets_panel import OffsetsPanel
 
-    assert isinstance(window.docks["Reference plane"].widget(), OffsetsPanel)
+    assert isinstance(window.panel("Reference plane"), OffsetsPanel)
     # The fit tab is built the first time it is shown.
     window.docks["Fit"].raise_()
-    qtbot.waitUntil(lambda: isinstance(window.docks["Fit"].widget(), FitPanel), timeout=2000)
-    assert window.docks["Fit"].widget().state is window.state
-    assert window.fit_panel() is window.docks["Fit"].widget()
+    qtbot.waitUntil(lambda: isinstance(window.panel("Fit"), FitPanel), timeout=2000)
+    assert window.panel("Fit").state is window.state
+    assert window.fit_panel() is window.panel("Fit")
     texts = [a.text() for a in window.tools_menu.actions()]
     assert "Calibrate from standards…" in texts
     assert window.tools_menu.menuAction().isVisible()

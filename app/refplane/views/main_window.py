@@ -26,8 +26,9 @@ from typing import Callable, Sequence
 
 from PySide6.QtCore import QFileSystemWatcher, QRect, QSettings, Qt, QTimer
 from PySide6.QtGui import QAction, QActionGroup, QKeySequence
-from PySide6.QtWidgets import (QDockWidget, QFileDialog, QInputDialog, QLabel, QMainWindow,
-                               QMessageBox, QProgressBar, QPushButton, QSplitter, QWidget)
+from PySide6.QtWidgets import (QDockWidget, QFileDialog, QFrame, QInputDialog, QLabel, QMainWindow,
+                               QMessageBox, QProgressBar, QPushButton, QScrollArea, QSplitter,
+                               QWidget)
 
 from refplane.views.binding import bind
 from refplane.views.loader import SweepLoader
@@ -49,6 +50,25 @@ DRAW_AT_ONCE_POINTS = 20_000
 
 def _settings() -> QSettings:
     return QSettings("Refplane", "Refplane")
+
+
+def _scrolled(widget: QWidget) -> QScrollArea:
+    """``widget`` in a frameless scroll area that scrolls up and down, never sideways.
+
+    A side panel's own minimum height (or a long line of a fit result) would otherwise set the
+    window's minimum size; in a scroll area it only sets how far the panel scrolls. Sideways
+    the panel follows the dock's width (labels wrap), so no horizontal scroll bar appears.
+    """
+    area = QScrollArea()
+    area.setObjectName("panel-scroll")
+    area.setFrameShape(QFrame.NoFrame)
+    area.setWidgetResizable(True)
+    area.setHorizontalScrollBarPolicy(Qt.ScrollBarAlwaysOff)
+    area.setWidget(widget)
+    # The dock is as wide as the panel needs (its widest control), while its height may shrink.
+    area.setMinimumWidth(widget.minimumSizeHint().width()
+                         + area.verticalScrollBar().sizeHint().width())
+    return area
 
 
 class MainWindow(QMainWindow):
@@ -136,10 +156,10 @@ class MainWindow(QMainWindow):
                   available.y() + max(0, (available.height() - h - margin_h // 2) // 2))
 
     # ================================================================ layout
-    def _dock(self, title: str, widget: QWidget, area) -> QDockWidget:
+    def _dock(self, title: str, widget: QWidget, area, *, scroll: bool = False) -> QDockWidget:
         dock = QDockWidget(title, self)
         dock.setObjectName(f"dock-{title}")
-        dock.setWidget(widget)
+        dock.setWidget(_scrolled(widget) if scroll else widget)
         dock.setFeatures(QDockWidget.DockWidgetMovable | QDockWidget.DockWidgetClosable
                          | QDockWidget.DockWidgetFloatable)
         self.addDockWidget(area, dock)
@@ -164,15 +184,21 @@ class MainWindow(QMainWindow):
         from refplane.views.panels.fit_panel import FitPanel
 
         dock = self.docks["Fit"]
-        if visible and not isinstance(dock.widget(), FitPanel):
-            placeholder = dock.widget()
-            dock.setWidget(FitPanel(self.state, workers=self.workers))
+        if visible and not isinstance(self.panel("Fit"), FitPanel):
+            area = dock.widget()
+            placeholder = area.takeWidget()
+            area.setWidget(FitPanel(self.state, workers=self.workers))
             placeholder.deleteLater()
 
     def fit_panel(self):
         """The fit panel (built now if it has not been shown yet)."""
         self._build_fit_panel(True)
-        return self.docks["Fit"].widget()
+        return self.panel("Fit")
+
+    def panel(self, title: str) -> QWidget:
+        """The panel shown in the dock called ``title`` (inside its scroll area, if it has one)."""
+        widget = self.docks[title].widget()
+        return widget.widget() if isinstance(widget, QScrollArea) else widget
 
     def _open_calibration(self) -> None:
         from refplane.views.calibration_dialog import CalibrationDialog  # imported when first used
@@ -183,9 +209,10 @@ class MainWindow(QMainWindow):
         """Add a panel in a dock, below the trace list unless ``area`` says otherwise; returns the dock.
 
         The panel appears under View ▸ Panels so it can be hidden and shown. Docks in the same
-        area are stacked; drag a dock's title to tab or float it.
+        area are stacked; drag a dock's title to tab or float it. The panel scrolls when the
+        window is too small for it (a laptop screen), so it never makes the window larger.
         """
-        return self._dock(title, widget, area)
+        return self._dock(title, widget, area, scroll=True)
 
     def add_tool_action(self, text: str, triggered: Callable[[], object], *,
                         shortcut: str | None = None) -> QAction:
