@@ -244,7 +244,7 @@ def test_offsets_show_raw_faded_and_corrected(qtbot, window, files):
     x, y = window.chart.trace_item(tid).curve.getData()
     np.testing.assert_allclose(x + 1j * y, remove_offsets(read_sweep(files["r75"]), off).reflection(1))
     raw = window.chart._raw[tid]
-    assert raw.curve.opts["pen"].color().alphaF() < 0.5  # faded
+    assert raw.curve.opts["pen"].color().alphaF() == pytest.approx(window.theme.faded_alpha, abs=0.01)  # faded
     rx, ry = raw.curve.getData()
     np.testing.assert_allclose(rx + 1j * ry, read_sweep(files["r75"]).reflection(1))
 

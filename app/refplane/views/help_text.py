@@ -2,6 +2,11 @@
 
 SAFETY_TITLE = "Working safely"
 
+#: Shown on the chart while no sweep is open.
+EMPTY_WINDOW_TEXT = ("No sweep open.\n\nFile ▸ Open sweeps… (Ctrl+O), or drop Touchstone "
+                     "(.s1p, .s2p…) or CSV files on the window.\nFile ▸ Open session… "
+                     "continues saved work.")
+
 SAFETY_HTML = """
 <h3>Before you connect anything</h3>
 <ul>

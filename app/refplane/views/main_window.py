@@ -31,6 +31,7 @@ from PySide6.QtWidgets import (QDockWidget, QFileDialog, QFrame, QInputDialog, Q
                                QWidget)
 
 from refplane.views.binding import bind
+from refplane.views.folders import in_last_folder, last_folder, remember_folder
 from refplane.views.loader import SweepLoader
 from refplane.views.workers import Workers
 from refplane.views.panels.marker_table import MarkerTable
@@ -334,13 +335,13 @@ class MainWindow(QMainWindow):
     def ask_open(self) -> None:
         from refplane.analysis.loading import SWEEP_PATTERNS
 
-        folder = str(_settings().value("last_folder", ""))
+        folder = last_folder("sweeps")
         patterns = " ".join(SWEEP_PATTERNS)
         paths, _ = QFileDialog.getOpenFileNames(
             self, "Open sweeps", folder, f"Sweeps ({patterns});;Touchstone (*.s?p *.snp *.ts);;"
                                          "CSV (*.csv);;All files (*)")
         if paths:
-            _settings().setValue("last_folder", os.path.dirname(paths[0]))
+            remember_folder("sweeps", paths[0])
             self.open_files(paths)
 
     def recent_files(self) -> list[str]:
@@ -420,25 +421,24 @@ class MainWindow(QMainWindow):
     def ask_open_session(self) -> None:
         from refplane.session.files import SUFFIX
 
-        folder = str(_settings().value("last_session_folder", _settings().value("last_folder", "")))
+        folder = last_folder("sessions")
         path, _ = QFileDialog.getOpenFileName(self, "Open session", folder,
                                               f"Refplane sessions (*{SUFFIX});;All files (*)")
         if path:
-            _settings().setValue("last_session_folder", os.path.dirname(path))
+            remember_folder("sessions", path)
             self.open_session(path)
 
     def ask_save_session(self) -> str | None:
         from refplane.session.files import SUFFIX
 
-        folder = str(_settings().value("last_session_folder", _settings().value("last_folder", "")))
-        suggested = self.session_path or os.path.join(folder, f"session{SUFFIX}")
+        suggested = self.session_path or in_last_folder("sessions", f"session{SUFFIX}")
         path, _ = QFileDialog.getSaveFileName(self, "Save session", suggested,
                                               f"Refplane sessions (*{SUFFIX})")
         if not path:
             return None
         if not path.lower().endswith(SUFFIX):
             path += SUFFIX
-        _settings().setValue("last_session_folder", os.path.dirname(path))
+        remember_folder("sessions", path)
         # The save dialog has already asked before replacing an existing file.
         return self.save_session(path, overwrite=True)
 
@@ -506,7 +506,9 @@ class MainWindow(QMainWindow):
         if box.clickedButton() is not locate:
             return None
         path, _ = QFileDialog.getOpenFileName(self, f"Where is {os.path.basename(missing.recorded)}?",
-                                              str(_settings().value("last_folder", "")))
+                                              last_folder("sweeps"))
+        if path:
+            remember_folder("sweeps", path)
         return path or None
 
     def _session_file_loaded(self, request, sweep, error: str | None = None) -> None:
@@ -585,7 +587,10 @@ class MainWindow(QMainWindow):
     # ================================================================ export
     def ask_save_path(self, title: str, suggested: str) -> str | None:
         """Ask where to save a picture (a method so tests can replace the dialog)."""
-        path, _ = QFileDialog.getSaveFileName(self, title, suggested, "PNG picture (*.png);;SVG drawing (*.svg)")
+        path, _ = QFileDialog.getSaveFileName(self, title, in_last_folder("pictures", suggested),
+                                              "PNG picture (*.png);;SVG drawing (*.svg)")
+        if path:
+            remember_folder("pictures", path)
         return path or None
 
     def ask_export(self, what: str) -> None:

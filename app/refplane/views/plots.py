@@ -327,7 +327,17 @@ class FrequencyPlot(QWidget):
         for curve in view.curves:
             x, y = plot_series.finite_for_plot(curve.freq_hz, curve.y, self.log_x)
             colour = QColor(curve.colour)
-            colour.setAlphaF(curve.alpha)
+            if curve.style == "dotted":
+                # A fitted model: its trace's colour with dashes of a contrasting colour over
+                # it, so it shows even where it lies exactly on the trace.
+                from refplane.views.smith_chart import model_dash_pen
+
+                self._add_curve(x, y, pg.mkPen(colour, width=curve.width + 0.4))
+                self._add_curve(x, y, model_dash_pen(self.theme.model_outline, curve.width + 0.4))
+                continue
+            # The faded (uncorrected) trace takes the theme's opacity, chosen to stay visible
+            # on that theme's background.
+            colour.setAlphaF(curve.alpha if curve.alpha >= 1.0 else self.theme.faded_alpha)
             self._add_curve(x, y, pg.mkPen(colour, width=curve.width, style=styles[curve.style]))
         self.note.setText(view.note)
         self._sync_lines()

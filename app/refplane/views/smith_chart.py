@@ -23,7 +23,7 @@ import numpy as np
 import pyqtgraph as pg
 from PySide6.QtCore import QPointF, QRectF, Qt, Signal
 from PySide6.QtGui import QColor, QFont, QFontMetricsF, QPainter, QPainterPath, QPen
-from PySide6.QtWidgets import QGraphicsItem, QLabel, QVBoxLayout, QWidget
+from PySide6.QtWidgets import QGraphicsItem, QLabel, QSizePolicy, QVBoxLayout, QWidget
 
 from refplane.views.binding import bind
 from refplane.views import smith_grid
@@ -55,6 +55,16 @@ def _line_path(ends) -> QPainterPath:
     path = QPainterPath(QPointF(x0, y0))
     path.lineTo(QPointF(x1, y1))
     return path
+
+
+def model_dash_pen(outline: str, width: float) -> QPen:
+    """The dashes drawn over a fitted model curve: short dashes in a colour that contrasts
+    with every trace colour, so the model shows even where it lies exactly on its trace."""
+    pen = QPen(QColor(outline), width)
+    pen.setCosmetic(True)
+    pen.setDashPattern([3.0, 3.0])
+    pen.setCapStyle(Qt.FlatCap)
+    return pen
 
 
 def _pen(colour: str, width: float = 1.0, style=Qt.SolidLine, alpha: float = 1.0) -> QPen:
@@ -208,12 +218,27 @@ class TraceItem(pg.ItemGroup):
             item.setParentItem(self)
             item.setVisible(ends)
         self._ends = ends
+        self.dashes: pg.PlotCurveItem | None = None
         self.set_style(colour, width=width, dashed=dashed, alpha=alpha)
 
-    def set_style(self, colour: str, *, width: float = 2.0, dashed: bool = False, alpha: float = 1.0) -> None:
-        """Colour, width (px), dash and opacity of the curve and its end symbols."""
+    def set_style(self, colour: str, *, width: float = 2.0, dashed: bool = False, alpha: float = 1.0,
+                  outline: str | None = None) -> None:
+        """Colour, width (px), dash and opacity of the curve and its end symbols.
+
+        With ``outline`` the curve is drawn in two colours: solid in ``colour`` with dashes of
+        ``outline`` over it, so it stays visible where it lies on a curve of its own colour.
+        """
         pen = _pen(colour, width, Qt.DashLine if dashed else Qt.SolidLine, alpha)
         apply_line_mode(self.curve, pen)
+        if outline is not None:
+            if self.dashes is None:
+                self.dashes = pg.PlotCurveItem(antialias=True, skipFiniteCheck=True)
+                self.dashes.setParentItem(self)
+            apply_line_mode(self.dashes, model_dash_pen(outline, width))
+            self._draw()
+        elif self.dashes is not None:
+            self.dashes.setParentItem(None)
+            self.dashes = None
         c = QColor(colour)
         c.setAlphaF(alpha)
         self.start.setPen(pg.mkPen(c, width=1.6))
@@ -247,6 +272,8 @@ class TraceItem(pg.ItemGroup):
         if x.size > self.THIN_ABOVE and self._pixel > 0:
             x, y = smith_grid.thin_polyline(x, y, 0.5 * self._pixel)
         self.curve.setData(x, y)
+        if self.dashes is not None:
+            self.dashes.setData(x, y)
 
 
 class MarkerItem(pg.GraphicsObject):
@@ -393,6 +420,20 @@ class SmithChart(QWidget):
         self.hover.setObjectName("hover")
         quiet_label(self.hover)
         self.hover.setTextInteractionFlags(Qt.TextSelectableByMouse)
+        # A fixed place: one line high, as wide as the chart whatever it says. (Sized by its
+        # text, the line pushed the splitter sideways as the cursor moved.)
+        self.hover.setSizePolicy(QSizePolicy.Ignored, QSizePolicy.Fixed)
+        self.hover.setFixedHeight(self.hover.fontMetrics().height() + 6)
+        self.hover.setWordWrap(False)
+        self.hover.setContentsMargins(6, 0, 6, 0)
+        from refplane.views.help_text import EMPTY_WINDOW_TEXT
+
+        # Said on the chart while nothing is open: how to open something.
+        self.empty_note = QLabel(EMPTY_WINDOW_TEXT, self.plot)
+        self.empty_note.setObjectName("emptyNote")
+        self.empty_note.setAlignment(Qt.AlignCenter)
+        self.empty_note.setWordWrap(True)
+        self.empty_note.setAttribute(Qt.WA_TransparentForMouseEvents, True)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(0, 0, 0, 0)
         layout.setSpacing(0)
@@ -421,6 +462,7 @@ class SmithChart(QWidget):
         scene = self.plot.scene()
         scene.sigMouseMoved.connect(self._on_mouse_moved)
         scene.sigMouseClicked.connect(self._on_mouse_clicked)
+        self._style_empty_note()
         self._on_traces_changed()
         self._on_markers_changed()
         self._applying_view = False
@@ -488,9 +530,12 @@ class SmithChart(QWidget):
         self.plot.setBackground(theme.chart_bg)
         self.grid.set_theme(theme)
         self.vswr_circle.set_theme(theme)
+        self._style_empty_note()
         for m in self._markers.values():
             m._theme = theme
             m.update()
+        for tid in list(self._traces):
+            self._on_trace_changed(tid)  # faded and model curves take the theme's colours
 
     def trace_item(self, trace_id: int) -> TraceItem:
         """The item drawing a trace (for tests and export)."""
@@ -547,7 +592,26 @@ class SmithChart(QWidget):
         self.plot.addItem(item)
         return item
 
+    def _style_empty_note(self) -> None:
+        # On the chart's own background (not the window's): text in the theme's text colour
+        # on a plate of the chart colour, so the grid does not run through the words.
+        self.empty_note.setStyleSheet(
+            f"QLabel#emptyNote {{ color: {self.theme.text}; background: {self.theme.chart_bg};"
+            f" border: 1px solid {self.theme.grid_major}; border-radius: 6px; padding: 10px; }}")
+
+    def resizeEvent(self, ev) -> None:  # noqa: N802 (Qt's name)
+        super().resizeEvent(ev)
+        self._place_empty_note()
+
+    def _place_empty_note(self) -> None:
+        w = min(self.plot.width() - 40, 360)
+        self.empty_note.setFixedWidth(max(w, 120))
+        self.empty_note.adjustSize()
+        self.empty_note.move((self.plot.width() - self.empty_note.width()) // 2,
+                             (self.plot.height() - self.empty_note.height()) // 2)
+
     def _on_traces_changed(self) -> None:
+        self.empty_note.setVisible(not self.state.trace_ids())
         ids = set(self.state.trace_ids())
         for tid in list(self._traces):
             if tid not in ids:
@@ -580,18 +644,19 @@ class SmithChart(QWidget):
         raw = self._raw.get(trace_id)
         if t.raw_gamma is not None:
             if raw is None:
-                raw = self._raw[trace_id] = TraceItem(t.colour, width=1.4, alpha=0.3, ends=False)
+                raw = self._raw[trace_id] = TraceItem(t.colour, width=1.4, alpha=self.theme.faded_alpha,
+                                                      ends=False)
                 raw.setZValue(8)
                 self._add_trace_item(raw)
             r = t.raw_gamma
-            raw.set_style(t.colour, width=1.4, alpha=0.3)
+            raw.set_style(t.colour, width=1.4, alpha=self.theme.faded_alpha)
             raw.set_data(r.real, r.imag)
             raw.setVisible(t.visible)
         elif raw is not None:
             self.plot.removeItem(self._raw.pop(trace_id))
         for key, ov in self._overlays.items():
             if key[0] == trace_id:
-                ov.set_style(t.colour, width=1.6, dashed=True, alpha=0.9)
+                ov.set_style(t.colour, width=1.8, outline=self.theme.model_outline)
                 ov.setVisible(t.visible)
         for mid, mitem in self._markers.items():
             if self.state.marker(mid).trace_id == trace_id:
@@ -607,8 +672,9 @@ class SmithChart(QWidget):
         for ov in t.overlays:
             key = (trace_id, ov.name)
             if key not in self._overlays:
-                self._overlays[key] = TraceItem(t.colour, width=1.6, dashed=True, alpha=0.9, ends=False)
-                self._overlays[key].setZValue(9)
+                self._overlays[key] = TraceItem(t.colour, width=1.8, ends=False)
+                self._overlays[key].set_style(t.colour, width=1.8, outline=self.theme.model_outline)
+                self._overlays[key].setZValue(11)  # over its trace, which it may hide exactly
                 self._add_trace_item(self._overlays[key])
             g = ov.gamma
             self._overlays[key].set_data(g.real, g.imag)

@@ -406,8 +406,17 @@ class OffsetsPanel(QWidget):
         return str(written)
 
     def _ask_save_path(self, suggested: str) -> str | None:
+        import os
+
+        from refplane.views.folders import last_folder, remember_folder
+
+        folder = last_folder("corrected")
+        if folder:  # corrected sweeps go where the last one went, under the suggested name
+            suggested = os.path.join(folder, os.path.basename(suggested))
         path, _ = QFileDialog.getSaveFileName(self, "Save corrected sweep", suggested,
                                               "Touchstone (*.s1p *.s2p *.s3p *.s4p *.snp)")
+        if path:
+            remember_folder("corrected", path)
         return path or None
 
     def _confirm(self, text: str) -> bool:
