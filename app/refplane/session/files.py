@@ -125,7 +125,8 @@ def session_document(session, path: str | os.PathLike) -> dict:
         "format": FORMAT,
         "version": VERSION,
         "traces": out_traces,
-        "markers": [{"trace": index[m.trace_id], "freq_hz": m.freq_hz} for m in markers],
+        "markers": [{"trace": index[m.trace_id], "freq_hz": m.freq_hz,
+                     **({"follows": m.follows} if m.follows else {})} for m in markers],
         "band_hz": list(session.band) if session.band else None,
         "current_trace": index.get(session.current_trace),
         "current_marker": m_index.get(session.current_marker),
@@ -295,6 +296,14 @@ def _check(doc: dict, file: str) -> dict:
         if n_traces == 0:
             c.fail(f"markers[{i}].trace", "there are no traces to place it on")
         c.num(m.get("freq_hz"), f"markers[{i}].freq_hz")
+        if m.get("follows") is not None:
+            from refplane.session.searches import parse
+
+            c.text(m["follows"], f"markers[{i}].follows")
+            try:
+                parse(m["follows"])
+            except AnalysisError as exc:
+                c.fail(f"markers[{i}].follows", str(exc))
     band = doc.get("band_hz")
     if band is not None:
         band = c.lst(band, "band_hz")
@@ -489,7 +498,7 @@ def build_session(doc: SessionDocument, sweeps: Mapping[int, object], session=No
         if tid is None:
             continue
         try:
-            marker_ids[j] = session.add_marker(tid, m["freq_hz"])
+            marker_ids[j] = session.add_marker(tid, m["freq_hz"], follows=m.get("follows"))
         except AnalysisError:
             notes.append(f"marker {j + 1} at {m['freq_hz']:g} Hz lies outside its sweep now; left out")
     display = dict(data.get("display", {}))

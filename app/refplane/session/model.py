@@ -101,6 +101,10 @@ class Marker:
     """The trace the marker reads."""
     freq_hz: float
     """Frequency in hertz, always inside the trace's sweep."""
+    follows: str | None = None
+    """A marker search (``session.searches`` spec, e.g. "best-match") the marker re-runs when its
+    trace's data change (offsets edited, file reloaded, port changed); ``None`` stays put.
+    Moving the marker by hand stops it following."""
 
 
 @dataclass(frozen=True)
@@ -220,6 +224,7 @@ class Session:
         self._calibration = CalibrationInputs()
         self._scene = None
         self._last_scene = None
+        self._unfollowed: set[int] = set()
         # Any change makes the cached Scene stale; it is resolved again when next asked for.
         for name in ("tracesChanged", "traceChanged", "offsetsChanged", "overlaysChanged",
                      "velocityFactorsChanged", "currentTraceChanged", "markersChanged",
@@ -345,6 +350,7 @@ class Session:
         if not self._clamp_markers(trace_id) and self.markers(trace_id):
             for m in self.markers(trace_id):
                 self.markerMoving.emit(m.id)
+        self._refollow(trace_id)
 
     def set_offsets(self, trace_id: int, offsets: Sequence) -> None:
         """Set a trace's per-port reference-plane offsets (one ``LineOffset`` per port, or empty).
@@ -364,6 +370,7 @@ class Session:
         self.offsetsChanged.emit(trace_id)
         if any(m.trace_id == trace_id for m in self._markers.values()):
             self.markersChanged.emit()
+        self._refollow(trace_id)
 
     def set_velocity_factor(self, trace_id: int, port: int, vf: float | None) -> None:
         """Remember the velocity factor of the line at ``port`` of a trace (``None`` forgets it)."""
@@ -409,12 +416,20 @@ class Session:
             self.currentTraceChanged.emit(trace_id)
 
     # ----------------------------------------------------------------- markers
-    def add_marker(self, trace_id: int, freq_hz: float) -> int:
-        """Place a marker on a trace at ``freq_hz`` (refused outside the sweep) and return its id."""
+    def add_marker(self, trace_id: int, freq_hz: float, *, follows: str | None = None) -> int:
+        """Place a marker on a trace at ``freq_hz`` (refused outside the sweep) and return its id.
+
+        ``follows`` names a marker search (:mod:`refplane.session.searches`) the marker re-runs
+        whenever its trace's data change.
+        """
         self._check_inside(trace_id, freq_hz)
+        if follows is not None:
+            from refplane.session.searches import parse
+
+            parse(follows)
         mid = self._next_marker
         self._next_marker += 1
-        self._markers[mid] = Marker(id=mid, trace_id=trace_id, freq_hz=float(freq_hz))
+        self._markers[mid] = Marker(id=mid, trace_id=trace_id, freq_hz=float(freq_hz), follows=follows)
         self.markersChanged.emit()
         self._set_current_marker(mid)
         return mid
@@ -427,11 +442,78 @@ class Session:
         m = self._marker(marker_id)
         f = self._clamp(m.trace_id, freq_hz)
         if f != m.freq_hz:
-            self._markers[marker_id] = replace(m, freq_hz=f)
+            # Moved by hand: it no longer follows its search (the table says so once the move ends).
+            if m.follows is not None:
+                self._unfollowed.add(marker_id)
+            self._markers[marker_id] = replace(m, freq_hz=f, follows=None)
             self.markerMoving.emit(marker_id)
         if finished:
             self.markerMoved.emit(marker_id)
+            if marker_id in self._unfollowed:
+                self._unfollowed.discard(marker_id)
+                self.markersChanged.emit()
         return f
+
+    # ---------------------------------------------------------------- searches
+    def find_markers(self, trace_id: int, what: str, *, vswr_limit: float = 2.0) -> list[int]:
+        """Place markers that follow a search on a trace; returns their ids (empty: nothing found).
+
+        ``what`` is "best-match" (minimum VSWR), "max-z" (largest |Z|), "resonances" (every
+        zero of X, each marker following its own series or parallel resonance) or "band"
+        (two markers at the edges of the stretch where VSWR ≤ ``vswr_limit``). A marker that
+        already follows the same search on the trace is moved rather than duplicated.
+        """
+        from refplane.session import searches
+
+        t = self._get(trace_id)
+        if what == "resonances":
+            from refplane.analysis.antenna.resonance import find_resonances
+
+            counts = {"series": 0, "parallel": 0}
+            specs = []
+            for r in find_resonances(t.displayed, t.port):
+                counts[r.kind] += 1
+                specs.append(f"{r.kind}-resonance:{counts[r.kind]}")
+        elif what == "band":
+            specs = list(searches.band_spec(vswr_limit))
+        elif what in ("best-match", "max-z"):
+            specs = [what]
+        else:
+            raise AnalysisError(f"unknown marker search {what!r}")
+        found = [(spec, searches.run(t.displayed, t.port, spec)) for spec in specs]
+        if any(f is None for _spec, f in found):
+            return []
+        ids = []
+        for spec, f in found:
+            same = [m for m in self.markers(trace_id) if m.follows == spec]
+            if same:
+                self._markers[same[0].id] = replace(same[0], freq_hz=self._clamp(trace_id, f))
+                self.markerMoving.emit(same[0].id)
+                self.markerMoved.emit(same[0].id)
+                ids.append(same[0].id)
+            else:
+                ids.append(self.add_marker(trace_id, self._clamp(trace_id, f), follows=spec))
+        if ids:
+            self._set_current_marker(ids[-1])
+        return ids
+
+    def _refollow(self, trace_id: int) -> None:
+        """Run again the search of every following marker on a trace whose data changed."""
+        following = [m for m in self.markers(trace_id) if m.follows is not None]
+        if not following:
+            return
+        from refplane.session.searches import run
+
+        t = self._get(trace_id)
+        for m in following:
+            f = run(t.displayed, t.port, m.follows)
+            if f is None:
+                continue  # the feature went away (no band at this limit now): stay put
+            f = self._clamp(trace_id, f)
+            if f != m.freq_hz:
+                self._markers[m.id] = replace(m, freq_hz=f)
+                self.markerMoving.emit(m.id)
+                self.markerMoved.emit(m.id)
 
     def step_marker(self, marker_id: int, steps: int) -> float:
         """Move a marker by ``steps`` swept points (negative = down); returns the new frequency.
@@ -617,6 +699,7 @@ class Session:
             self.traceChanged.emit(trace_id)
             if "port" in changes and new.port != old.port and self.markers(trace_id):
                 self.markersChanged.emit()
+                self._refollow(trace_id)
 
     def _forget_delta(self, marker_id: int | None) -> None:
         pair = self._display.delta_markers

@@ -275,3 +275,18 @@ def legend_lines_of(traces, markers) -> list[str]:
 def mapping_text(cells: Mapping[str, str]) -> str:
     """Cells as "label value" pairs on one line, for status bars and tooltips."""
     return ", ".join(f"{k} {v}" for k, v in cells.items())
+
+
+def vswr_band_sentence(trace_label_text: str, vswr_limit: float, low_hz: float, high_hz: float) -> str:
+    """The band where VSWR ≤ s in one line: edges, width (absolute and as a fraction) and centre.
+
+    The centre is the arithmetic mean of the edges, as band plans state it (common practice).
+    """
+    from refplane.analysis.units import format_frequency
+
+    width = high_hz - low_hz
+    centre = 0.5 * (low_hz + high_hz)
+    fraction = f" ({100.0 * width / centre:.2f} %)" if centre > 0 else ""
+    return (f"{trace_label_text}: VSWR ≤ {vswr_limit:g} from {format_frequency(low_hz, 6)} to "
+            f"{format_frequency(high_hz, 6)}, width {format_frequency(width, 5)}{fraction}, "
+            f"centre {format_frequency(centre, 6)}")

@@ -66,9 +66,15 @@ def _marker_view(m, number: int, t, previous: MarkerView | None) -> MarkerView:
                 continue  # the model does not reach this frequency
             models[name] = MappingProxyType(present.readout_cells(model_readouts[name]))
         models, model_readouts = MappingProxyType(models), MappingProxyType(model_readouts)
+    follows_text = ""
+    if m.follows is not None:
+        from refplane.session.searches import describe
+
+        follows_text = describe(m.follows)
     return MarkerView(id=m.id, number=number, trace_id=m.trace_id, colour=t.colour, visible=t.visible,
                       freq_hz=m.freq_hz, gamma=gamma, readout=readout, cells=cells, summary=summary,
-                      model_cells=models, model_readouts=model_readouts, key=key)
+                      model_cells=models, model_readouts=model_readouts, key=key,
+                      follows=m.follows, follows_text=follows_text)
 
 
 def _trace_curves(t, key: str, cache: dict) -> tuple[CurveView, ...]:
@@ -151,7 +157,23 @@ def resolve(session, previous: Scene | None = None) -> Scene:
     legend = tuple(present.legend_lines_of(traces, markers))
     return Scene(traces=traces, markers=markers, plots=plots, delta=delta, display=display,
                  band=session.band, current_trace=session.current_trace,
-                 current_marker=session.current_marker, legend=legend)
+                 current_marker=session.current_marker, legend=legend, found=_found(markers, traces))
+
+
+def _found(markers, traces) -> tuple[str, ...]:
+    """A sentence per VSWR band whose two edges are marked by following markers."""
+    names = {t.id: t.label for t in traces}
+    edges: dict[tuple[int, str], dict[str, float]] = {}
+    for m in markers:
+        if m.follows and m.follows.startswith("band-"):
+            side, _, limit = m.follows.partition(":")
+            edges.setdefault((m.trace_id, limit), {})[side] = m.freq_hz
+    out = []
+    for (tid, limit), sides in edges.items():
+        if "band-low" in sides and "band-high" in sides and tid in names:
+            out.append(present.vswr_band_sentence(names[tid], float(limit), sides["band-low"],
+                                                  sides["band-high"]))
+    return tuple(out)
 
 
 def _delta(markers, pair) -> DeltaView | None:

@@ -91,6 +91,10 @@ class MarkerView:
     """Readings of each model overlay at the marker's frequency (overlay name → readout)."""
     key: tuple = field(repr=False, default=())
     """What the view was made from (for reuse)."""
+    follows: str | None = None
+    """The search the marker follows (``session.searches`` spec), if any."""
+    follows_text: str = ""
+    """That search in words ("best match"), empty when it follows none."""
 
 
 @dataclass(frozen=True, eq=False)
@@ -163,6 +167,8 @@ class Scene:
     """The marker keys move (−1 for none)."""
     legend: tuple[str, ...]
     """The legend of a picture as text lines."""
+    found: tuple[str, ...] = ()
+    """Sentences about what marker searches found (a VSWR band's edges, width and centre)."""
 
     def trace(self, trace_id: int) -> TraceView:
         """The view of a trace (KeyError for an unknown id)."""

@@ -280,6 +280,10 @@ class MainWindow(QMainWindow):
         markers.addAction("Remove current marker", self._remove_current_marker)
         markers.addAction("Remove all markers", self.state.clear_markers)
         markers.addAction("Copy marker table", self.marker_table.copy_to_clipboard)
+        markers.addSeparator()
+        from refplane.views.find_menu import fill_find_menu
+
+        self.find_menu = fill_find_menu(markers.addMenu("Find"), self.state, self, self._say_found)
 
         self.tools_menu = bar.addMenu("&Tools")
         self.tools_menu.menuAction().setVisible(False)  # shown once a tool is added
@@ -677,6 +681,11 @@ class MainWindow(QMainWindow):
     def _focus_marker_entry(self) -> None:
         self.docks["Markers"].show()
         self.marker_table.entry.setFocus()
+
+    def _say_found(self, text: str) -> None:
+        """Report a search from the menu: in the marker panel (kept) and the status bar."""
+        self.docks["Markers"].show()
+        self.marker_table._say(text)
 
     def _remove_current_marker(self) -> None:
         if self.state.current_marker != -1:

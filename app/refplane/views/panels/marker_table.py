@@ -34,6 +34,11 @@ class MarkerTable(QWidget):
         self.message.setObjectName("hint")
         quiet_label(self.message)
         self.message.setWordWrap(True)
+        # What band searches found (edges, width, centre); follows the markers as they move.
+        self.found = QLabel("")
+        self.found.setObjectName("found")
+        self.found.setWordWrap(True)
+        self.found.setTextInteractionFlags(Qt.TextSelectableByMouse)
         self.table = QTableWidget(0, 0)
         self.table.setEditTriggers(QAbstractItemView.NoEditTriggers)
         self.table.setSelectionMode(QAbstractItemView.ContiguousSelection)
@@ -59,7 +64,12 @@ class MarkerTable(QWidget):
         row.addWidget(self.add_button)
         self.find_button = QPushButton("Find")
         self.find_button.setToolTip("Place markers where the current trace has its best match, "
-                                    "a resonance, its largest |Z| or a VSWR band edge")
+                                    "its resonances, its largest |Z| or the edges of a VSWR band")
+        from refplane.views.find_menu import fill_find_menu
+        from PySide6.QtWidgets import QMenu
+
+        self.find_menu = fill_find_menu(QMenu(self.find_button), state, self, self._say)
+        self.find_button.setMenu(self.find_menu)
         row.addWidget(self.find_button)
         row.addStretch(1)
         row.addWidget(self.remove_button)
@@ -76,8 +86,10 @@ class MarkerTable(QWidget):
         layout.addLayout(row)
         layout.addLayout(row2)
         layout.addWidget(self.message)
+        layout.addWidget(self.found)
         layout.addWidget(self.table, 1)
         self.message.hide()
+        self.found.hide()
 
         self._ids: list[int] = []
         self._cols: list[str] = []
@@ -97,7 +109,7 @@ class MarkerTable(QWidget):
         bind(self, state.offsetsChanged, lambda _id: self.rebuild())
         bind(self, state.overlaysChanged, lambda _id: self.rebuild())
         bind(self, state.markerMoving, self.refresh_marker)
-        bind(self, state.markerMoved, lambda _id: self.table.resizeColumnsToContents())
+        bind(self, state.markerMoved, self._on_marker_moved)
         bind(self, state.currentMarkerChanged, self._select_current)
         self.rebuild()
 
@@ -183,7 +195,8 @@ class MarkerTable(QWidget):
         self.table.setRowCount(len(markers) + (1 if show_delta else 0) + len(self._model_rows))
         self.table.setHorizontalHeaderLabels(self._cols)
         numbers = {m.id: str(m.number) for m in markers}
-        rows = ([numbers[m.id] for m in markers] + (["Difference"] if show_delta else [])
+        headers = {m.id: f"{m.number} · {m.follows_text}" if m.follows_text else str(m.number) for m in markers}
+        rows = ([headers[m.id] for m in markers] + (["Difference"] if show_delta else [])
                 + [f"{numbers[mid]} model" for mid, _name in self._model_rows])
         self.table.setVerticalHeaderLabels(rows)
         for m in markers:
@@ -202,6 +215,8 @@ class MarkerTable(QWidget):
         self._fill_delta()
         self._select_current(self.state.current_marker)
         self.table.resizeColumnsToContents()
+        self.found.setText("\n".join(scene.found))
+        self.found.setVisible(bool(scene.found))
 
     def refresh_marker(self, marker_id: int) -> None:
         if marker_id not in self._ids:
@@ -223,6 +238,13 @@ class MarkerTable(QWidget):
                     self._set(first + i, col, cells.get(label, "—" if label != "Trace" else ""),
                               left=(label == "Trace"))
         self._fill_delta()
+
+    def _on_marker_moved(self, _marker_id: int) -> None:
+        self.table.resizeColumnsToContents()
+        found = "\n".join(self.state.scene().found)
+        if found != self.found.text():
+            self.found.setText(found)
+            self.found.setVisible(bool(found))
 
     def _set(self, row: int, col: int, text: str, left: bool = False) -> None:
         item = self.table.item(row, col)
