@@ -60,6 +60,16 @@ def file_digest(path: str | os.PathLike) -> tuple[int, str]:
     return size, h.hexdigest()
 
 
+def _memory_json(memory) -> dict | None:
+    """The stored trace inline (it is a snapshot, not a file: it may differ from every file)."""
+    if memory is None:
+        return None
+    g = memory.sweep.s[:, 0, 0]
+    return {"name": memory.name, "z0_ohm": float(memory.sweep.z0_ohm[0].real),
+            "freq_hz": _finite_list(memory.sweep.freq_hz), "re": _finite_list(g.real),
+            "im": _finite_list(g.imag)}
+
+
 def _relative(path: str, folder: Path) -> str:
     try:
         return os.path.relpath(os.path.abspath(path), folder)
@@ -131,6 +141,7 @@ def session_document(session, path: str | os.PathLike) -> dict:
         "current_trace": index.get(session.current_trace),
         "current_marker": m_index.get(session.current_marker),
         "display": display,
+        "memory": _memory_json(session.memory),
         "fit": {"band_text": fit.band_text, "model": fit.model, "measurement": fit.measurement,
                 "overlay_trace": index.get(fit.overlay_trace) if fit.overlay_trace is not None else None},
         "calibration": {
@@ -328,6 +339,16 @@ def _check(doc: dict, file: str) -> dict:
             c.flag(display[key], f"display.{key}")
     if "vswr_circle" in display:
         c.num(display["vswr_circle"], "display.vswr_circle", null=True)
+    if "chart_z0_ohm" in display:
+        c.num(display["chart_z0_ohm"], "display.chart_z0_ohm", null=True)
+    memory = doc.get("memory")
+    if memory is not None:
+        memory = c.obj(memory, "memory")
+        c.text(memory.get("name", ""), "memory.name")
+        c.num(memory.get("z0_ohm"), "memory.z0_ohm")
+        lengths = {len(c.lst(memory.get(k), f"memory.{k}", max_len=10_000_000)) for k in ("freq_hz", "re", "im")}
+        if len(lengths) != 1:
+            c.fail("memory", "freq_hz, re and im must have the same length")
     for key, size in (("chart_view", 4), ("delta_markers", 2)):
         value = display.get(key)
         if value is not None:
@@ -523,6 +544,19 @@ def build_session(doc: SessionDocument, sweeps: Mapping[int, object], session=No
                         measurement=fit.get("measurement", "reflection"), overlay_trace=overlay)
     except AnalysisError as exc:
         raise AnalysisError(f"fit: {exc}", file=doc.path) from None
+    if data.get("memory") is not None:
+        mem = data["memory"]
+        try:
+            f = np.asarray(mem["freq_hz"], float)
+            g = np.asarray(mem["re"], float) + 1j * np.asarray(mem["im"], float)
+            from refplane.session.model import Memory
+
+            session.set_memory(Memory(sweep=Sweep(freq_hz=f, s=g.reshape(-1, 1, 1),
+                                                  z0_ohm=np.array([complex(mem["z0_ohm"])]),
+                                                  name=mem.get("name", "memory")),
+                                      name=mem.get("name", "memory")))
+        except (AnalysisError, ValueError) as exc:
+            notes.append(f"the stored trace could not be restored ({exc})")
     cal = data.get("calibration", {})
     session.set_calibration(
         standards={r: _resolve_path(p, folder) for r, p in cal.get("standards", {}).items()},

@@ -108,6 +108,17 @@ class Marker:
 
 
 @dataclass(frozen=True)
+class Memory:
+    """A stored trace (trace memory): a snapshot of one trace's reflection, kept as it was so a
+    later state of the same device (corrected, tuned) can be shown relative to it."""
+
+    sweep: Sweep
+    """The stored reflection as a 1-port sweep (frequencies, Γ, reference impedance)."""
+    name: str
+    """What it was stored from ("before · S11")."""
+
+
+@dataclass(frozen=True)
 class DisplayOptions:
     """How the work is shown: plots, axes, chart grid and view, colours."""
 
@@ -127,6 +138,8 @@ class DisplayOptions:
     """Chart zoom as (x0, x1, y0, y1) in Γ units; ``None`` shows the whole chart."""
     delta_markers: tuple[int, int] | None = None
     """Markers (a, b) of the difference row b − a; ``None`` takes the last two placed."""
+    chart_z0_ohm: float | None = None
+    """Reference impedance the chart, plots and readings use (e.g. 75 Ω); ``None``: each file's own."""
 
 
 @dataclass(frozen=True)
@@ -209,6 +222,8 @@ class Session:
     """The fit settings changed."""
     calibrationChanged = Signal()
     """The calibration inputs changed."""
+    memoryChanged = Signal()
+    """A trace was stored as the memory, or the memory was cleared."""
 
     def __init__(self, parent: object | None = None):
         # ``parent`` is accepted (and ignored) so code written for the old Qt model still runs.
@@ -222,6 +237,8 @@ class Session:
         self._display = DisplayOptions()
         self._fit = FitSettings()
         self._calibration = CalibrationInputs()
+        self._memory: Memory | None = None
+        self._viewed: dict[int, tuple] = {}
         self._scene = None
         self._last_scene = None
         self._unfollowed: set[int] = set()
@@ -229,7 +246,7 @@ class Session:
         for name in ("tracesChanged", "traceChanged", "offsetsChanged", "overlaysChanged",
                      "velocityFactorsChanged", "currentTraceChanged", "markersChanged",
                      "markerMoving", "currentMarkerChanged", "bandChanging", "bandChanged",
-                     "displayChanged", "fitSettingsChanged", "calibrationChanged"):
+                     "displayChanged", "fitSettingsChanged", "calibrationChanged", "memoryChanged"):
             getattr(self, name).connect(self._stale, priority=1000)
 
     def _stale(self) -> None:
@@ -279,6 +296,7 @@ class Session:
         """Close a trace and the markers on it."""
         self._get(trace_id)
         del self._traces[trace_id]
+        self._viewed.pop(trace_id, None)
         gone = [m for m in self._markers.values() if m.trace_id == trace_id]
         for m in gone:
             del self._markers[m.id]
@@ -312,6 +330,22 @@ class Session:
     def displayed(self, trace_id: int) -> Sweep:
         """The sweep drawn and read for a trace (offsets removed)."""
         return self._get(trace_id).displayed
+
+    def viewed(self, trace_id: int) -> Sweep:
+        """The sweep as the window shows and reads it: :meth:`displayed`, referred to the chart's
+        reference impedance when one is chosen (``display.chart_z0_ohm``)."""
+        sweep = self._get(trace_id).displayed
+        z0 = self._display.chart_z0_ohm
+        if z0 is None:
+            return sweep
+        hit = self._viewed.get(trace_id)
+        if hit is not None and hit[0] is sweep and hit[1] == z0:
+            return hit[2]
+        from refplane.analysis.trace_math import renormalize
+
+        viewed = renormalize(sweep, z0)
+        self._viewed[trace_id] = (sweep, z0, viewed)
+        return viewed
 
     def set_name(self, trace_id: int, name: str) -> None:
         """Rename a trace."""
@@ -471,7 +505,7 @@ class Session:
 
             counts = {"series": 0, "parallel": 0}
             specs = []
-            for r in find_resonances(t.displayed, t.port):
+            for r in find_resonances(self.viewed(trace_id), t.port):
                 counts[r.kind] += 1
                 specs.append(f"{r.kind}-resonance:{counts[r.kind]}")
         elif what == "band":
@@ -480,7 +514,7 @@ class Session:
             specs = [what]
         else:
             raise AnalysisError(f"unknown marker search {what!r}")
-        found = [(spec, searches.run(t.displayed, t.port, spec)) for spec in specs]
+        found = [(spec, searches.run(self.viewed(trace_id), t.port, spec)) for spec in specs]
         if any(f is None for _spec, f in found):
             return []
         ids = []
@@ -506,7 +540,7 @@ class Session:
 
         t = self._get(trace_id)
         for m in following:
-            f = run(t.displayed, t.port, m.follows)
+            f = run(self.viewed(trace_id), t.port, m.follows)
             if f is None:
                 continue  # the feature went away (no band at this limit now): stay put
             f = self._clamp(trace_id, f)
@@ -584,6 +618,35 @@ class Session:
         """The reflection coefficient at the marker (for drawing it on the chart)."""
         return self.scene().marker(marker_id).gamma
 
+    # ------------------------------------------------------------------ memory
+    @property
+    def memory(self) -> Memory | None:
+        """The stored trace, or ``None``."""
+        return self._memory
+
+    def store_memory(self, trace_id: int) -> None:
+        """Store a trace's reflection, as it is now shown, as the memory (replacing any)."""
+        t = self._get(trace_id)
+        v = self.viewed(trace_id)
+        p = t.port
+        one = Sweep(freq_hz=v.freq_hz.copy(), s=v.s[:, p - 1, p - 1].reshape(-1, 1, 1).copy(),
+                    z0_ohm=v.z0_ohm[p - 1:p].copy(), name=f"memory of {t.name}")
+        from refplane.session.present import trace_label
+
+        self.set_memory(Memory(sweep=one, name=trace_label(t.name, p)))
+
+    def set_memory(self, memory: Memory | None) -> None:
+        """Set (or with ``None`` clear) the stored trace."""
+        if memory is not None and memory.sweep.n_ports != 1:
+            raise AnalysisError("a stored trace is a 1-port reflection")
+        if memory is not self._memory:
+            self._memory = memory
+            self.memoryChanged.emit()
+
+    def clear_memory(self) -> None:
+        """Forget the stored trace."""
+        self.set_memory(None)
+
     # -------------------------------------------------------------------- band
     @property
     def band(self) -> tuple[float, float] | None:
@@ -636,6 +699,11 @@ class Session:
                 changes[key] = (x0, x1, y0, y1)
             if key == "delta_markers" and value is not None:
                 changes[key] = (int(value[0]), int(value[1]))
+            if key == "chart_z0_ohm" and value is not None:
+                value = float(value)
+                if not (math.isfinite(value) and value > 0):
+                    raise AnalysisError("a chart reference impedance must be a positive number of ohms")
+                changes[key] = value
         old = self._display
         new = replace(old, **{k: (bool(v) if k in ("log_frequency", "admittance_grid") else v)
                               for k, v in changes.items()})
@@ -645,6 +713,10 @@ class Session:
         for key in changes:
             if getattr(old, key) != getattr(new, key):
                 self.displayChanged.emit(key)
+        if old.chart_z0_ohm != new.chart_z0_ohm:
+            # VSWR and return loss are read against the new reference: searches move.
+            for tid in list(self._traces):
+                self._refollow(tid)
 
     # -------------------------------------------------------------------- fit
     @property

@@ -59,6 +59,8 @@ class TraceView:
     """The file the sweep came from, if any."""
     record: object = field(repr=False, default=None)
     """The session's :class:`~refplane.session.model.Trace` this was made from (for reuse)."""
+    sweep: object = field(repr=False, default=None)
+    """The sweep drawn and read (``Session.viewed``: offsets removed, chart reference applied)."""
 
 
 @dataclass(frozen=True, eq=False)
@@ -146,6 +148,18 @@ class DeltaView:
 
 
 @dataclass(frozen=True, eq=False)
+class MemoryView:
+    """The stored trace (trace memory) as drawn on the chart."""
+
+    name: str
+    """What it was stored from ("before · S11")."""
+    freq_hz: np.ndarray
+    """Its frequencies."""
+    gamma: np.ndarray
+    """Its reflection, against the chart's reference impedance."""
+
+
+@dataclass(frozen=True, eq=False)
 class Scene:
     """Everything the session shows, frozen: traces, markers, plots, legend, options."""
 
@@ -169,6 +183,10 @@ class Scene:
     """The legend of a picture as text lines."""
     found: tuple[str, ...] = ()
     """Sentences about what marker searches found (a VSWR band's edges, width and centre)."""
+    memory: MemoryView | None = None
+    """The stored trace, when one is stored."""
+    chart_z0_ohm: float | None = None
+    """The reference impedance chosen for the chart and readings; ``None``: each file's own."""
 
     def trace(self, trace_id: int) -> TraceView:
         """The view of a trace (KeyError for an unknown id)."""

@@ -258,6 +258,7 @@ class MainWindow(QMainWindow):
         self.admittance_action.toggled.connect(self.chart.set_admittance_grid)
         self.vswr_action = view.addAction("Constant-VSWR circle…", self.ask_vswr)
         view.addAction("Reset chart view", self.chart.reset_view).setShortcut(QKeySequence("Ctrl+0"))
+        self.chart_z0_action = view.addAction("Chart reference impedance…", self.ask_chart_z0)
         self.log_action = view.addAction("Log frequency axis")
         self.log_action.setCheckable(True)
         self.log_action.setChecked(self.state.display.log_frequency)
@@ -274,6 +275,8 @@ class MainWindow(QMainWindow):
             group.addAction(action)
             self.theme_actions[key] = action
         self._panels_menu = view.addMenu("Panels")
+
+        self._build_traces_menu(bar)
 
         markers = bar.addMenu("&Markers")
         markers.addAction("Add marker at a frequency…", self._focus_marker_entry).setShortcut(QKeySequence("Ctrl+M"))
@@ -292,6 +295,74 @@ class MainWindow(QMainWindow):
         help_menu.addAction("Working safely…", self.show_safety)
         help_menu.addAction("Using the window…", self.show_usage)
         help_menu.addAction("About Refplane…", self.show_about)
+
+    def _build_traces_menu(self, bar) -> None:
+        traces = bar.addMenu("T&races")
+        self.store_memory_action = traces.addAction("Store current trace as memory", self.store_memory)
+        self.store_memory_action.setShortcut(QKeySequence("Ctrl+Shift+M"))
+        self.forget_memory_action = traces.addAction("Forget the memory", self.state.clear_memory)
+        traces.addSeparator()
+        self.relative_db_action = traces.addAction(
+            "Show relative to memory (dB and degrees)",
+            lambda: self.state.set_display(upper_plot="memory_db", lower_plot="memory_deg"))
+        self.relative_ratio_action = traces.addAction(
+            "Show divided by memory",
+            lambda: self.state.set_display(upper_plot="memory_ratio", lower_plot="memory_deg"))
+        self.plain_plots_action = traces.addAction(
+            "Show return loss and R, X again",
+            lambda: self.state.set_display(upper_plot="return_loss", lower_plot="r_x"))
+        traces.addSeparator()
+        self.close_trace_action = traces.addAction("Close current trace", self.close_current_trace)
+        self.close_trace_action.setShortcut(QKeySequence("Ctrl+W"))
+        self.traces_menu = traces
+        bind(self, self.state.memoryChanged, self._on_memory_changed)
+        bind(self, self.state.currentTraceChanged, lambda _tid: self._on_memory_changed())
+        self._on_memory_changed()
+
+    def _on_memory_changed(self) -> None:
+        has_trace = self.state.current_trace != -1
+        has_memory = self.state.memory is not None
+        self.store_memory_action.setEnabled(has_trace)
+        self.close_trace_action.setEnabled(has_trace)
+        for action in (self.forget_memory_action, self.relative_db_action, self.relative_ratio_action):
+            action.setEnabled(has_memory)
+        if has_memory:
+            self.forget_memory_action.setText(f"Forget the memory ({self.state.memory.name})")
+        else:
+            self.forget_memory_action.setText("Forget the memory")
+
+    def store_memory(self) -> None:
+        """Store the current trace as the memory (Traces ▸ Store current trace as memory)."""
+        if self.state.current_trace == -1:
+            self.statusBar().showMessage("Open a sweep first: the current trace is what is stored.", 5000)
+            return
+        self.state.store_memory(self.state.current_trace)
+        self.statusBar().showMessage(
+            f"Stored {self.state.memory.name} as the memory; Traces ▸ Show relative to memory compares "
+            "the traces with it.", 8000)
+
+    def close_current_trace(self) -> None:
+        if self.state.current_trace != -1:
+            self.state.remove_trace(self.state.current_trace)
+
+    def ask_chart_z0(self) -> None:
+        """Ask for the chart's reference impedance (blank: each file's own)."""
+        from refplane.analysis.errors import AnalysisError
+        from refplane.analysis.units import parse_resistance
+
+        current = self.state.display.chart_z0_ohm
+        text, ok = QInputDialog.getText(
+            self, "Chart reference impedance",
+            "Reference impedance of the chart, plots and readings, e.g. 75 Ω.\n"
+            "Leave empty to use each file's own (usually 50 Ω).",
+            text="" if current is None else f"{current:g} Ω")
+        if not ok:
+            return
+        try:
+            value = parse_resistance(text) if text.strip() else None
+            self.state.set_display(chart_z0_ohm=value)
+        except AnalysisError as exc:
+            self.show_error("Not a reference impedance", str(exc))
 
     def _on_display_changed(self, name: str) -> None:
         d = self.state.display

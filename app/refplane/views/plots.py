@@ -201,6 +201,7 @@ class FrequencyPlot(QWidget):
         bind(self, state.bandChanging, self._on_band_changed)
         bind(self, state.bandChanged, self._on_band_changed)
         bind(self, state.displayChanged, self._on_display_changed)
+        bind(self, state.memoryChanged, self.schedule_redraw)
         self.log_x = state.display.log_frequency
         if self.log_x:
             self.plot.setLogMode(x=True, y=False)
@@ -234,6 +235,8 @@ class FrequencyPlot(QWidget):
             self.redraw()
         elif name == "log_frequency":
             self._set_log_x(self.state.display.log_frequency)
+        elif name == "chart_z0_ohm":
+            self.schedule_redraw()
 
     def set_log_x(self, log_x: bool) -> None:
         """Logarithmic or linear frequency axis (a session display option, shared by both plots)."""

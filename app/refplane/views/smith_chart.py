@@ -457,6 +457,8 @@ class SmithChart(QWidget):
         bind(self, state.markerMoving, self._on_marker_moving)
         bind(self, state.currentMarkerChanged, self._on_current_marker)
         bind(self, state.displayChanged, self._on_display_changed)
+        bind(self, state.memoryChanged, self._on_memory_changed)
+        self._memory: TraceItem | None = None
         self.view.sigRangeChanged.connect(self._on_range_changed)
         self.view.sigRangeChangedManually.connect(self._on_zoomed_by_hand)
         scene = self.plot.scene()
@@ -506,6 +508,13 @@ class SmithChart(QWidget):
                 self.vswr_circle.set_circle(*smith_grid.vswr_circle(d.vswr_circle))
         elif name == "chart_view" and not self._applying_view:
             self._show_range(d.chart_view)
+        elif name == "chart_z0_ohm":
+            # Every curve moves to the new chart centre.
+            for tid in list(self._traces):
+                self._on_trace_changed(tid)
+                self._on_overlays_changed(tid)
+            self._on_markers_changed()
+            self._on_memory_changed()
 
     def _show_range(self, view: tuple[float, float, float, float] | None) -> None:
         x0, x1, y0, y1 = view if view is not None else (-HOME, HOME, -HOME, HOME)
@@ -536,6 +545,7 @@ class SmithChart(QWidget):
             m.update()
         for tid in list(self._traces):
             self._on_trace_changed(tid)  # faded and model curves take the theme's colours
+        self._on_memory_changed()
 
     def trace_item(self, trace_id: int) -> TraceItem:
         """The item drawing a trace (for tests and export)."""
@@ -578,6 +588,8 @@ class SmithChart(QWidget):
         yield from self._traces.values()
         yield from self._raw.values()
         yield from self._overlays.values()
+        if getattr(self, "_memory", None) is not None:
+            yield self._memory
 
     def _on_range_changed(self, *_args) -> None:
         ux, uy = self.view.viewPixelSize()
@@ -679,6 +691,21 @@ class SmithChart(QWidget):
             g = ov.gamma
             self._overlays[key].set_data(g.real, g.imag)
             self._overlays[key].setVisible(t.visible)
+
+    def _on_memory_changed(self) -> None:
+        """Draw the stored trace (trace memory) as a thin dashed curve in the theme's muted colour."""
+        memory = self.state.scene().memory
+        if memory is None:
+            if self._memory is not None:
+                self.plot.removeItem(self._memory)
+                self._memory = None
+            return
+        if self._memory is None:
+            self._memory = TraceItem(self.theme.muted, width=1.3, dashed=True, ends=False)
+            self._memory.setZValue(7)
+            self._add_trace_item(self._memory)
+        self._memory.set_style(self.theme.muted, width=1.3, dashed=True)
+        self._memory.set_data(memory.gamma.real, memory.gamma.imag)
 
     def _on_markers_changed(self) -> None:
         scene = self.state.scene()

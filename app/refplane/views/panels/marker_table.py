@@ -101,7 +101,7 @@ class MarkerTable(QWidget):
         self.clear_button.clicked.connect(state.clear_markers)
         self.delta_a.currentIndexChanged.connect(lambda _i: self._on_delta_chosen())
         self.delta_b.currentIndexChanged.connect(lambda _i: self._on_delta_chosen())
-        bind(self, state.displayChanged, lambda name: name == "delta_markers" and self._fill_delta())
+        bind(self, state.displayChanged, self._on_display_changed)
         self.table.currentCellChanged.connect(self._on_current_cell)
         bind(self, state.markersChanged, self.rebuild)
         bind(self, state.tracesChanged, self.rebuild)
@@ -215,8 +215,12 @@ class MarkerTable(QWidget):
         self._fill_delta()
         self._select_current(self.state.current_marker)
         self.table.resizeColumnsToContents()
-        self.found.setText("\n".join(scene.found))
-        self.found.setVisible(bool(scene.found))
+        lines = list(scene.found)
+        if scene.chart_z0_ohm is not None:
+            lines.insert(0, f"Readings against {scene.chart_z0_ohm:g} Ω, the chart's reference "
+                            "(View ▸ Chart reference impedance…).")
+        self.found.setText("\n".join(lines))
+        self.found.setVisible(bool(lines))
 
     def refresh_marker(self, marker_id: int) -> None:
         if marker_id not in self._ids:
@@ -239,9 +243,20 @@ class MarkerTable(QWidget):
                               left=(label == "Trace"))
         self._fill_delta()
 
+    def _on_display_changed(self, name: str) -> None:
+        if name == "delta_markers":
+            self._fill_delta()
+        elif name == "chart_z0_ohm":
+            self.rebuild()  # every reading is now against the chart's reference
+
     def _on_marker_moved(self, _marker_id: int) -> None:
         self.table.resizeColumnsToContents()
-        found = "\n".join(self.state.scene().found)
+        scene = self.state.scene()
+        lines = list(scene.found)
+        if scene.chart_z0_ohm is not None:
+            lines.insert(0, f"Readings against {scene.chart_z0_ohm:g} Ω, the chart's reference "
+                            "(View ▸ Chart reference impedance…).")
+        found = "\n".join(lines)
         if found != self.found.text():
             self.found.setText(found)
             self.found.setVisible(bool(found))
