@@ -129,6 +129,9 @@ def session_document(session, path: str | os.PathLike) -> dict:
     display["delta_markers"] = ([m_index[d.delta_markers[0]], m_index[d.delta_markers[1]]]
                                 if d.delta_markers and all(m in m_index for m in d.delta_markers) else None)
     display["chart_view"] = list(d.chart_view) if d.chart_view else None
+    for key in ("upper_view", "lower_view"):
+        display[key] = list(getattr(d, key)) if getattr(d, key) else None
+    display["log_y"] = list(d.log_y)
     fit = session.fit
     cal = session.calibration
     return {
@@ -349,7 +352,10 @@ def _check(doc: dict, file: str) -> dict:
         lengths = {len(c.lst(memory.get(k), f"memory.{k}", max_len=10_000_000)) for k in ("freq_hz", "re", "im")}
         if len(lengths) != 1:
             c.fail("memory", "freq_hz, re and im must have the same length")
-    for key, size in (("chart_view", 4), ("delta_markers", 2)):
+    if "log_y" in display:
+        for j, v in enumerate(c.lst(display["log_y"], "display.log_y")):
+            c.text(v, f"display.log_y[{j}]")
+    for key, size in (("chart_view", 4), ("delta_markers", 2), ("upper_view", 4), ("lower_view", 4)):
         value = display.get(key)
         if value is not None:
             value = c.lst(value, f"display.{key}")
@@ -526,8 +532,9 @@ def build_session(doc: SessionDocument, sweeps: Mapping[int, object], session=No
     pair = display.get("delta_markers")
     display["delta_markers"] = (tuple(marker_ids[k] for k in pair)
                                 if pair and all(k in marker_ids for k in pair) else None)
-    if display.get("chart_view") is not None:
-        display["chart_view"] = tuple(display["chart_view"])
+    for key in ("chart_view", "upper_view", "lower_view", "log_y"):
+        if display.get(key) is not None:
+            display[key] = tuple(display[key])
     try:
         session.set_display(**display)
     except AnalysisError as exc:

@@ -32,6 +32,9 @@ from refplane.analysis.sweep import Sweep
 PALETTE = ("#0072B2", "#D55E00", "#009E73", "#CC79A7", "#E69F00", "#56B4E9", "#F0E442")
 LOW_CONTRAST_ON_LIGHT = frozenset({"#F0E442"})
 
+#: Plot quantities that may be drawn on a logarithmic y axis (they are positive and span decades).
+LOG_Y_QUANTITIES = ("vswr", "z_mag", "memory_ratio")
+
 #: Plot quantities a session may choose (keys of :data:`refplane.session.plot_series.BY_KEY`).
 THEMES = ("light", "dark")
 
@@ -140,6 +143,12 @@ class DisplayOptions:
     """Markers (a, b) of the difference row b − a; ``None`` takes the last two placed."""
     chart_z0_ohm: float | None = None
     """Reference impedance the chart, plots and readings use (e.g. 75 Ω); ``None``: each file's own."""
+    log_y: tuple[str, ...] = ()
+    """Plot quantities drawn on a logarithmic y axis (only those in :data:`LOG_Y_QUANTITIES`)."""
+    upper_view: tuple[float, float, float, float] | None = None
+    """Upper plot zoom as (f0_hz, f1_hz, y0, y1) in the quantity's units; ``None`` fits the visible traces."""
+    lower_view: tuple[float, float, float, float] | None = None
+    """Lower plot zoom as (f0_hz, f1_hz, y0, y1); ``None`` fits the visible traces."""
 
 
 @dataclass(frozen=True)
@@ -699,6 +708,18 @@ class Session:
                 changes[key] = (x0, x1, y0, y1)
             if key == "delta_markers" and value is not None:
                 changes[key] = (int(value[0]), int(value[1]))
+            if key == "log_y":
+                value = tuple(str(k) for k in (value or ()))
+                bad = [k for k in value if k not in LOG_Y_QUANTITIES]
+                if bad:
+                    raise AnalysisError(f"{bad[0]!r} cannot be drawn on a log scale; "
+                                        f"only {', '.join(LOG_Y_QUANTITIES)}")
+                changes[key] = tuple(sorted(set(value)))
+            if key in ("upper_view", "lower_view") and value is not None:
+                f0, f1, y0, y1 = (float(v) for v in value)
+                if not all(math.isfinite(v) for v in (f0, f1, y0, y1)) or f1 <= f0 or y1 <= y0:
+                    raise AnalysisError("a plot view needs f0 < f1 and y0 < y1")
+                changes[key] = (f0, f1, y0, y1)
             if key == "chart_z0_ohm" and value is not None:
                 value = float(value)
                 if not (math.isfinite(value) and value > 0):
