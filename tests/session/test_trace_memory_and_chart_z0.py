@@ -93,3 +93,27 @@ def test_memory_and_chart_reference_survive_a_session_file(tmp_path):
     assert again.display.chart_z0_ohm == 75.0 and again.memory.name == s.memory.name
     np.testing.assert_allclose(again.memory.sweep.s, s.memory.sweep.s, atol=1e-12)
     assert again.scene().same_as(s.scene())
+
+
+def test_undo_brings_back_a_closed_trace_and_removed_markers():
+    s = Session()
+    a = s.add_sweep(resistor_with_leads(), name="a")
+    b = s.add_sweep(resistor_with_leads(), name="b")
+    m1, m2, m3 = s.add_marker(a, 100e6), s.add_marker(b, 200e6), s.add_marker(a, 300e6)
+    before = s.scene()
+    s.remove_trace(a)
+    assert s.undo_text() == "close a" and len(s.markers()) == 1
+    assert s.undo() == "close a"
+    after = s.scene()
+    assert [t.name for t in after.traces] == ["a", "b"]
+    assert [(m.id, m.number, m.freq_hz) for m in after.markers] == \
+        [(m.id, m.number, m.freq_hz) for m in before.markers]
+    s.remove_marker(m2)
+    assert s.undo_text() == "remove marker 2"
+    s.undo()
+    assert [m.id for m in s.markers()] == [m1, m2, m3]
+    s.clear_markers()
+    s.clear()
+    assert s.undo() == "close all traces" and len(s.traces()) == 2 and s.markers() == []
+    assert s.undo() == "remove all markers" and len(s.markers()) == 3
+    assert s.undo() is None

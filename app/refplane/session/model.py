@@ -233,6 +233,8 @@ class Session:
     """The calibration inputs changed."""
     memoryChanged = Signal()
     """A trace was stored as the memory, or the memory was cleared."""
+    undoChanged = Signal()
+    """What :meth:`undo` would undo changed."""
 
     def __init__(self, parent: object | None = None):
         # ``parent`` is accepted (and ignored) so code written for the old Qt model still runs.
@@ -251,6 +253,7 @@ class Session:
         self._scene = None
         self._last_scene = None
         self._unfollowed: set[int] = set()
+        self._undo: list[tuple[str, object]] = []
         # Any change makes the cached Scene stale; it is resolved again when next asked for.
         for name in ("tracesChanged", "traceChanged", "offsetsChanged", "overlaysChanged",
                      "velocityFactorsChanged", "currentTraceChanged", "markersChanged",
@@ -301,9 +304,10 @@ class Session:
     def _sort(self) -> None:
         self._traces = dict(sorted(self._traces.items(), key=lambda kv: (kv[1].order, kv[0])))
 
-    def remove_trace(self, trace_id: int) -> None:
-        """Close a trace and the markers on it."""
-        self._get(trace_id)
+    def remove_trace(self, trace_id: int, *, undoable: bool = True) -> None:
+        """Close a trace and the markers on it (:meth:`undo` brings both back)."""
+        t = self._get(trace_id)
+        undo = self._trace_undo(t) if undoable else None
         del self._traces[trace_id]
         self._viewed.pop(trace_id, None)
         gone = [m for m in self._markers.values() if m.trace_id == trace_id]
@@ -318,11 +322,76 @@ class Session:
             self.markersChanged.emit()
         if self._current_trace == trace_id:
             self.set_current_trace(next(iter(self._traces), -1))
+        if undo is not None:
+            self._push_undo(f"close {t.name}", undo)
 
-    def clear(self) -> None:
-        """Close every trace."""
+    def clear(self, *, undoable: bool = True) -> None:
+        """Close every trace (one step of :meth:`undo` brings them all back)."""
+        undos = [self._trace_undo(t) for t in self._traces.values()] if undoable else []
         for tid in list(self._traces):
-            self.remove_trace(tid)
+            self.remove_trace(tid, undoable=False)
+        if undos:
+            def restore_all():
+                for u in undos:
+                    u()
+            self._push_undo("close all traces", restore_all)
+
+    # ------------------------------------------------------------------- undo
+    #: How many steps :meth:`undo` can go back.
+    UNDO_DEPTH = 50
+
+    def _push_undo(self, text: str, restore) -> None:
+        self._undo.append((text, restore))
+        del self._undo[:-self.UNDO_DEPTH]
+        self.undoChanged.emit()
+
+    def forget_undo(self) -> None:
+        """Drop every undo step (opening another session starts a new history)."""
+        if self._undo:
+            self._undo.clear()
+            self.undoChanged.emit()
+
+    def undo_text(self) -> str | None:
+        """What :meth:`undo` would undo ("close before.s1p", "remove marker 3"), or None."""
+        return self._undo[-1][0] if self._undo else None
+
+    def undo(self) -> str | None:
+        """Undo the last closing of traces or removal of markers; returns what was undone."""
+        if not self._undo:
+            return None
+        text, restore = self._undo.pop()
+        restore()
+        self.undoChanged.emit()
+        return text
+
+    def _trace_undo(self, t: Trace):
+        markers = [m for m in self._markers.values() if m.trace_id == t.id]
+        carried_fit = self._fit.overlay_trace == t.id
+        current = self._current_trace == t.id
+
+        def restore():
+            if t.id in self._traces:
+                return
+            self._traces[t.id] = t  # ids are never reused, so the old one is free
+            self._sort()
+            self.tracesChanged.emit()
+            if carried_fit and self._fit.overlay_trace is None:
+                self.set_fit(overlay_trace=t.id)
+            self._restore_markers(markers)
+            if current or self._current_trace == -1:
+                self.set_current_trace(t.id)
+        return restore
+
+    def _restore_markers(self, markers) -> None:
+        markers = [m for m in markers if m.trace_id in self._traces and m.id not in self._markers]
+        if not markers:
+            return
+        for m in markers:
+            self._markers[m.id] = m
+        # Marker ids grow in placing order: sorting by id puts each back at its number.
+        self._markers = dict(sorted(self._markers.items()))
+        self.markersChanged.emit()
+        self._set_current_marker(markers[-1].id)
 
     def trace(self, trace_id: int) -> Trace:
         """The current snapshot of a trace (KeyError for an unknown id)."""
@@ -497,6 +566,13 @@ class Session:
                 self.markersChanged.emit()
         return f
 
+    def unfollow_marker(self, marker_id: int) -> None:
+        """Keep a marker where it is from now on (it stops following its search)."""
+        m = self._marker(marker_id)
+        if m.follows is not None:
+            self._markers[marker_id] = replace(m, follows=None)
+            self.markersChanged.emit()
+
     # ---------------------------------------------------------------- searches
     def find_markers(self, trace_id: int, what: str, *, vswr_limit: float = 2.0) -> list[int]:
         """Place markers that follow a search on a trace; returns their ids (empty: nothing found).
@@ -575,21 +651,26 @@ class Session:
         return self.move_marker(marker_id, float(freq[i]))
 
     def remove_marker(self, marker_id: int) -> None:
-        """Delete a marker."""
-        self._marker(marker_id)
+        """Delete a marker (:meth:`undo` brings it back)."""
+        m = self._marker(marker_id)
+        number = list(self._markers).index(marker_id) + 1
         del self._markers[marker_id]
         self._forget_delta(marker_id)
         self.markersChanged.emit()
         if self._current_marker == marker_id:
             self._set_current_marker(next(reversed(self._markers), -1) if self._markers else -1)
+        self._push_undo(f"remove marker {number}", lambda: self._restore_markers([m]))
 
-    def clear_markers(self) -> None:
-        """Delete every marker."""
+    def clear_markers(self, *, undoable: bool = True) -> None:
+        """Delete every marker (:meth:`undo` brings them back)."""
         if self._markers:
+            gone = list(self._markers.values())
             self._markers.clear()
             self._forget_delta(None)
             self.markersChanged.emit()
             self._set_current_marker(-1)
+            if undoable:
+                self._push_undo("remove all markers", lambda: self._restore_markers(gone))
 
     def marker(self, marker_id: int) -> Marker:
         """The current snapshot of a marker (KeyError for an unknown id)."""

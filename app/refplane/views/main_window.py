@@ -251,6 +251,12 @@ class MainWindow(QMainWindow):
         quit_action = file_menu.addAction("&Quit", self.close)
         quit_action.setShortcut(QKeySequence.Quit)
 
+        edit = bar.addMenu("&Edit")
+        self.undo_action = edit.addAction("Undo", self.undo)
+        self.undo_action.setShortcut(QKeySequence.Undo)
+        bind(self, self.state.undoChanged, self._on_undo_changed)
+        self._on_undo_changed()
+
         view = bar.addMenu("&View")
         self.admittance_action = view.addAction("Admittance grid")
         self.admittance_action.setCheckable(True)
@@ -295,6 +301,17 @@ class MainWindow(QMainWindow):
         help_menu.addAction("Working safely…", self.show_safety)
         help_menu.addAction("Using the window…", self.show_usage)
         help_menu.addAction("About Refplane…", self.show_about)
+
+    def undo(self) -> None:
+        """Edit ▸ Undo: bring back the last closed trace or removed markers."""
+        done = self.state.undo()
+        if done:
+            self.statusBar().showMessage(f"Undone: {done}", 4000)
+
+    def _on_undo_changed(self) -> None:
+        text = self.state.undo_text()
+        self.undo_action.setEnabled(text is not None)
+        self.undo_action.setText(f"Undo {text}" if text else "Undo")
 
     def _build_traces_menu(self, bar) -> None:
         traces = bar.addMenu("T&races")
@@ -559,8 +576,9 @@ class MainWindow(QMainWindow):
                     from dataclasses import replace
 
                     files[i] = replace(f, path=located, status="changed")
-        self.state.clear()
-        self.state.clear_markers()
+        self.state.clear(undoable=False)
+        self.state.clear_markers(undoable=False)
+        self.state.forget_undo()
         self.session_path = os.path.abspath(path)
         requests = {}
         self._session_load = {"doc": doc, "requests": requests, "sweeps": {}, "errors": [],

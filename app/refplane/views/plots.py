@@ -536,9 +536,46 @@ class FrequencyPlot(QWidget):
         finally:
             self._syncing_region = False
 
+    def context_menu(self, freq_hz: float | None = None):
+        """The right-click menu of the plot (at ``freq_hz`` when the click was inside it)."""
+        from PySide6.QtWidgets import QMenu
+
+        from refplane.session.model import LOG_Y_QUANTITIES
+
+        menu = QMenu(self)
+        tid = self.state.current_trace
+        add = menu.addAction("Add marker here on the current trace",
+                             lambda: self._add_marker_at(freq_hz))
+        add.setEnabled(tid != -1 and freq_hz is not None)
+        menu.addAction("Fit to the visible traces (reset zoom)", self.reset_zoom)
+        log = menu.addAction("Log scale", lambda: self.set_log_y(not self._wants_log_y()))
+        log.setCheckable(True)
+        log.setChecked(self._wants_log_y())
+        log.setEnabled(self._session_quantity() in LOG_Y_QUANTITIES)
+        if self.state.band is not None:
+            menu.addAction("Clear band", lambda: self.state.set_band(None))
+        return menu
+
+    def _add_marker_at(self, freq_hz: float | None) -> None:
+        from refplane.analysis.errors import AnalysisError
+
+        tid = self.state.current_trace
+        if tid == -1 or freq_hz is None:
+            return
+        try:
+            self.state.add_marker(tid, freq_hz)
+        except AnalysisError:
+            pass  # outside the current trace's sweep: nothing to place
+
     def _on_clicked(self, ev) -> None:
         if ev.button() == Qt.LeftButton and ev.double():
             self.reset_zoom()
+            return
+        if ev.button() == Qt.RightButton:
+            inside = self.viewbox.sceneBoundingRect().contains(ev.scenePos())
+            freq = self._freq(self.viewbox.mapSceneToView(ev.scenePos()).x()) if inside else None
+            ev.accept()
+            self.context_menu(freq).exec(ev.screenPos().toPoint())
             return
         if ev.button() != Qt.LeftButton or ev.double() or ev.modifiers() & Qt.ShiftModifier:
             return

@@ -784,6 +784,13 @@ class SmithChart(QWidget):
         return hover_text(gamma, z, z0, named)
 
     def _on_mouse_clicked(self, ev) -> None:
+        if ev.button() == Qt.RightButton:
+            p = self.view.mapSceneToView(ev.scenePos())
+            on = [i for i in self.plot.scene().items(ev.scenePos()) if isinstance(i, MarkerItem)]
+            menu = self.context_menu(complex(p.x(), p.y()), on[0].marker_id if on else None)
+            ev.accept()
+            menu.exec(ev.screenPos().toPoint())
+            return
         if ev.button() != Qt.LeftButton or ev.double():
             return
         scene_pos = ev.scenePos()
@@ -792,6 +799,32 @@ class SmithChart(QWidget):
         p = self.view.mapSceneToView(scene_pos)
         self.setFocus()
         self.add_marker_near(complex(p.x(), p.y()))
+
+    def context_menu(self, gamma: complex, marker_id: int | None = None):
+        """The right-click menu at chart position ``gamma`` (on a marker when ``marker_id`` is given)."""
+        from PySide6.QtWidgets import QMenu
+
+        menu = QMenu(self)
+        if marker_id is not None and marker_id in self._markers:
+            m = self.state.scene().marker(marker_id)
+            menu.addAction(f"Remove marker {m.number} (Ctrl+Z brings it back)",
+                           lambda: self.state.remove_marker(marker_id))
+            if m.follows:
+                menu.addAction(f"Stop following the {m.follows_text}",
+                               lambda: self.state.unfollow_marker(marker_id))
+            menu.addSeparator()
+        near = self._nearest_trace(gamma.real, gamma.imag) if abs(gamma) <= 1.0 else None
+        add = menu.addAction("Add marker here", lambda: self.add_marker_near(gamma))
+        add.setEnabled(near is not None and near[2] <= PICK_PX)
+        if self.state.current_trace != -1:
+            menu.addAction("Store current trace as memory",
+                           lambda: self.state.store_memory(self.state.current_trace))
+        menu.addSeparator()
+        grid = menu.addAction("Admittance grid", lambda: self.set_admittance_grid(not self.state.display.admittance_grid))
+        grid.setCheckable(True)
+        grid.setChecked(self.state.display.admittance_grid)
+        menu.addAction("Reset chart view", self.reset_view)
+        return menu
 
     def add_marker_near(self, gamma: complex) -> int | None:
         """Place a marker on the visible trace nearest to chart position ``gamma``, if within reach."""

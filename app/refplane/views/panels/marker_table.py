@@ -103,6 +103,9 @@ class MarkerTable(QWidget):
         self.delta_b.currentIndexChanged.connect(lambda _i: self._on_delta_chosen())
         bind(self, state.displayChanged, self._on_display_changed)
         self.table.currentCellChanged.connect(self._on_current_cell)
+        self.table.setContextMenuPolicy(Qt.CustomContextMenu)
+        self.table.customContextMenuRequested.connect(
+            lambda pos: self.context_menu(self.table.rowAt(pos.y())).exec(self.table.viewport().mapToGlobal(pos)))
         bind(self, state.markersChanged, self.rebuild)
         bind(self, state.tracesChanged, self.rebuild)
         bind(self, state.traceChanged, lambda _id: self.rebuild())
@@ -291,6 +294,28 @@ class MarkerTable(QWidget):
         self.table.verticalHeaderItem(row).setText("Δ")
         for col, label in enumerate(self._cols):
             self._set(row, col, cells.get(label, ""), left=(label == "Trace"))
+
+    def context_menu(self, row: int):
+        """The right-click menu of a row of the table (any row, or −1 for none)."""
+        from PySide6.QtWidgets import QMenu
+
+        menu = QMenu(self)
+        if 0 <= row < len(self._ids):
+            mid = self._ids[row]
+            m = self.state.scene().marker(mid)
+            menu.addAction(f"Remove marker {m.number} (Ctrl+Z brings it back)", lambda: self.state.remove_marker(mid))
+            if m.follows:
+                menu.addAction(f"Stop following the {m.follows_text}", lambda: self.state.unfollow_marker(mid))
+            others = [x for x in self.state.scene().markers if x.id != mid]
+            if others:
+                diff = menu.addMenu("Difference from this marker to")
+                for other in others:
+                    diff.addAction(f"marker {other.number}",
+                                   lambda a=mid, b=other.id: self.state.set_display(delta_markers=(a, b)))
+            menu.addSeparator()
+        menu.addAction("Copy table", self.copy_to_clipboard).setEnabled(bool(self._ids))
+        menu.addAction("Remove all markers", self.state.clear_markers).setEnabled(bool(self._ids))
+        return menu
 
     def _remove_current(self) -> None:
         if self.state.current_marker != -1:
