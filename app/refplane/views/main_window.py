@@ -804,9 +804,31 @@ class MainWindow(QMainWindow):
         QMessageBox.information(self, SAFETY_TITLE, SAFETY_HTML)
 
     def show_usage(self) -> None:
+        """Help ▸ Using the window: a scrolling page sized to fit the screen (a message box of
+        this length would run off a 768-pixel-high screen)."""
+        from PySide6.QtWidgets import QDialog, QDialogButtonBox, QTextBrowser, QVBoxLayout
+
         from refplane.views.help_text import USAGE_HTML
 
-        QMessageBox.information(self, "Using the window", USAGE_HTML)
+        dialog = getattr(self, "usage_dialog", None)
+        if dialog is None:
+            dialog = self.usage_dialog = QDialog(self)
+            dialog.setWindowTitle("Using the window")
+            browser = QTextBrowser(dialog)
+            browser.setOpenExternalLinks(False)
+            browser.setHtml(USAGE_HTML)
+            buttons = QDialogButtonBox(QDialogButtonBox.Close, parent=dialog)
+            buttons.rejected.connect(dialog.close)
+            layout = QVBoxLayout(dialog)
+            layout.addWidget(browser)
+            layout.addWidget(buttons)
+            screen = self.screen().availableGeometry() if self.screen() is not None else None
+            w, h = 640, 620
+            if screen is not None:
+                w, h = min(w, screen.width() - 40), min(h, screen.height() - 80)
+            dialog.resize(w, h)
+        dialog.show()
+        dialog.raise_()
 
     def show_about(self) -> None:
         from refplane import __version__
