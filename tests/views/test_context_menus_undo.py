@@ -87,7 +87,7 @@ def test_chart_and_plot_menus_offer_the_common_actions(window):
     _trigger(window.chart.context_menu(g), "Admittance grid")
     assert window.state.display.admittance_grid
     plot_menu = window.plots.upper.context_menu(500e6)
-    assert {"Add marker here on the current trace", "Fit to the visible traces (reset zoom)", "Log scale"} \
+    assert {"Add marker here on the current trace", "Autoscale (fit the visible traces)", "Log scale"} \
         <= set(_texts(plot_menu))
     _trigger(plot_menu, "Add marker here")
     assert window.state.markers()[-1].freq_hz == 500e6

@@ -84,7 +84,7 @@ def test_a_zoom_is_kept_in_the_session_and_reset(plots, qtbot):
     plots.upper._on_zoomed_by_hand()
     f0, f1, y0, y1 = s.display.upper_view
     assert (f0, f1) == pytest.approx((20e6, 40e6)) and (y0, y1) == pytest.approx((0, 10))
-    plots.upper.fit_button.click()
+    plots.upper.zoom_button.click()
     qtbot.wait(30)  # the linked frequency axis settles on the next turn of the event loop
     assert s.display.upper_view is None
     (x0, x1), (lo, hi) = plots.upper.viewbox.viewRange()

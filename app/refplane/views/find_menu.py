@@ -22,7 +22,8 @@ BAND_TEXT = "Band where VSWR ≤ …"
 
 
 def fill_find_menu(menu: QMenu, state: Session, parent: QWidget, say) -> QMenu:
-    """Add the searches to ``menu``; ``say(text)`` reports the outcome in a line of the window."""
+    """Add the searches to ``menu``; ``say(text, passing)`` reports the outcome in a line of the
+    window (``passing`` is true for news that need not stay on screen)."""
     for text, what, nothing in SEARCHES:
         menu.addAction(text, lambda w=what, n=nothing: run_search(state, w, say, nothing=n))
     menu.addSeparator()
@@ -49,11 +50,11 @@ def run_search(state: Session, what: str, say, *, vswr_limit: float = 2.0, nothi
     scene = state.scene()
     if what == "band":
         a, b = (scene.marker(i).number for i in ids)
-        say(f"Placed markers {a} and {b} at the band's edges; they follow it when the data change.")
+        say(f"Placed markers {a} and {b} at the band's edges; they follow it when the data change.", True)
     else:
         found = ", ".join(f"marker {scene.marker(i).number} ({scene.marker(i).follows_text})" for i in ids)
         say(f"Placed {found}; it follows the search when the data change." if len(ids) == 1 else
-            f"Placed {found}; they follow the search when the data change.")
+            f"Placed {found}; they follow the search when the data change.", True)
     return ids
 
 

@@ -60,7 +60,7 @@ against another reference (75 Ω for cable-TV work, say); leave it empty for eac
 The same impedance then sits at another place on the chart, and VSWR and return loss are
 those a 75 Ω system would see.</li>
 <li>Each plot: choose its quantity above it; <b>Log</b> gives VSWR, |Z| and ratios a
-logarithmic scale; <b>Fit</b> (or a double-click) resets its zoom to the visible traces.
+logarithmic scale; <b>Autoscale</b> (or a double-click) resets its zoom to the visible traces.
 Shift-drag, or "Pick band" then drag, chooses a band (used by the fit).
 <b>View ▸ Log frequency axis</b> or the "Log frequency" box for a logarithmic frequency axis.</li>
 <li>Right-click the chart, a plot, a marker or a table row for the common actions.</li>

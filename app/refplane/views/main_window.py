@@ -126,10 +126,12 @@ class MainWindow(QMainWindow):
         traces = self._dock("Traces", self.trace_list, Qt.LeftDockWidgetArea)
         markers = self._dock("Markers", self.marker_table, Qt.BottomDockWidgetArea)
         self.resizeDocks([traces], [330], Qt.Horizontal)
-        self.resizeDocks([markers], [210], Qt.Vertical)
+        self.resizeDocks([markers], [230], Qt.Vertical)
         self._add_tool_panels()
         # Keep the side column narrow: the chart is what the window is for.
         self.resizeDocks([traces], [340], Qt.Horizontal)
+        # A few traces fit in a short list; the panel under it gets the height.
+        self.resizeDocks([traces], [150], Qt.Vertical)
 
         self.loader.busyChanged.connect(self._on_busy)
         self.watcher = QFileSystemWatcher(self)
@@ -153,6 +155,9 @@ class MainWindow(QMainWindow):
         w = min(self.width(), max(640, available.width() - margin_w))
         h = min(self.height(), max(480, available.height() - margin_h))
         self.resize(w, h)
+        if w < 1200:
+            # On a narrow screen the side column gives up some width to the chart.
+            self.resizeDocks([self.docks["Traces"]], [300], Qt.Horizontal)
         self.move(available.x() + max(0, (available.width() - w) // 2),
                   available.y() + max(0, (available.height() - h - margin_h // 2) // 2))
 
@@ -771,10 +776,10 @@ class MainWindow(QMainWindow):
         self.docks["Markers"].show()
         self.marker_table.entry.setFocus()
 
-    def _say_found(self, text: str) -> None:
-        """Report a search from the menu: in the marker panel (kept) and the status bar."""
+    def _say_found(self, text: str, passing: bool = False) -> None:
+        """Report a search from the menu in the marker panel (news passes after a few seconds)."""
         self.docks["Markers"].show()
-        self.marker_table._say(text)
+        self.marker_table._say(text, passing)
 
     def _remove_current_marker(self) -> None:
         if self.state.current_marker != -1:

@@ -169,17 +169,17 @@ class FrequencyPlot(QWidget):
         quiet_label(self.note)
         # The note may be long ("relative to …"): it is cut rather than widening the window.
         self.note.setSizePolicy(QSizePolicy.Ignored, QSizePolicy.Preferred)
-        self.note.setAlignment(Qt.AlignRight | Qt.AlignVCenter)
+        self.note.setAlignment(Qt.AlignLeft | Qt.AlignVCenter)  # cut at its end, never its start
         self.log_y_box = QCheckBox("Log")
         self.log_y_box.setToolTip("Logarithmic value axis (VSWR, |Z| and ratios, which span decades)")
-        self.fit_button = QToolButton()
-        self.fit_button.setText("Fit")
-        self.fit_button.setToolTip("Reset this plot's zoom: fit the visible traces (double-click does the same)")
+        self.zoom_button = QToolButton()
+        self.zoom_button.setText("Autoscale")
+        self.zoom_button.setToolTip("Reset this plot's zoom: fit the visible traces (double-click does the same)")
         top = QHBoxLayout()
         top.setContentsMargins(4, 2, 4, 0)
         top.addWidget(self.chooser)
         top.addWidget(self.log_y_box)
-        top.addWidget(self.fit_button)
+        top.addWidget(self.zoom_button)
         top.addWidget(self.note, 1)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(0, 0, 0, 0)
@@ -201,7 +201,7 @@ class FrequencyPlot(QWidget):
         self._redraw_timer.timeout.connect(self.redraw)
         self.chooser.currentIndexChanged.connect(self._on_chooser)
         self.log_y_box.toggled.connect(self.set_log_y)
-        self.fit_button.clicked.connect(self.reset_zoom)
+        self.zoom_button.clicked.connect(self.reset_zoom)
         self.viewbox.sigRangeChangedManually.connect(self._on_zoomed_by_hand)
         self._applying_view = False
         self.viewbox.sigBand.connect(self._on_band_dragged)
@@ -449,6 +449,7 @@ class FrequencyPlot(QWidget):
             colour.setAlphaF(curve.alpha if curve.alpha >= 1.0 else self.theme.faded_alpha)
             self._add_curve(x, y, pg.mkPen(colour, width=curve.width, style=styles[curve.style]))
         self.note.setText(view.note)
+        self.note.setToolTip(view.note)  # the whole note, when the plot is too narrow for it
         self._sync_lines()
         self._on_band_changed()
         self.last_redraw_s = time.perf_counter() - started
@@ -547,7 +548,7 @@ class FrequencyPlot(QWidget):
         add = menu.addAction("Add marker here on the current trace",
                              lambda: self._add_marker_at(freq_hz))
         add.setEnabled(tid != -1 and freq_hz is not None)
-        menu.addAction("Fit to the visible traces (reset zoom)", self.reset_zoom)
+        menu.addAction("Autoscale (fit the visible traces)", self.reset_zoom)
         log = menu.addAction("Log scale", lambda: self.set_log_y(not self._wants_log_y()))
         log.setCheckable(True)
         log.setChecked(self._wants_log_y())

@@ -181,9 +181,23 @@ class MarkerTable(QWidget):
         QGuiApplication.clipboard().setText(self.as_tsv())
         self._say("Table copied: numbers in the units named in its first row.")
 
-    def _say(self, text: str) -> None:
+    def _say(self, text: str, passing: bool = False) -> None:
+        """Show a line above the table; ``passing`` news goes after a few seconds (it would
+        otherwise keep a row of the table out of sight on a small screen)."""
         self.message.setText(text)
         self.message.setVisible(bool(text))
+        timer = getattr(self, "_message_timer", None)
+        if timer is None:
+            from PySide6.QtCore import QTimer
+
+            # Owned by the panel: it goes when the panel goes.
+            timer = self._message_timer = QTimer(self)
+            timer.setSingleShot(True)
+            timer.timeout.connect(lambda: self._say(""))
+        if passing and text:
+            timer.start(6000)
+        else:
+            timer.stop()
 
     # ----------------------------------------------------------------- slots
     def rebuild(self) -> None:

@@ -150,10 +150,10 @@ class TraceList(QWidget):
         find = menu.addMenu("Find")
         from refplane.views.find_menu import fill_find_menu
 
-        def say(text):
+        def say(text, passing=False):
             window = self.window()
             if hasattr(window, "_say_found"):
-                window._say_found(text)
+                window._say_found(text, passing)
         self.state.set_current_trace(tid)
         fill_find_menu(find, self.state, self, say)
         menu.addSeparator()
