@@ -71,3 +71,20 @@ def test_find_button_carries_the_same_searches(window):
     monkeypatch_limit = [a for a in window.find_menu.actions() if a.text() == "Largest |Z|"][0]
     monkeypatch_limit.trigger()
     assert window.state.markers()[0].follows == "max-z"
+
+
+def test_export_marker_table_writes_csv_numbers(window, tmp_path):
+    import csv
+
+    tid = window.state.add_sweep(series_rlc())
+    window.state.find_markers(tid, "band", vswr_limit=2.0)
+    path = tmp_path / "markers.csv"
+    window.ask_table_path = lambda: str(path)
+    window.ask_export_table()
+    rows = list(csv.reader(path.read_text().splitlines()))
+    header, low, high, diff = rows[0], rows[1], rows[2], rows[3]
+    col = next(i for i, h in enumerate(header) if h.startswith("Frequency"))
+    # Plain numbers a spreadsheet sums: the difference row is high − low (common practice).
+    assert float(diff[col]) == pytest.approx(float(high[col]) - float(low[col]))
+    # Never overwrites without being asked.
+    assert window.export_table(str(path)) is None

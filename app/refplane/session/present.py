@@ -141,11 +141,12 @@ def hover_text(gamma: complex, z_ohm: complex, z0_ohm: float,
         text = "z = ∞ (open)"
     else:
         zn = z_ohm / z0_ohm
-        text = (f"z = {zn.real:.3f} {'+' if zn.imag >= 0 else '−'} j{abs(zn.imag):.3f}    "
-                f"Z = {z_ohm.real:.2f} {'+' if z_ohm.imag >= 0 else '−'} j{abs(z_ohm.imag):.2f} Ω  "
+        text = (f"z = {zn.real:.3f} {'+' if zn.imag >= 0 else '−'} j{abs(zn.imag):.3f}   "
+                f"Z = {z_ohm.real:.2f} {'+' if z_ohm.imag >= 0 else '−'} j{abs(z_ohm.imag):.2f} Ω "
                 f"(ref. {z0_ohm:g} Ω)")
     if near is not None:
-        text += f"    ·    {format_frequency(near[1], 6)} on {near[0]}"
+        # On a line of its own: on a narrow chart one long line would lose its end.
+        text = f"{text}\n{format_frequency(near[1], 6)} on {near[0]}"
     return text
 
 

@@ -47,7 +47,7 @@ file is reloaded they move to where the search now finds it. Moving one by hand,
 right-click ▸ Stop following, leaves it where it is.</li>
 <li>The table's <b>Difference</b> row is marker b − marker a (choose them above the table).
 <b>Copy table</b> puts plain numbers on the clipboard for a spreadsheet, units in the first
-row.</li>
+row; <b>File ▸ Export marker table…</b> writes the same as a CSV file.</li>
 </ul>
 
 <h4>Chart and plots</h4>

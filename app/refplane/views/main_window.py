@@ -251,6 +251,7 @@ class MainWindow(QMainWindow):
         file_menu.addSeparator()
         file_menu.addAction("Save chart picture…", lambda: self.ask_export("chart"))
         file_menu.addAction("Save plots picture…", lambda: self.ask_export("plots"))
+        file_menu.addAction("Export marker table…", self.ask_export_table)
         file_menu.addSeparator()
         file_menu.addAction("Close all traces", self.state.clear)
         quit_action = file_menu.addAction("&Quit", self.close)
@@ -683,6 +684,40 @@ class MainWindow(QMainWindow):
             ev.acceptProposedAction()
 
     # ================================================================ export
+    def ask_table_path(self) -> str | None:
+        """Ask where to write the marker table (a method so tests can replace the dialog)."""
+        path, _ = QFileDialog.getSaveFileName(self, "Export marker table",
+                                              in_last_folder("tables", "markers.csv"),
+                                              "CSV, comma-separated (*.csv)")
+        if path:
+            remember_folder("tables", path)
+        return path or None
+
+    def ask_export_table(self) -> None:
+        """File ▸ Export marker table…: the table as CSV numbers, as Copy table puts them."""
+        if not self.state.markers():
+            self.statusBar().showMessage("No markers yet: place one (click a trace, or Markers ▸ Find) first.", 6000)
+            return
+        path = self.ask_table_path()
+        if not path:
+            return
+        if not os.path.splitext(path)[1]:
+            path += ".csv"
+        self.export_table(path, overwrite=True)  # the save dialog has asked before replacing
+
+    def export_table(self, path: str, *, overwrite: bool = False) -> str | None:
+        """Write the marker table as CSV (units in the header row, plain numbers)."""
+        from refplane.analysis.errors import AnalysisError
+        from refplane.analysis.fileio import write_text_atomic
+
+        try:
+            written = write_text_atomic(path, self.marker_table.as_tsv(delimiter=","), overwrite=overwrite)
+        except (AnalysisError, OSError) as exc:
+            self.show_error("The marker table could not be written", str(exc))
+            return None
+        self.statusBar().showMessage(f"Wrote {written}", 5000)
+        return str(written)
+
     def ask_save_path(self, title: str, suggested: str) -> str | None:
         """Ask where to save a picture (a method so tests can replace the dialog)."""
         path, _ = QFileDialog.getSaveFileName(self, title, in_last_folder("pictures", suggested),

@@ -370,6 +370,27 @@ class VswrCircleItem(pg.PlotCurveItem):
         self.setVisible(True)
 
 
+class ElidedLabel(QLabel):
+    """A label of fixed lines that ends a line wider than itself with "…" rather than cutting
+    a word in half (its text stays whole)."""
+
+    def paintEvent(self, ev) -> None:  # noqa: N802 (Qt's name)
+        from PySide6.QtCore import QRect
+        from PySide6.QtGui import QPainter
+
+        rect = self.contentsRect()
+        metrics = self.fontMetrics()
+        painter = QPainter(self)
+        painter.setPen(self.palette().color(self.foregroundRole()))
+        y = rect.top()
+        for line in self.text().split("\n"):
+            text = metrics.elidedText(line, Qt.ElideRight, rect.width())
+            painter.drawText(QRect(rect.left(), y, rect.width(), metrics.height()),
+                             int(Qt.AlignLeft | Qt.AlignVCenter), text)
+            y += metrics.height()
+        painter.end()
+
+
 class ChartView(pg.GraphicsView):
     """A graphics view holding one view box and nothing else (the chart has no axes or menu).
 
@@ -416,14 +437,15 @@ class SmithChart(QWidget):
         self.vswr_circle = VswrCircleItem(theme)
         self.vswr_circle.setVisible(False)
         self.plot.addItem(self.vswr_circle)
-        self.hover = QLabel(" ")
+        self.hover = ElidedLabel(" ")
         self.hover.setObjectName("hover")
         quiet_label(self.hover)
         self.hover.setTextInteractionFlags(Qt.TextSelectableByMouse)
-        # A fixed place: one line high, as wide as the chart whatever it says. (Sized by its
-        # text, the line pushed the splitter sideways as the cursor moved.)
+        # A fixed place: two lines high (the reading, then the nearest trace point), as wide as
+        # the chart whatever it says. (Sized by its text, the line pushed the splitter sideways
+        # as the cursor moved.)
         self.hover.setSizePolicy(QSizePolicy.Ignored, QSizePolicy.Fixed)
-        self.hover.setFixedHeight(self.hover.fontMetrics().height() + 6)
+        self.hover.setFixedHeight(2 * self.hover.fontMetrics().height() + 6)
         self.hover.setWordWrap(False)
         self.hover.setContentsMargins(6, 0, 6, 0)
         from refplane.views.help_text import EMPTY_WINDOW_TEXT

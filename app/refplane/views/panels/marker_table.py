@@ -164,9 +164,10 @@ class MarkerTable(QWidget):
         return {label: self.table.item(row, col).text() for col, label in enumerate(self._cols)
                 if self.table.item(row, col) is not None and self.table.item(row, col).text()}
 
-    def as_tsv(self) -> str:
+    def as_tsv(self, delimiter: str = "\t") -> str:
         """The table as tab-separated numbers a spreadsheet computes with: units in the header
-        row, one quantity per column, plain ASCII minus, no thousands separators."""
+        row, one quantity per column, plain ASCII minus, no thousands separators
+        (``delimiter=","`` gives the same as CSV)."""
         from refplane.session.present import difference_values, sheet_rows, sheet_text
 
         scene = self.state.scene()
@@ -175,7 +176,7 @@ class MarkerTable(QWidget):
             a, b = scene.marker(scene.delta.a), scene.marker(scene.delta.b)
             rows.append(("Difference", scene.delta.label, difference_values(a.readout, b.readout)))
         rows += [(f"{m.number} model", name, r) for m in scene.markers for name, r in m.model_readouts.items()]
-        return sheet_text(sheet_rows(rows))
+        return sheet_text(sheet_rows(rows), delimiter=delimiter)
 
     def copy_to_clipboard(self) -> None:
         QGuiApplication.clipboard().setText(self.as_tsv())
