@@ -65,6 +65,7 @@ def test_find_menu_places_markers_that_follow(window, qtbot, monkeypatch):
 
 
 def test_find_button_carries_the_same_searches(window):
+    window.marker_table.find_menu.aboutToShow.emit()  # filled when first opened
     texts = [a.text() for a in window.marker_table.find_button.menu().actions() if a.text()]
     assert texts == [a.text() for a in window.find_menu.actions() if a.text()]
     window.state.add_sweep(series_rlc(r_ohm=200.0))

@@ -627,11 +627,19 @@ class SmithChart(QWidget):
         return item
 
     def _style_empty_note(self) -> None:
-        # On the chart's own background (not the window's): text in the theme's text colour
-        # on a plate of the chart colour, so the grid does not run through the words.
-        self.empty_note.setStyleSheet(
-            f"QLabel#emptyNote {{ color: {self.theme.text}; background: {self.theme.chart_bg};"
-            f" border: 1px solid {self.theme.grid_major}; border-radius: 6px; padding: 10px; }}")
+        # On a plate of the chart's own colour, framed, so the grid does not run through the
+        # words. (The palette, not a style sheet: a style sheet sends the widget through Qt's
+        # slower styling path, which start-up pays for.)
+        from PySide6.QtGui import QColor, QPalette
+
+        note = self.empty_note
+        pal = note.palette()
+        pal.setColor(QPalette.Window, QColor(self.theme.chart_bg))
+        pal.setColor(QPalette.WindowText, QColor(self.theme.text))
+        note.setPalette(pal)
+        note.setAutoFillBackground(True)
+        note.setFrameShape(QLabel.Box)
+        note.setMargin(10)
 
     def resizeEvent(self, ev) -> None:  # noqa: N802 (Qt's name)
         super().resizeEvent(ev)

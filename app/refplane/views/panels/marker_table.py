@@ -65,10 +65,11 @@ class MarkerTable(QWidget):
         self.find_button = QPushButton("Find")
         self.find_button.setToolTip("Place markers where the current trace has its best match, "
                                     "its resonances, its largest |Z| or the edges of a VSWR band")
-        from refplane.views.find_menu import fill_find_menu
         from PySide6.QtWidgets import QMenu
 
-        self.find_menu = fill_find_menu(QMenu(self.find_button), state, self, self._say)
+        # Filled when first opened: start-up does not pay for a menu nobody has opened yet.
+        self.find_menu = QMenu(self.find_button)
+        self.find_menu.aboutToShow.connect(self._fill_find_menu)
         self.find_button.setMenu(self.find_menu)
         row.addWidget(self.find_button)
         row.addStretch(1)
@@ -260,6 +261,12 @@ class MarkerTable(QWidget):
                     self._set(first + i, col, cells.get(label, "—" if label != "Trace" else ""),
                               left=(label == "Trace"))
         self._fill_delta()
+
+    def _fill_find_menu(self) -> None:
+        if not self.find_menu.actions():
+            from refplane.views.find_menu import fill_find_menu
+
+            fill_find_menu(self.find_menu, self.state, self, self._say)
 
     def _on_display_changed(self, name: str) -> None:
         if name == "delta_markers":
