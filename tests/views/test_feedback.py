@@ -183,3 +183,20 @@ def test_the_fitted_curve_is_drawn_over_its_trace_with_contrasting_dashes(window
     dashed = [i for i in window.plots.upper.curve_items()
               if i.opts["pen"].color().name() == window.theme.model_outline]
     assert len(dashed) == 1 and dashed[0].opts["pen"].dashPattern()
+
+
+def test_controls_that_cannot_act_say_why(window):
+    table = window.marker_table
+    assert not table.remove_button.isEnabled() and "No marker yet" in table.remove_button.toolTip()
+    assert "Needs two markers" in table.delta_a.toolTip()
+    assert not window.plots.clear_band.isEnabled() and "No band chosen" in window.plots.clear_band.toolTip()
+    assert "Open a sweep first" in window.panel("Reference plane").toolTip()
+    tid = window.state.add_sweep(resistor_with_leads())
+    window.state.add_marker(tid, 100e6)
+    assert table.remove_button.isEnabled() and "No marker" not in table.remove_button.toolTip()
+    assert window.panel("Reference plane").toolTip() == ""
+    # Pressed with nothing to act on, Add marker and Find say what is missing.
+    window.state.remove_trace(tid)
+    table.entry.setText("470 MHz")
+    table.add_from_entry()
+    assert "Open a sweep first" in table.message.text()

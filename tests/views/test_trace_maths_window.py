@@ -66,3 +66,16 @@ def test_a_75_ohm_chart_from_the_view_menu(window, monkeypatch):
     monkeypatch.setattr(QInputDialog, "getText", lambda *a, **k: ("minus five", True))
     window.chart_z0_action.trigger()
     assert window.errors and window.state.display.chart_z0_ohm is None
+
+
+def test_a_picture_says_what_the_memory_and_chart_reference_are(window, tmp_path):
+    from refplane.views.render import ChartPicture
+
+    tid = window.state.add_sweep(resistor_with_leads())
+    window.state.store_memory(tid)
+    window.state.set_display(chart_z0_ohm=75.0)
+    window.state.find_markers(tid, "best-match")
+    picture = ChartPicture(window.state)
+    text = picture.legend_html()
+    assert "thin dashed: " in text and "against 75 Ω" in text
+    picture.deleteLater()

@@ -273,6 +273,18 @@ def legend_lines_of(traces, markers) -> list[str]:
     return lines
 
 
+def picture_notes(memory_name: str | None, chart_z0_ohm: float | None, found: Sequence[str] = ()) -> list[str]:
+    """Lines a picture adds under its legend: the stored trace, the chart's reference, searches."""
+    lines = []
+    if memory_name is not None:
+        lines.append(f"thin dashed: memory of {memory_name}" if not memory_name.startswith("memory")
+                     else f"thin dashed: {memory_name}")
+    if chart_z0_ohm is not None:
+        lines.append(f"chart and readings against {chart_z0_ohm:g} Ω")
+    lines += list(found)
+    return lines
+
+
 def mapping_text(cells: Mapping[str, str]) -> str:
     """Cells as "label value" pairs on one line, for status bars and tooltips."""
     return ", ".join(f"{k} {v}" for k, v in cells.items())

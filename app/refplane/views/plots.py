@@ -691,5 +691,7 @@ class CompanionPlots(QWidget):
 
         band = self.state.band
         self.clear_band.setEnabled(band is not None)
+        self.clear_band.setToolTip("Forget the selected band" if band is not None else
+                                   "No band chosen: Shift-drag across a plot, or Pick band then drag")
         self.band_label.setText(
             "" if band is None else f"Band {format_frequency(band[0], 5)} – {format_frequency(band[1], 5)}")

@@ -229,8 +229,16 @@ class MarkerTable(QWidget):
             combo.setCurrentIndex(combo.findData(chosen) if chosen is not None else -1)
             combo.setEnabled(show_delta)
             combo.blockSignals(False)
-        for button in (self.remove_button, self.clear_button, self.copy_button):
+        # A control that cannot act says why in its tooltip (shown on a disabled control too).
+        why = "" if markers else "No marker yet: click near a trace, type a frequency, or use Find. "
+        for button, does in ((self.remove_button, "Remove the current marker (Ctrl+Z brings it back)"),
+                             (self.clear_button, "Remove every marker (Ctrl+Z brings them back)"),
+                             (self.copy_button, "Copy every cell as numbers for a spreadsheet")):
             button.setEnabled(bool(markers))
+            button.setToolTip(why + ("" if markers else "(") + does + ("" if markers else ")"))
+        for combo in (self.delta_a, self.delta_b):
+            combo.setToolTip("The difference row shows marker b − marker a" if show_delta
+                             else "Needs two markers")
         self._fill_delta()
         self._select_current(self.state.current_marker)
         self.table.resizeColumnsToContents()

@@ -480,6 +480,8 @@ class OffsetsPanel(QWidget):
                        self.z0_edit, self.slider, self.step_combo, self.reset_button,
                        self.reset_all_button, self.save_button, self.estimate_button):
             widget.setEnabled(enabled)
+        # Said where a disabled control is pointed at: why it cannot act yet.
+        self.setToolTip("" if enabled else "Open a sweep first: the panel edits the current trace")
         self.trace_label.setText(self.state.trace(self.trace_id).name if enabled else "no trace open")
         self.trace_label.setToolTip(self.trace_label.text())
         self._refresh_fields()
