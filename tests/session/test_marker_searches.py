@@ -139,3 +139,24 @@ def test_following_markers_survive_a_session_file(tmp_path):
     assert notes == []
     assert [m.follows for m in again.markers()] == ["band-low:3", "band-high:3"]
     assert again.scene().found == s.scene().found
+
+
+def test_a_hand_edited_search_in_a_session_file_is_refused_clearly(tmp_path):
+    import json
+
+    from refplane.analysis.errors import AnalysisError
+    from refplane.analysis.loading import read_sweep
+    from refplane.session.files import open_session, save_session
+
+    from model_sweeps import write_sweep
+
+    path = write_sweep(series_rlc(n=201), tmp_path / "rlc.s1p")
+    s = Session()
+    tid = s.add_sweep(read_sweep(path))
+    s.find_markers(tid, "best-match")
+    saved = save_session(s, tmp_path / "work.refplane")
+    doc = json.loads(saved.read_text())
+    doc["markers"][0]["follows"] = "nearest"
+    saved.write_text(json.dumps(doc))
+    with pytest.raises(AnalysisError, match=r"markers\[0\]\.follows"):
+        open_session(saved)

@@ -87,10 +87,12 @@ def test_memory_and_chart_reference_survive_a_session_file(tmp_path):
     s = Session()
     tid = s.add_sweep(read_sweep(path))
     s.store_memory(tid)
-    s.set_display(chart_z0_ohm=75.0, upper_plot="memory_db")
+    s.set_display(chart_z0_ohm=75.0, upper_plot="memory_db", lower_plot="z_mag", log_y=("z_mag",),
+                  upper_view=(10e6, 20e6, -1.0, 1.0))
     again, notes = open_session(save_session(s, tmp_path / "w.refplane"))
     assert notes == []
     assert again.display.chart_z0_ohm == 75.0 and again.memory.name == s.memory.name
+    assert again.display.log_y == ("z_mag",) and again.display.upper_view == (10e6, 20e6, -1.0, 1.0)
     np.testing.assert_allclose(again.memory.sweep.s, s.memory.sweep.s, atol=1e-12)
     assert again.scene().same_as(s.scene())
 
