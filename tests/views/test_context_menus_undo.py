@@ -91,3 +91,15 @@ def test_chart_and_plot_menus_offer_the_common_actions(window):
         <= set(_texts(plot_menu))
     _trigger(plot_menu, "Add marker here")
     assert window.state.markers()[-1].freq_hz == 500e6
+
+
+def test_find_from_a_trace_row_searches_that_trace(window):
+    a = window.state.add_sweep(series_rc(), name="a")
+    b = window.state.add_sweep(resistor_with_leads(), name="b")
+    assert window.state.current_trace == b
+    menu = window.trace_list.context_menu(0)
+    assert window.state.current_trace == b  # opening the menu changes nothing
+    find = next(a_.menu() for a_ in menu.actions() if a_.text() == "Find")
+    _trigger(find, "Best match")
+    (m,) = window.state.markers()
+    assert m.trace_id == a and window.state.current_trace == a

@@ -421,7 +421,10 @@ class Session:
             return hit[2]
         from refplane.analysis.trace_math import renormalize
 
-        viewed = renormalize(sweep, z0)
+        try:
+            viewed = renormalize(sweep, z0)
+        except AnalysisError:
+            viewed = sweep  # a complex port reference cannot be renormalised here: shown as measured
         self._viewed[trace_id] = (sweep, z0, viewed)
         return viewed
 

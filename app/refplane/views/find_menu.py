@@ -21,13 +21,22 @@ SEARCHES = (
 BAND_TEXT = "Band where VSWR ≤ …"
 
 
-def fill_find_menu(menu: QMenu, state: Session, parent: QWidget, say) -> QMenu:
+def fill_find_menu(menu: QMenu, state: Session, parent: QWidget, say, *,
+                   trace_id: int | None = None) -> QMenu:
     """Add the searches to ``menu``; ``say(text, passing)`` reports the outcome in a line of the
-    window (``passing`` is true for news that need not stay on screen)."""
+    window (``passing`` is true for news that need not stay on screen). With ``trace_id`` the
+    search runs on that trace (made current first), else on the current trace."""
+    def on_trace(run):
+        def go():
+            if trace_id is not None and trace_id in state.trace_ids():
+                state.set_current_trace(trace_id)
+            return run()
+        return go
+
     for text, what, nothing in SEARCHES:
-        menu.addAction(text, lambda w=what, n=nothing: run_search(state, w, say, nothing=n))
+        menu.addAction(text, on_trace(lambda w=what, n=nothing: run_search(state, w, say, nothing=n)))
     menu.addSeparator()
-    menu.addAction(BAND_TEXT, lambda: ask_band(state, parent, say))
+    menu.addAction(BAND_TEXT, on_trace(lambda: ask_band(state, parent, say)))
     return menu
 
 

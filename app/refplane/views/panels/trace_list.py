@@ -154,8 +154,7 @@ class TraceList(QWidget):
             window = self.window()
             if hasattr(window, "_say_found"):
                 window._say_found(text, passing)
-        self.state.set_current_trace(tid)
-        fill_find_menu(find, self.state, self, say)
+        fill_find_menu(find, self.state, self, say, trace_id=tid)
         menu.addSeparator()
         menu.addAction("Close (Ctrl+Z brings it back)", lambda: self.closeRequested.emit(tid))
         return menu
