@@ -124,7 +124,7 @@ def test_the_panel_docks_in_the_window(qtbot):
     qtbot.addWidget(window)
     fit_panel = FitPanel(window.state)
     dock = window.add_side_panel("Fit", fit_panel)
-    assert dock.widget() is fit_panel
+    assert dock.widget().widget() is fit_panel  # inside its scroll area
     tid = window.state.add_sweep(_bridged_resistor())
     assert _fit(qtbot, fit_panel)
     assert OVERLAY_NAME in window.state.trace(tid).overlays

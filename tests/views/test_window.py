@@ -244,7 +244,7 @@ def test_offsets_show_raw_faded_and_corrected(qtbot, window, files):
     x, y = window.chart.trace_item(tid).curve.getData()
     np.testing.assert_allclose(x + 1j * y, remove_offsets(read_sweep(files["r75"]), off).reflection(1))
     raw = window.chart._raw[tid]
-    assert raw.curve.opts["pen"].color().alphaF() < 0.5  # faded
+    assert raw.curve.opts["pen"].color().alphaF() == pytest.approx(window.theme.faded_alpha, abs=0.01)  # faded
     rx, ry = raw.curve.getData()
     np.testing.assert_allclose(rx + 1j * ry, read_sweep(files["r75"]).reflection(1))
 
@@ -336,12 +336,12 @@ def test_window_composes_plane_fit_and_calibration(qtbot, window):
     from refplane.views.panels.fit_panel import FitPanel
     from refplane.views.panels.offsets_panel import OffsetsPanel
 
-    assert isinstance(window.docks["Reference plane"].widget(), OffsetsPanel)
+    assert isinstance(window.panel("Reference plane"), OffsetsPanel)
     # The fit tab is built the first time it is shown.
     window.docks["Fit"].raise_()
-    qtbot.waitUntil(lambda: isinstance(window.docks["Fit"].widget(), FitPanel), timeout=2000)
-    assert window.docks["Fit"].widget().state is window.state
-    assert window.fit_panel() is window.docks["Fit"].widget()
+    qtbot.waitUntil(lambda: isinstance(window.panel("Fit"), FitPanel), timeout=2000)
+    assert window.panel("Fit").state is window.state
+    assert window.fit_panel() is window.panel("Fit")
     texts = [a.text() for a in window.tools_menu.actions()]
     assert "Calibrate from standards…" in texts
     assert window.tools_menu.menuAction().isVisible()

@@ -60,6 +60,16 @@ def file_digest(path: str | os.PathLike) -> tuple[int, str]:
     return size, h.hexdigest()
 
 
+def _memory_json(memory) -> dict | None:
+    """The stored trace inline (it is a snapshot, not a file: it may differ from every file)."""
+    if memory is None:
+        return None
+    g = memory.sweep.s[:, 0, 0]
+    return {"name": memory.name, "z0_ohm": float(memory.sweep.z0_ohm[0].real),
+            "freq_hz": _finite_list(memory.sweep.freq_hz), "re": _finite_list(g.real),
+            "im": _finite_list(g.imag)}
+
+
 def _relative(path: str, folder: Path) -> str:
     try:
         return os.path.relpath(os.path.abspath(path), folder)
@@ -119,17 +129,22 @@ def session_document(session, path: str | os.PathLike) -> dict:
     display["delta_markers"] = ([m_index[d.delta_markers[0]], m_index[d.delta_markers[1]]]
                                 if d.delta_markers and all(m in m_index for m in d.delta_markers) else None)
     display["chart_view"] = list(d.chart_view) if d.chart_view else None
+    for key in ("upper_view", "lower_view"):
+        display[key] = list(getattr(d, key)) if getattr(d, key) else None
+    display["log_y"] = list(d.log_y)
     fit = session.fit
     cal = session.calibration
     return {
         "format": FORMAT,
         "version": VERSION,
         "traces": out_traces,
-        "markers": [{"trace": index[m.trace_id], "freq_hz": m.freq_hz} for m in markers],
+        "markers": [{"trace": index[m.trace_id], "freq_hz": m.freq_hz,
+                     **({"follows": m.follows} if m.follows else {})} for m in markers],
         "band_hz": list(session.band) if session.band else None,
         "current_trace": index.get(session.current_trace),
         "current_marker": m_index.get(session.current_marker),
         "display": display,
+        "memory": _memory_json(session.memory),
         "fit": {"band_text": fit.band_text, "model": fit.model, "measurement": fit.measurement,
                 "overlay_trace": index.get(fit.overlay_trace) if fit.overlay_trace is not None else None},
         "calibration": {
@@ -302,6 +317,14 @@ def _check(doc: dict, file: str) -> dict:
         if n_traces == 0:
             c.fail(f"markers[{i}].trace", "there are no traces to place it on")
         c.num(m.get("freq_hz"), f"markers[{i}].freq_hz")
+        if m.get("follows") is not None:
+            from refplane.session.searches import parse
+
+            c.text(m["follows"], f"markers[{i}].follows")
+            try:
+                parse(m["follows"])
+            except AnalysisError as exc:
+                c.fail(f"markers[{i}].follows", str(exc))
     band = doc.get("band_hz")
     if band is not None:
         band = c.lst(band, "band_hz")
@@ -326,7 +349,20 @@ def _check(doc: dict, file: str) -> dict:
             c.flag(display[key], f"display.{key}")
     if "vswr_circle" in display:
         c.num(display["vswr_circle"], "display.vswr_circle", null=True)
-    for key, size in (("chart_view", 4), ("delta_markers", 2)):
+    if "chart_z0_ohm" in display:
+        c.num(display["chart_z0_ohm"], "display.chart_z0_ohm", null=True)
+    memory = doc.get("memory")
+    if memory is not None:
+        memory = c.obj(memory, "memory")
+        c.text(memory.get("name", ""), "memory.name")
+        c.num(memory.get("z0_ohm"), "memory.z0_ohm")
+        lengths = {len(c.lst(memory.get(k), f"memory.{k}", max_len=10_000_000)) for k in ("freq_hz", "re", "im")}
+        if len(lengths) != 1:
+            c.fail("memory", "freq_hz, re and im must have the same length")
+    if "log_y" in display:
+        for j, v in enumerate(c.lst(display["log_y"], "display.log_y")):
+            c.text(v, f"display.log_y[{j}]")
+    for key, size in (("chart_view", 4), ("delta_markers", 2), ("upper_view", 4), ("lower_view", 4)):
         value = display.get(key)
         if value is not None:
             value = c.lst(value, f"display.{key}")
@@ -511,15 +547,16 @@ def build_session(doc: SessionDocument, sweeps: Mapping[int, object], session=No
         if tid is None:
             continue
         try:
-            marker_ids[j] = session.add_marker(tid, m["freq_hz"])
+            marker_ids[j] = session.add_marker(tid, m["freq_hz"], follows=m.get("follows"))
         except AnalysisError:
             notes.append(f"marker {j + 1} at {m['freq_hz']:g} Hz lies outside its sweep now; left out")
     display = dict(data.get("display", {}))
     pair = display.get("delta_markers")
     display["delta_markers"] = (tuple(marker_ids[k] for k in pair)
                                 if pair and all(k in marker_ids for k in pair) else None)
-    if display.get("chart_view") is not None:
-        display["chart_view"] = tuple(display["chart_view"])
+    for key in ("chart_view", "upper_view", "lower_view", "log_y"):
+        if display.get(key) is not None:
+            display[key] = tuple(display[key])
     try:
         session.set_display(**display)
     except AnalysisError as exc:
@@ -536,6 +573,19 @@ def build_session(doc: SessionDocument, sweeps: Mapping[int, object], session=No
                         measurement=fit.get("measurement", "reflection"), overlay_trace=overlay)
     except AnalysisError as exc:
         raise AnalysisError(f"fit: {exc}", file=doc.path) from None
+    if data.get("memory") is not None:
+        mem = data["memory"]
+        try:
+            f = np.asarray(mem["freq_hz"], float)
+            g = np.asarray(mem["re"], float) + 1j * np.asarray(mem["im"], float)
+            from refplane.session.model import Memory
+
+            session.set_memory(Memory(sweep=Sweep(freq_hz=f, s=g.reshape(-1, 1, 1),
+                                                  z0_ohm=np.array([complex(mem["z0_ohm"])]),
+                                                  name=mem.get("name", "memory")),
+                                      name=mem.get("name", "memory")))
+        except (AnalysisError, ValueError) as exc:
+            notes.append(f"the stored trace could not be restored ({exc})")
     cal = data.get("calibration", {})
     session.set_calibration(
         standards={r: _resolve_path(p, folder) for r, p in cal.get("standards", {}).items()},

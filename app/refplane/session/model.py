@@ -32,6 +32,9 @@ from refplane.analysis.sweep import Sweep
 PALETTE = ("#0072B2", "#D55E00", "#009E73", "#CC79A7", "#E69F00", "#56B4E9", "#F0E442")
 LOW_CONTRAST_ON_LIGHT = frozenset({"#F0E442"})
 
+#: Plot quantities that may be drawn on a logarithmic y axis (they are positive and span decades).
+LOG_Y_QUANTITIES = ("vswr", "z_mag", "memory_ratio")
+
 #: Plot quantities a session may choose (keys of :data:`refplane.session.plot_series.BY_KEY`).
 THEMES = ("light", "dark")
 
@@ -101,6 +104,21 @@ class Marker:
     """The trace the marker reads."""
     freq_hz: float
     """Frequency in hertz, always inside the trace's sweep."""
+    follows: str | None = None
+    """A marker search (``session.searches`` spec, e.g. "best-match") the marker re-runs when its
+    trace's data change (offsets edited, file reloaded, port changed); ``None`` stays put.
+    Moving the marker by hand stops it following."""
+
+
+@dataclass(frozen=True)
+class Memory:
+    """A stored trace (trace memory): a snapshot of one trace's reflection, kept as it was so a
+    later state of the same device (corrected, tuned) can be shown relative to it."""
+
+    sweep: Sweep
+    """The stored reflection as a 1-port sweep (frequencies, Γ, reference impedance)."""
+    name: str
+    """What it was stored from ("before · S11")."""
 
 
 @dataclass(frozen=True)
@@ -123,6 +141,14 @@ class DisplayOptions:
     """Chart zoom as (x0, x1, y0, y1) in Γ units; ``None`` shows the whole chart."""
     delta_markers: tuple[int, int] | None = None
     """Markers (a, b) of the difference row b − a; ``None`` takes the last two placed."""
+    chart_z0_ohm: float | None = None
+    """Reference impedance the chart, plots and readings use (e.g. 75 Ω); ``None``: each file's own."""
+    log_y: tuple[str, ...] = ()
+    """Plot quantities drawn on a logarithmic y axis (only those in :data:`LOG_Y_QUANTITIES`)."""
+    upper_view: tuple[float, float, float, float] | None = None
+    """Upper plot zoom as (f0_hz, f1_hz, y0, y1) in the quantity's units; ``None`` fits the visible traces."""
+    lower_view: tuple[float, float, float, float] | None = None
+    """Lower plot zoom as (f0_hz, f1_hz, y0, y1); ``None`` fits the visible traces."""
 
 
 @dataclass(frozen=True)
@@ -207,6 +233,10 @@ class Session:
     """The calibration inputs changed."""
     toolChanged = Signal(str)
     """A tool panel's settings changed; the argument names the tool (see :mod:`session.tools`)."""
+    memoryChanged = Signal()
+    """A trace was stored as the memory, or the memory was cleared."""
+    undoChanged = Signal()
+    """What :meth:`undo` would undo changed."""
 
     def __init__(self, parent: object | None = None):
         # ``parent`` is accepted (and ignored) so code written for the old Qt model still runs.
@@ -221,13 +251,18 @@ class Session:
         self._fit = FitSettings()
         self._calibration = CalibrationInputs()
         self._tools: dict[str, object] = {}
+        self._memory: Memory | None = None
+        self._viewed: dict[int, tuple] = {}
         self._scene = None
         self._last_scene = None
+        self._unfollowed: set[int] = set()
+        self._undo: list[tuple[str, object]] = []
         # Any change makes the cached Scene stale; it is resolved again when next asked for.
         for name in ("tracesChanged", "traceChanged", "offsetsChanged", "overlaysChanged",
                      "velocityFactorsChanged", "currentTraceChanged", "markersChanged",
                      "markerMoving", "currentMarkerChanged", "bandChanging", "bandChanged",
-                     "displayChanged", "fitSettingsChanged", "calibrationChanged", "toolChanged"):
+                     "displayChanged", "fitSettingsChanged", "calibrationChanged", "toolChanged",
+                     "memoryChanged"):
             getattr(self, name).connect(self._stale, priority=1000)
 
     def _stale(self) -> None:
@@ -273,10 +308,12 @@ class Session:
     def _sort(self) -> None:
         self._traces = dict(sorted(self._traces.items(), key=lambda kv: (kv[1].order, kv[0])))
 
-    def remove_trace(self, trace_id: int) -> None:
-        """Close a trace and the markers on it."""
-        self._get(trace_id)
+    def remove_trace(self, trace_id: int, *, undoable: bool = True) -> None:
+        """Close a trace and the markers on it (:meth:`undo` brings both back)."""
+        t = self._get(trace_id)
+        undo = self._trace_undo(t) if undoable else None
         del self._traces[trace_id]
+        self._viewed.pop(trace_id, None)
         gone = [m for m in self._markers.values() if m.trace_id == trace_id]
         for m in gone:
             del self._markers[m.id]
@@ -289,11 +326,76 @@ class Session:
             self.markersChanged.emit()
         if self._current_trace == trace_id:
             self.set_current_trace(next(iter(self._traces), -1))
+        if undo is not None:
+            self._push_undo(f"close {t.name}", undo)
 
-    def clear(self) -> None:
-        """Close every trace."""
+    def clear(self, *, undoable: bool = True) -> None:
+        """Close every trace (one step of :meth:`undo` brings them all back)."""
+        undos = [self._trace_undo(t) for t in self._traces.values()] if undoable else []
         for tid in list(self._traces):
-            self.remove_trace(tid)
+            self.remove_trace(tid, undoable=False)
+        if undos:
+            def restore_all():
+                for u in undos:
+                    u()
+            self._push_undo("close all traces", restore_all)
+
+    # ------------------------------------------------------------------- undo
+    #: How many steps :meth:`undo` can go back.
+    UNDO_DEPTH = 50
+
+    def _push_undo(self, text: str, restore) -> None:
+        self._undo.append((text, restore))
+        del self._undo[:-self.UNDO_DEPTH]
+        self.undoChanged.emit()
+
+    def forget_undo(self) -> None:
+        """Drop every undo step (opening another session starts a new history)."""
+        if self._undo:
+            self._undo.clear()
+            self.undoChanged.emit()
+
+    def undo_text(self) -> str | None:
+        """What :meth:`undo` would undo ("close before.s1p", "remove marker 3"), or None."""
+        return self._undo[-1][0] if self._undo else None
+
+    def undo(self) -> str | None:
+        """Undo the last closing of traces or removal of markers; returns what was undone."""
+        if not self._undo:
+            return None
+        text, restore = self._undo.pop()
+        restore()
+        self.undoChanged.emit()
+        return text
+
+    def _trace_undo(self, t: Trace):
+        markers = [m for m in self._markers.values() if m.trace_id == t.id]
+        carried_fit = self._fit.overlay_trace == t.id
+        current = self._current_trace == t.id
+
+        def restore():
+            if t.id in self._traces:
+                return
+            self._traces[t.id] = t  # ids are never reused, so the old one is free
+            self._sort()
+            self.tracesChanged.emit()
+            if carried_fit and self._fit.overlay_trace is None:
+                self.set_fit(overlay_trace=t.id)
+            self._restore_markers(markers)
+            if current or self._current_trace == -1:
+                self.set_current_trace(t.id)
+        return restore
+
+    def _restore_markers(self, markers) -> None:
+        markers = [m for m in markers if m.trace_id in self._traces and m.id not in self._markers]
+        if not markers:
+            return
+        for m in markers:
+            self._markers[m.id] = m
+        # Marker ids grow in placing order: sorting by id puts each back at its number.
+        self._markers = dict(sorted(self._markers.items()))
+        self.markersChanged.emit()
+        self._set_current_marker(markers[-1].id)
 
     def trace(self, trace_id: int) -> Trace:
         """The current snapshot of a trace (KeyError for an unknown id)."""
@@ -310,6 +412,25 @@ class Session:
     def displayed(self, trace_id: int) -> Sweep:
         """The sweep drawn and read for a trace (offsets removed)."""
         return self._get(trace_id).displayed
+
+    def viewed(self, trace_id: int) -> Sweep:
+        """The sweep as the window shows and reads it: :meth:`displayed`, referred to the chart's
+        reference impedance when one is chosen (``display.chart_z0_ohm``)."""
+        sweep = self._get(trace_id).displayed
+        z0 = self._display.chart_z0_ohm
+        if z0 is None:
+            return sweep
+        hit = self._viewed.get(trace_id)
+        if hit is not None and hit[0] is sweep and hit[1] == z0:
+            return hit[2]
+        from refplane.analysis.trace_math import renormalize
+
+        try:
+            viewed = renormalize(sweep, z0)
+        except AnalysisError:
+            viewed = sweep  # a complex port reference cannot be renormalised here: shown as measured
+        self._viewed[trace_id] = (sweep, z0, viewed)
+        return viewed
 
     def set_name(self, trace_id: int, name: str) -> None:
         """Rename a trace."""
@@ -348,6 +469,7 @@ class Session:
         if not self._clamp_markers(trace_id) and self.markers(trace_id):
             for m in self.markers(trace_id):
                 self.markerMoving.emit(m.id)
+        self._refollow(trace_id)
 
     def set_offsets(self, trace_id: int, offsets: Sequence) -> None:
         """Set a trace's per-port reference-plane offsets (one ``LineOffset`` per port, or empty).
@@ -367,6 +489,7 @@ class Session:
         self.offsetsChanged.emit(trace_id)
         if any(m.trace_id == trace_id for m in self._markers.values()):
             self.markersChanged.emit()
+        self._refollow(trace_id)
 
     def set_velocity_factor(self, trace_id: int, port: int, vf: float | None) -> None:
         """Remember the velocity factor of the line at ``port`` of a trace (``None`` forgets it)."""
@@ -412,12 +535,20 @@ class Session:
             self.currentTraceChanged.emit(trace_id)
 
     # ----------------------------------------------------------------- markers
-    def add_marker(self, trace_id: int, freq_hz: float) -> int:
-        """Place a marker on a trace at ``freq_hz`` (refused outside the sweep) and return its id."""
+    def add_marker(self, trace_id: int, freq_hz: float, *, follows: str | None = None) -> int:
+        """Place a marker on a trace at ``freq_hz`` (refused outside the sweep) and return its id.
+
+        ``follows`` names a marker search (:mod:`refplane.session.searches`) the marker re-runs
+        whenever its trace's data change.
+        """
         self._check_inside(trace_id, freq_hz)
+        if follows is not None:
+            from refplane.session.searches import parse
+
+            parse(follows)
         mid = self._next_marker
         self._next_marker += 1
-        self._markers[mid] = Marker(id=mid, trace_id=trace_id, freq_hz=float(freq_hz))
+        self._markers[mid] = Marker(id=mid, trace_id=trace_id, freq_hz=float(freq_hz), follows=follows)
         self.markersChanged.emit()
         self._set_current_marker(mid)
         return mid
@@ -430,11 +561,85 @@ class Session:
         m = self._marker(marker_id)
         f = self._clamp(m.trace_id, freq_hz)
         if f != m.freq_hz:
-            self._markers[marker_id] = replace(m, freq_hz=f)
+            # Moved by hand: it no longer follows its search (the table says so once the move ends).
+            if m.follows is not None:
+                self._unfollowed.add(marker_id)
+            self._markers[marker_id] = replace(m, freq_hz=f, follows=None)
             self.markerMoving.emit(marker_id)
         if finished:
             self.markerMoved.emit(marker_id)
+            if marker_id in self._unfollowed:
+                self._unfollowed.discard(marker_id)
+                self.markersChanged.emit()
         return f
+
+    def unfollow_marker(self, marker_id: int) -> None:
+        """Keep a marker where it is from now on (it stops following its search)."""
+        m = self._marker(marker_id)
+        if m.follows is not None:
+            self._markers[marker_id] = replace(m, follows=None)
+            self.markersChanged.emit()
+
+    # ---------------------------------------------------------------- searches
+    def find_markers(self, trace_id: int, what: str, *, vswr_limit: float = 2.0) -> list[int]:
+        """Place markers that follow a search on a trace; returns their ids (empty: nothing found).
+
+        ``what`` is "best-match" (minimum VSWR), "max-z" (largest |Z|), "resonances" (every
+        zero of X, each marker following its own series or parallel resonance) or "band"
+        (two markers at the edges of the stretch where VSWR ≤ ``vswr_limit``). A marker that
+        already follows the same search on the trace is moved rather than duplicated.
+        """
+        from refplane.session import searches
+
+        t = self._get(trace_id)
+        if what == "resonances":
+            from refplane.analysis.antenna.resonance import find_resonances
+
+            counts = {"series": 0, "parallel": 0}
+            specs = []
+            for r in find_resonances(self.viewed(trace_id), t.port):
+                counts[r.kind] += 1
+                specs.append(f"{r.kind}-resonance:{counts[r.kind]}")
+        elif what == "band":
+            specs = list(searches.band_spec(vswr_limit))
+        elif what in ("best-match", "max-z"):
+            specs = [what]
+        else:
+            raise AnalysisError(f"unknown marker search {what!r}")
+        found = [(spec, searches.run(self.viewed(trace_id), t.port, spec)) for spec in specs]
+        if any(f is None for _spec, f in found):
+            return []
+        ids = []
+        for spec, f in found:
+            same = [m for m in self.markers(trace_id) if m.follows == spec]
+            if same:
+                self._markers[same[0].id] = replace(same[0], freq_hz=self._clamp(trace_id, f))
+                self.markerMoving.emit(same[0].id)
+                self.markerMoved.emit(same[0].id)
+                ids.append(same[0].id)
+            else:
+                ids.append(self.add_marker(trace_id, self._clamp(trace_id, f), follows=spec))
+        if ids:
+            self._set_current_marker(ids[-1])
+        return ids
+
+    def _refollow(self, trace_id: int) -> None:
+        """Run again the search of every following marker on a trace whose data changed."""
+        following = [m for m in self.markers(trace_id) if m.follows is not None]
+        if not following:
+            return
+        from refplane.session.searches import run
+
+        t = self._get(trace_id)
+        for m in following:
+            f = run(self.viewed(trace_id), t.port, m.follows)
+            if f is None:
+                continue  # the feature went away (no band at this limit now): stay put
+            f = self._clamp(trace_id, f)
+            if f != m.freq_hz:
+                self._markers[m.id] = replace(m, freq_hz=f)
+                self.markerMoving.emit(m.id)
+                self.markerMoved.emit(m.id)
 
     def step_marker(self, marker_id: int, steps: int) -> float:
         """Move a marker by ``steps`` swept points (negative = down); returns the new frequency.
@@ -453,21 +658,26 @@ class Session:
         return self.move_marker(marker_id, float(freq[i]))
 
     def remove_marker(self, marker_id: int) -> None:
-        """Delete a marker."""
-        self._marker(marker_id)
+        """Delete a marker (:meth:`undo` brings it back)."""
+        m = self._marker(marker_id)
+        number = list(self._markers).index(marker_id) + 1
         del self._markers[marker_id]
         self._forget_delta(marker_id)
         self.markersChanged.emit()
         if self._current_marker == marker_id:
             self._set_current_marker(next(reversed(self._markers), -1) if self._markers else -1)
+        self._push_undo(f"remove marker {number}", lambda: self._restore_markers([m]))
 
-    def clear_markers(self) -> None:
-        """Delete every marker."""
+    def clear_markers(self, *, undoable: bool = True) -> None:
+        """Delete every marker (:meth:`undo` brings them back)."""
         if self._markers:
+            gone = list(self._markers.values())
             self._markers.clear()
             self._forget_delta(None)
             self.markersChanged.emit()
             self._set_current_marker(-1)
+            if undoable:
+                self._push_undo("remove all markers", lambda: self._restore_markers(gone))
 
     def marker(self, marker_id: int) -> Marker:
         """The current snapshot of a marker (KeyError for an unknown id)."""
@@ -504,6 +714,35 @@ class Session:
     def marker_gamma(self, marker_id: int) -> complex:
         """The reflection coefficient at the marker (for drawing it on the chart)."""
         return self.scene().marker(marker_id).gamma
+
+    # ------------------------------------------------------------------ memory
+    @property
+    def memory(self) -> Memory | None:
+        """The stored trace, or ``None``."""
+        return self._memory
+
+    def store_memory(self, trace_id: int) -> None:
+        """Store a trace's reflection, as it is now shown, as the memory (replacing any)."""
+        t = self._get(trace_id)
+        v = self.viewed(trace_id)
+        p = t.port
+        one = Sweep(freq_hz=v.freq_hz.copy(), s=v.s[:, p - 1, p - 1].reshape(-1, 1, 1).copy(),
+                    z0_ohm=v.z0_ohm[p - 1:p].copy(), name=f"memory of {t.name}")
+        from refplane.session.present import trace_label
+
+        self.set_memory(Memory(sweep=one, name=trace_label(t.name, p)))
+
+    def set_memory(self, memory: Memory | None) -> None:
+        """Set (or with ``None`` clear) the stored trace."""
+        if memory is not None and memory.sweep.n_ports != 1:
+            raise AnalysisError("a stored trace is a 1-port reflection")
+        if memory is not self._memory:
+            self._memory = memory
+            self.memoryChanged.emit()
+
+    def clear_memory(self) -> None:
+        """Forget the stored trace."""
+        self.set_memory(None)
 
     # -------------------------------------------------------------------- band
     @property
@@ -557,6 +796,23 @@ class Session:
                 changes[key] = (x0, x1, y0, y1)
             if key == "delta_markers" and value is not None:
                 changes[key] = (int(value[0]), int(value[1]))
+            if key == "log_y":
+                value = tuple(str(k) for k in (value or ()))
+                bad = [k for k in value if k not in LOG_Y_QUANTITIES]
+                if bad:
+                    raise AnalysisError(f"{bad[0]!r} cannot be drawn on a log scale; "
+                                        f"only {', '.join(LOG_Y_QUANTITIES)}")
+                changes[key] = tuple(sorted(set(value)))
+            if key in ("upper_view", "lower_view") and value is not None:
+                f0, f1, y0, y1 = (float(v) for v in value)
+                if not all(math.isfinite(v) for v in (f0, f1, y0, y1)) or f1 <= f0 or y1 <= y0:
+                    raise AnalysisError("a plot view needs f0 < f1 and y0 < y1")
+                changes[key] = (f0, f1, y0, y1)
+            if key == "chart_z0_ohm" and value is not None:
+                value = float(value)
+                if not (math.isfinite(value) and value > 0):
+                    raise AnalysisError("a chart reference impedance must be a positive number of ohms")
+                changes[key] = value
         old = self._display
         new = replace(old, **{k: (bool(v) if k in ("log_frequency", "admittance_grid") else v)
                               for k, v in changes.items()})
@@ -566,6 +822,10 @@ class Session:
         for key in changes:
             if getattr(old, key) != getattr(new, key):
                 self.displayChanged.emit(key)
+        if old.chart_z0_ohm != new.chart_z0_ohm:
+            # VSWR and return loss are read against the new reference: searches move.
+            for tid in list(self._traces):
+                self._refollow(tid)
 
     # -------------------------------------------------------------------- fit
     @property
@@ -644,6 +904,7 @@ class Session:
             self.traceChanged.emit(trace_id)
             if "port" in changes and new.port != old.port and self.markers(trace_id):
                 self.markersChanged.emit()
+                self._refollow(trace_id)
 
     def _forget_delta(self, marker_id: int | None) -> None:
         pair = self._display.delta_markers

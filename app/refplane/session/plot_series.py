@@ -24,6 +24,8 @@ class Curve:
     """Values, one per swept frequency."""
     dashed: bool = False
     """Drawn dashed (the second curve of a pair, e.g. X beside R)."""
+    freq_hz: np.ndarray | None = None
+    """Its own frequencies, when not the sweep's (a comparison keeps only those both cover)."""
 
 
 @dataclass(frozen=True)
@@ -40,6 +42,8 @@ class Quantity:
     """Y-axis unit ("dB", "Ω", "°" or "")."""
     two_port: bool = False
     """Only offered for sweeps with two or more ports."""
+    needs_memory: bool = False
+    """Shows each trace relative to the stored trace (trace memory)."""
 
 
 QUANTITIES = (
@@ -50,15 +54,25 @@ QUANTITIES = (
     Quantity("phase", "Phase of reflection", "∠Γ", "°"),
     Quantity("s21_db", "Transmission |S21|", "|S21|", "dB", two_port=True),
     Quantity("s21_phase", "Phase of S21", "∠S21", "°", two_port=True),
+    Quantity("memory_db", "Relative to memory, dB", "Γ − memory", "dB", needs_memory=True),
+    Quantity("memory_deg", "Relative to memory, phase", "∠Γ − ∠memory", "°", needs_memory=True),
+    Quantity("memory_ratio", "Divided by memory", "|Γ ÷ memory|", "", needs_memory=True),
 )
 
 BY_KEY = {q.key: q for q in QUANTITIES}
 
 
-def curves(sweep: Sweep, port: int, key: str) -> tuple[Curve, ...]:
-    """The curves of quantity ``key`` for ``sweep``'s reflection at ``port`` (empty if not applicable)."""
+def curves(sweep: Sweep, port: int, key: str, *, memory: Sweep | None = None) -> tuple[Curve, ...]:
+    """The curves of quantity ``key`` for ``sweep``'s reflection at ``port`` (empty if not applicable).
+
+    The quantities relative to the memory need ``memory`` (a stored 1-port reflection); they
+    are computed by :func:`refplane.analysis.trace_math.relative_to` on the memory's
+    frequencies, inside the band both cover, and are empty without a memory or overlap.
+    """
     from refplane.analysis import impedance as imp
 
+    if BY_KEY[key].needs_memory:
+        return _relative(sweep, port, key, memory)
     g = sweep.reflection(port)
     z0 = sweep.z0_ohm[port - 1]
     with np.errstate(all="ignore"):
@@ -82,6 +96,25 @@ def curves(sweep: Sweep, port: int, key: str) -> tuple[Curve, ...]:
         if key == "s21_phase":
             return (Curve("∠S21", np.degrees(np.angle(s21))),)
     raise KeyError(key)
+
+
+def _relative(sweep: Sweep, port: int, key: str, memory: Sweep | None) -> tuple[Curve, ...]:
+    from refplane.analysis.errors import AnalysisError
+    from refplane.analysis.trace_math import relative_to
+
+    if memory is None:
+        return ()
+    one = Sweep(freq_hz=sweep.freq_hz, s=sweep.s[:, port - 1, port - 1].reshape(-1, 1, 1),
+                z0_ohm=sweep.z0_ohm[port - 1:port], name=sweep.name)
+    try:
+        rel = relative_to(one, memory, grid="reference")
+    except AnalysisError:
+        return ()  # no frequencies in common: nothing to show for this trace
+    if key == "memory_db":
+        return (Curve(f"Δ|S{port}{port}|", rel.difference_db[:, 0, 0], freq_hz=rel.freq_hz),)
+    if key == "memory_deg":
+        return (Curve(f"Δ∠S{port}{port}", rel.difference_deg[:, 0, 0], freq_hz=rel.freq_hz),)
+    return (Curve(f"|S{port}{port} ÷ memory|", np.abs(rel.ratio[:, 0, 0]), freq_hz=rel.freq_hz),)
 
 
 def finite_for_plot(x: np.ndarray, y: np.ndarray, log_x: bool) -> tuple[np.ndarray, np.ndarray]:

@@ -231,11 +231,12 @@ def hover_text(gamma: complex, z_ohm: complex, z0_ohm: float,
         text = "z = ∞ (open)"
     else:
         zn = z_ohm / z0_ohm
-        text = (f"z = {zn.real:.3f} {'+' if zn.imag >= 0 else '−'} j{abs(zn.imag):.3f}    "
-                f"Z = {z_ohm.real:.2f} {'+' if z_ohm.imag >= 0 else '−'} j{abs(z_ohm.imag):.2f} Ω  "
+        text = (f"z = {zn.real:.3f} {'+' if zn.imag >= 0 else '−'} j{abs(zn.imag):.3f}   "
+                f"Z = {z_ohm.real:.2f} {'+' if z_ohm.imag >= 0 else '−'} j{abs(z_ohm.imag):.2f} Ω "
                 f"(ref. {z0_ohm:g} Ω)")
     if near is not None:
-        text += f"    ·    {format_frequency(near[1], 6)} on {near[0]}"
+        # On a line of its own: on a narrow chart one long line would lose its end.
+        text = f"{text}\n{format_frequency(near[1], 6)} on {near[0]}"
     return text
 
 
@@ -365,6 +366,33 @@ def legend_lines_of(traces, markers) -> list[str]:
     return lines
 
 
+def picture_notes(memory_name: str | None, chart_z0_ohm: float | None, found: Sequence[str] = ()) -> list[str]:
+    """Lines a picture adds under its legend: the stored trace, the chart's reference, searches."""
+    lines = []
+    if memory_name is not None:
+        lines.append(f"thin dashed: memory of {memory_name}" if not memory_name.startswith("memory")
+                     else f"thin dashed: {memory_name}")
+    if chart_z0_ohm is not None:
+        lines.append(f"chart and readings against {chart_z0_ohm:g} Ω")
+    lines += list(found)
+    return lines
+
+
 def mapping_text(cells: Mapping[str, str]) -> str:
     """Cells as "label value" pairs on one line, for status bars and tooltips."""
     return ", ".join(f"{k} {v}" for k, v in cells.items())
+
+
+def vswr_band_sentence(trace_label_text: str, vswr_limit: float, low_hz: float, high_hz: float) -> str:
+    """The band where VSWR ≤ s in one line: edges, width (absolute and as a fraction) and centre.
+
+    The centre is the arithmetic mean of the edges, as band plans state it (common practice).
+    """
+    from refplane.analysis.units import format_frequency
+
+    width = high_hz - low_hz
+    centre = 0.5 * (low_hz + high_hz)
+    fraction = f" ({100.0 * width / centre:.2f} %)" if centre > 0 else ""
+    return (f"{trace_label_text}: VSWR ≤ {vswr_limit:g} from {format_frequency(low_hz, 6)} to "
+            f"{format_frequency(high_hz, 6)}, width {format_frequency(width, 5)}{fraction}, "
+            f"centre {format_frequency(centre, 6)}")

@@ -17,21 +17,46 @@ from refplane.session.scene import (CurveView, DeltaView, MarkerView, OverlayVie
 READOUT_COUNT = [0]
 
 
-def _trace_view(t, previous: TraceView | None) -> TraceView:
-    if previous is not None and previous.record is t:
+def _trace_view(t, previous: TraceView | None, session) -> TraceView:
+    sweep = session.viewed(t.id)
+    if previous is not None and previous.record is t and previous.sweep is sweep:
         return previous
-    sweep = t.displayed
+    z0_chart = session.display.chart_z0_ohm
     gamma = sweep.reflection(t.port)
-    raw = t.raw.reflection(t.port) if t.corrected else None
-    if previous is not None and previous.record is not None and previous.record.displayed is sweep \
+    raw = None
+    if t.corrected:
+        raw = t.raw.reflection(t.port)
+        if z0_chart is not None:
+            from refplane.analysis.trace_math import chart_gamma
+
+            raw = chart_gamma(raw, float(t.raw.z0_ohm[t.port - 1].real), z0_chart)
+    if previous is not None and previous.record is not None and previous.sweep is sweep \
             and previous.port == t.port:
         gamma = previous.gamma  # only name, colour or visibility changed: keep the arrays
         raw = previous.raw_gamma
-    overlays = tuple(OverlayView(name, ov.freq_hz, ov.reflection(1)) for name, ov in t.overlays.items())
+    overlays = tuple(OverlayView(name, ov.freq_hz, _on_chart(ov, z0_chart)) for name, ov in t.overlays.items())
     return TraceView(id=t.id, name=t.name, label=present.trace_label(t.name, t.port), colour=t.colour,
                      visible=t.visible, port=t.port, n_ports=sweep.n_ports,
                      z0_ohm=float(sweep.z0_ohm[t.port - 1].real), freq_hz=sweep.freq_hz, gamma=gamma,
-                     raw_gamma=raw, overlays=overlays, source=t.source, record=t)
+                     raw_gamma=raw, overlays=overlays, source=t.source, record=t, sweep=sweep)
+
+
+def _on_chart(one_port, z0_chart):
+    """A 1-port sweep's Γ against the chart's reference impedance (its own when none is chosen)."""
+    g = one_port.reflection(1)
+    if z0_chart is None:
+        return g
+    from refplane.analysis.trace_math import chart_gamma
+
+    return chart_gamma(g, float(one_port.z0_ohm[0].real), z0_chart)
+
+
+def _as_viewed(one_port, z0_chart):
+    if z0_chart is None:
+        return one_port
+    from refplane.analysis.trace_math import renormalize
+
+    return renormalize(one_port, z0_chart)
 
 
 def _read(sweep, freq_hz: float, port: int):
@@ -41,8 +66,10 @@ def _read(sweep, freq_hz: float, port: int):
     return read_points(sweep, [freq_hz], port=port)
 
 
-def _marker_view(m, number: int, t, previous: MarkerView | None) -> MarkerView:
-    key = (m, t.displayed, t.port, number, t.colour, t.visible, tuple(t.overlays.items()))
+def _marker_view(m, number: int, t, previous: MarkerView | None, session) -> MarkerView:
+    sweep = session.viewed(t.id)
+    z0_chart = session.display.chart_z0_ohm
+    key = (m, sweep, t.port, number, t.colour, t.visible, tuple(t.overlays.items()))
     if previous is not None and previous.key == key:
         return previous
     if previous is not None and previous.key[:3] == key[:3] and previous.key[6] == key[6]:
@@ -51,7 +78,7 @@ def _marker_view(m, number: int, t, previous: MarkerView | None) -> MarkerView:
             previous.readout, previous.gamma, previous.cells, previous.summary, previous.model_cells,
             previous.model_readouts)
     else:
-        readings = _read(t.displayed, m.freq_hz, t.port)
+        readings = _read(sweep, m.freq_hz, t.port)
         readout = readings.readout.at(0)
         gamma = complex(readings.gamma[0])
         cells = MappingProxyType(present.readout_cells(readout))
@@ -61,49 +88,74 @@ def _marker_view(m, number: int, t, previous: MarkerView | None) -> MarkerView:
 
         for name, overlay in t.overlays.items():
             try:
-                model_readouts[name] = _read(overlay, m.freq_hz, 1).readout.at(0)
+                model_readouts[name] = _read(_as_viewed(overlay, z0_chart), m.freq_hz, 1).readout.at(0)
             except AnalysisError:
                 continue  # the model does not reach this frequency
             models[name] = MappingProxyType(present.readout_cells(model_readouts[name]))
         models, model_readouts = MappingProxyType(models), MappingProxyType(model_readouts)
+    follows_text = ""
+    if m.follows is not None:
+        from refplane.session.searches import describe
+
+        follows_text = describe(m.follows)
     return MarkerView(id=m.id, number=number, trace_id=m.trace_id, colour=t.colour, visible=t.visible,
                       freq_hz=m.freq_hz, gamma=gamma, readout=readout, cells=cells, summary=summary,
-                      model_cells=models, model_readouts=model_readouts, key=key)
+                      model_cells=models, model_readouts=model_readouts, key=key,
+                      follows=m.follows, follows_text=follows_text)
 
 
-def _trace_curves(t, key: str, cache: dict) -> tuple[CurveView, ...]:
+def _trace_curves(t, key: str, cache: dict, session) -> tuple[CurveView, ...]:
     from refplane.session import plot_series
 
+    sweep = session.viewed(t.id)
+    memory = session.memory
+    z0_chart = session.display.chart_z0_ohm
     cache_key = (id(t), key)
     hit = cache.get(cache_key)
-    if hit is not None and hit[0] is t:
+    if hit is not None and hit[0] is t and hit[2] is sweep and hit[3] is memory:
         return hit[1]
     q = plot_series.BY_KEY[key]
     out = []
     if t.visible:
-        sweeps = [(t.displayed, 1.0)]
+        sweeps = [(sweep, 1.0)]
         if t.corrected:
-            sweeps.append((t.raw, 0.3))
-        for sweep, alpha in sweeps:
-            for curve in plot_series.curves(sweep, t.port, key):
-                out.append(CurveView(t.id, curve.label, sweep.freq_hz, curve.y, t.colour, alpha,
-                                     "dashed" if curve.dashed else "solid", 1.8 if alpha == 1.0 else 1.2))
-        if not q.two_port:
+            sweeps.append((_as_viewed_n(t.raw, z0_chart), 0.3))
+        mem = memory.sweep if memory is not None else None
+        for s, alpha in sweeps:
+            for curve in plot_series.curves(s, t.port, key, memory=mem):
+                out.append(CurveView(t.id, curve.label, curve.freq_hz if curve.freq_hz is not None else s.freq_hz,
+                                     curve.y, t.colour, alpha, "dashed" if curve.dashed else "solid",
+                                     1.8 if alpha == 1.0 else 1.2))
+        if not q.two_port and not q.needs_memory:
             for name, model in t.overlays.items():
-                for curve in plot_series.curves(model, 1, key):
+                for curve in plot_series.curves(_as_viewed(model, z0_chart), 1, key):
                     out.append(CurveView(t.id, f"{name}: {curve.label}", model.freq_hz, curve.y, t.colour,
                                          1.0, "dotted", 1.4))
     result = tuple(out)
-    cache[cache_key] = (t, result)
+    cache[cache_key] = (t, result, sweep, memory)
     return result
 
 
-def _plot_view(traces, key: str, previous: PlotView | None, cache: dict) -> PlotView:
+def _as_viewed_n(sweep, z0_chart):
+    if z0_chart is None:
+        return sweep
+    from refplane.analysis.trace_math import renormalize
+
+    return renormalize(sweep, z0_chart)
+
+
+def _plot_view(traces, key: str, previous: PlotView | None, cache: dict, session) -> PlotView:
     from refplane.session import plot_series
 
-    curves = tuple(c for t in traces for c in _trace_curves(t, key, cache))
+    curves = tuple(c for t in traces for c in _trace_curves(t, key, cache, session))
     q = plot_series.BY_KEY[key]
-    if q.two_port and traces and not curves:
+    if q.needs_memory and session.memory is None:
+        note = "store a trace first (Traces ▸ Store as memory)"
+    elif q.needs_memory and traces and not curves:
+        note = "the memory shares no frequencies with the traces"
+    elif q.needs_memory:
+        note = f"relative to {session.memory.name}"
+    elif q.two_port and traces and not curves:
         note = "needs a two-port sweep"
     elif key == "r_x" and curves:
         note = "R solid, X dashed"
@@ -139,19 +191,51 @@ def resolve(session, previous: Scene | None = None) -> Scene:
     alive = {id(t) for t in records}
     for k in [k for k in cache if k[0] not in alive]:
         del cache[k]
-    traces = tuple(_trace_view(t, prev_traces.get(t.id)) for t in records)
+    traces = tuple(_trace_view(t, prev_traces.get(t.id), session) for t in records)
     by_id = {t.id: t for t in records}
-    markers = tuple(_marker_view(m, n, by_id[m.trace_id], prev_markers.get(m.id))
+    markers = tuple(_marker_view(m, n, by_id[m.trace_id], prev_markers.get(m.id), session)
                     for n, m in enumerate(session.markers(), start=1))
     display = session.display
     prev_plots = previous.plots if previous is not None else (None, None)
-    plots = (_plot_view(records, display.upper_plot, prev_plots[0], cache),
-             _plot_view(records, display.lower_plot, prev_plots[1], cache))
+    plots = (_plot_view(records, display.upper_plot, prev_plots[0], cache, session),
+             _plot_view(records, display.lower_plot, prev_plots[1], cache, session))
     delta = _delta(markers, display.delta_markers)
     legend = tuple(present.legend_lines_of(traces, markers))
     return Scene(traces=traces, markers=markers, plots=plots, delta=delta, display=display,
                  band=session.band, current_trace=session.current_trace,
-                 current_marker=session.current_marker, legend=legend)
+                 current_marker=session.current_marker, legend=legend, found=_found(markers, traces),
+                 memory=_memory_view(session, previous), chart_z0_ohm=display.chart_z0_ohm)
+
+
+def _memory_view(session, previous):
+    from refplane.session.scene import MemoryView
+
+    memory = session.memory
+    if memory is None:
+        return None
+    z0_chart = session.display.chart_z0_ohm
+    old = previous.memory if previous is not None else None
+    if old is not None and getattr(old, "_source", None) == (memory, z0_chart):
+        return old
+    view = MemoryView(name=memory.name, freq_hz=memory.sweep.freq_hz, gamma=_on_chart(memory.sweep, z0_chart))
+    object.__setattr__(view, "_source", (memory, z0_chart))
+    return view
+
+
+def _found(markers, traces) -> tuple[str, ...]:
+    """A sentence per VSWR band whose two edges are marked by following markers."""
+    names = {t.id: t.label for t in traces}
+    edges: dict[tuple[int, str], dict[str, float]] = {}
+    for m in markers:
+        if m.follows and m.follows.startswith("band-"):
+            side, _, limit = m.follows.partition(":")
+            edges.setdefault((m.trace_id, limit), {})[side] = m.freq_hz
+    out = []
+    for (tid, limit), sides in edges.items():
+        if "band-low" in sides and "band-high" in sides and tid in names:
+            out.append(present.vswr_band_sentence(names[tid], float(limit), sides["band-low"],
+                                                  sides["band-high"]))
+    return tuple(out)
 
 
 def _delta(markers, pair) -> DeltaView | None:

@@ -59,6 +59,8 @@ class TraceView:
     """The file the sweep came from, if any."""
     record: object = field(repr=False, default=None)
     """The session's :class:`~refplane.session.model.Trace` this was made from (for reuse)."""
+    sweep: object = field(repr=False, default=None)
+    """The sweep drawn and read (``Session.viewed``: offsets removed, chart reference applied)."""
 
 
 @dataclass(frozen=True, eq=False)
@@ -91,6 +93,10 @@ class MarkerView:
     """Readings of each model overlay at the marker's frequency (overlay name → readout)."""
     key: tuple = field(repr=False, default=())
     """What the view was made from (for reuse)."""
+    follows: str | None = None
+    """The search the marker follows (``session.searches`` spec), if any."""
+    follows_text: str = ""
+    """That search in words ("best match"), empty when it follows none."""
 
 
 @dataclass(frozen=True, eq=False)
@@ -142,6 +148,18 @@ class DeltaView:
 
 
 @dataclass(frozen=True, eq=False)
+class MemoryView:
+    """The stored trace (trace memory) as drawn on the chart."""
+
+    name: str
+    """What it was stored from ("before · S11")."""
+    freq_hz: np.ndarray
+    """Its frequencies."""
+    gamma: np.ndarray
+    """Its reflection, against the chart's reference impedance."""
+
+
+@dataclass(frozen=True, eq=False)
 class Scene:
     """Everything the session shows, frozen: traces, markers, plots, legend, options."""
 
@@ -163,6 +181,12 @@ class Scene:
     """The marker keys move (−1 for none)."""
     legend: tuple[str, ...]
     """The legend of a picture as text lines."""
+    found: tuple[str, ...] = ()
+    """Sentences about what marker searches found (a VSWR band's edges, width and centre)."""
+    memory: MemoryView | None = None
+    """The stored trace, when one is stored."""
+    chart_z0_ohm: float | None = None
+    """The reference impedance chosen for the chart and readings; ``None``: each file's own."""
 
     def trace(self, trace_id: int) -> TraceView:
         """The view of a trace (KeyError for an unknown id)."""

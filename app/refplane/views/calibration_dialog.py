@@ -26,6 +26,7 @@ from PySide6.QtWidgets import (QCheckBox, QComboBox, QDialog, QFileDialog, QGrid
                                QTableWidget, QTableWidgetItem, QVBoxLayout, QWidget)
 
 from refplane.views.binding import bind
+from refplane.views.folders import in_last_folder, last_folder, remember_folder
 from refplane.analysis.errors import AnalysisError
 from refplane.session.model import PALETTE, Session
 from refplane.views.theme import LIGHT, Theme
@@ -417,9 +418,10 @@ class CalibrationDialog(QDialog):
     def _ask_standard_file(self, role: str) -> None:
         from refplane.analysis.loading import SWEEP_PATTERNS
 
-        path, _ = QFileDialog.getOpenFileName(self, dict((r, l) for r, l, _ in ROLES)[role], "",
+        path, _ = QFileDialog.getOpenFileName(self, dict((r, l) for r, l, _ in ROLES)[role], last_folder("sweeps"),
                                               f"Sweeps ({' '.join(SWEEP_PATTERNS)});;All files (*)")
         if path:
+            remember_folder("sweeps", path)
             self.set_standard_file(role, path)
 
     def set_standard_file(self, role: str, path: str, *, quiet: bool = False) -> bool:
@@ -475,9 +477,10 @@ class CalibrationDialog(QDialog):
         return standards_from_json(self._definitions, file=self._definitions_file)
 
     def _ask_load_definitions(self) -> None:
-        path, _ = QFileDialog.getOpenFileName(self, "Load standard definitions", "",
+        path, _ = QFileDialog.getOpenFileName(self, "Load standard definitions", last_folder("calibration"),
                                               "Standard definitions (*.json);;All files (*)")
         if path:
+            remember_folder("calibration", path)
             self.load_definitions(path)
 
     def load_definitions(self, path: str, *, quiet: bool = False) -> bool:
@@ -502,9 +505,10 @@ class CalibrationDialog(QDialog):
         return True
 
     def _ask_save_definitions(self) -> None:
-        path, _ = QFileDialog.getSaveFileName(self, "Save standard definitions", "standards.json",
+        path, _ = QFileDialog.getSaveFileName(self, "Save standard definitions", in_last_folder("calibration", "standards.json"),
                                               "Standard definitions (*.json)")
         if path:  # the file dialog has already asked before replacing a file
+            remember_folder("calibration", path)
             self.save_definitions(path, overwrite=True)
 
     def save_definitions(self, path: str, *, overwrite: bool = False) -> bool:
@@ -667,9 +671,10 @@ class CalibrationDialog(QDialog):
 
     # ------------------------------------------------------------------ saved error terms
     def _ask_save_terms(self) -> None:
-        path, _ = QFileDialog.getSaveFileName(self, "Save error terms", "calibration.json",
+        path, _ = QFileDialog.getSaveFileName(self, "Save error terms", in_last_folder("calibration", "calibration.json"),
                                               "Calibration (*.json)")
         if path:  # the file dialog has already asked before replacing a file
+            remember_folder("calibration", path)
             self.save_terms(path, overwrite=True)
 
     def save_terms(self, path: str, *, overwrite: bool = False) -> bool:
@@ -688,9 +693,10 @@ class CalibrationDialog(QDialog):
         return True
 
     def _ask_load_terms(self) -> None:
-        path, _ = QFileDialog.getOpenFileName(self, "Use saved error terms", "",
+        path, _ = QFileDialog.getOpenFileName(self, "Use saved error terms", last_folder("calibration"),
                                               "Calibration (*.json);;All files (*)")
         if path:
+            remember_folder("calibration", path)
             self.load_terms(path)
 
     def load_terms(self, path: str, *, quiet: bool = False) -> bool:
@@ -728,9 +734,10 @@ class CalibrationDialog(QDialog):
     def _ask_device_files(self) -> None:
         from refplane.analysis.loading import SWEEP_PATTERNS
 
-        paths, _ = QFileDialog.getOpenFileNames(self, "Device sweeps to correct", "",
+        paths, _ = QFileDialog.getOpenFileNames(self, "Device sweeps to correct", last_folder("sweeps"),
                                                 f"Sweeps ({' '.join(SWEEP_PATTERNS)});;All files (*)")
         if paths:
+            remember_folder("sweeps", paths[0])
             self.add_device_files(paths)
 
     def add_device_files(self, paths) -> None:

@@ -26,10 +26,12 @@ from typing import Callable, Sequence
 
 from PySide6.QtCore import QFileSystemWatcher, QRect, QSettings, Qt, QTimer
 from PySide6.QtGui import QAction, QActionGroup, QKeySequence
-from PySide6.QtWidgets import (QDockWidget, QFileDialog, QInputDialog, QLabel, QMainWindow,
-                               QMessageBox, QProgressBar, QPushButton, QSplitter, QWidget)
+from PySide6.QtWidgets import (QDockWidget, QFileDialog, QFrame, QInputDialog, QLabel, QMainWindow,
+                               QMessageBox, QProgressBar, QPushButton, QScrollArea, QSplitter,
+                               QWidget)
 
 from refplane.views.binding import bind
+from refplane.views.folders import in_last_folder, last_folder, remember_folder
 from refplane.views.loader import SweepLoader
 from refplane.views.workers import Workers
 from refplane.views.panels.marker_table import MarkerTable
@@ -49,6 +51,25 @@ DRAW_AT_ONCE_POINTS = 20_000
 
 def _settings() -> QSettings:
     return QSettings("Refplane", "Refplane")
+
+
+def _scrolled(widget: QWidget) -> QScrollArea:
+    """``widget`` in a frameless scroll area that scrolls up and down, never sideways.
+
+    A side panel's own minimum height (or a long line of a fit result) would otherwise set the
+    window's minimum size; in a scroll area it only sets how far the panel scrolls. Sideways
+    the panel follows the dock's width (labels wrap), so no horizontal scroll bar appears.
+    """
+    area = QScrollArea()
+    area.setObjectName("panel-scroll")
+    area.setFrameShape(QFrame.NoFrame)
+    area.setWidgetResizable(True)
+    area.setHorizontalScrollBarPolicy(Qt.ScrollBarAlwaysOff)
+    area.setWidget(widget)
+    # The dock is as wide as the panel needs (its widest control), while its height may shrink.
+    area.setMinimumWidth(widget.minimumSizeHint().width()
+                         + area.verticalScrollBar().sizeHint().width())
+    return area
 
 
 class MainWindow(QMainWindow):
@@ -105,10 +126,12 @@ class MainWindow(QMainWindow):
         traces = self._dock("Traces", self.trace_list, Qt.LeftDockWidgetArea)
         markers = self._dock("Markers", self.marker_table, Qt.BottomDockWidgetArea)
         self.resizeDocks([traces], [330], Qt.Horizontal)
-        self.resizeDocks([markers], [210], Qt.Vertical)
+        self.resizeDocks([markers], [230], Qt.Vertical)
         self._add_tool_panels()
         # Keep the side column narrow: the chart is what the window is for.
         self.resizeDocks([traces], [340], Qt.Horizontal)
+        # A few traces fit in a short list; the panel under it gets the height.
+        self.resizeDocks([traces], [150], Qt.Vertical)
 
         self.loader.busyChanged.connect(self._on_busy)
         self.watcher = QFileSystemWatcher(self)
@@ -132,14 +155,17 @@ class MainWindow(QMainWindow):
         w = min(self.width(), max(640, available.width() - margin_w))
         h = min(self.height(), max(480, available.height() - margin_h))
         self.resize(w, h)
+        if w < 1200:
+            # On a narrow screen the side column gives up some width to the chart.
+            self.resizeDocks([self.docks["Traces"]], [300], Qt.Horizontal)
         self.move(available.x() + max(0, (available.width() - w) // 2),
                   available.y() + max(0, (available.height() - h - margin_h // 2) // 2))
 
     # ================================================================ layout
-    def _dock(self, title: str, widget: QWidget, area) -> QDockWidget:
+    def _dock(self, title: str, widget: QWidget, area, *, scroll: bool = False) -> QDockWidget:
         dock = QDockWidget(title, self)
         dock.setObjectName(f"dock-{title}")
-        dock.setWidget(widget)
+        dock.setWidget(_scrolled(widget) if scroll else widget)
         dock.setFeatures(QDockWidget.DockWidgetMovable | QDockWidget.DockWidgetClosable
                          | QDockWidget.DockWidgetFloatable)
         self.addDockWidget(area, dock)
@@ -164,15 +190,21 @@ class MainWindow(QMainWindow):
         from refplane.views.panels.fit_panel import FitPanel
 
         dock = self.docks["Fit"]
-        if visible and not isinstance(dock.widget(), FitPanel):
-            placeholder = dock.widget()
-            dock.setWidget(FitPanel(self.state, workers=self.workers))
+        if visible and not isinstance(self.panel("Fit"), FitPanel):
+            area = dock.widget()
+            placeholder = area.takeWidget()
+            area.setWidget(FitPanel(self.state, workers=self.workers))
             placeholder.deleteLater()
 
     def fit_panel(self):
         """The fit panel (built now if it has not been shown yet)."""
         self._build_fit_panel(True)
-        return self.docks["Fit"].widget()
+        return self.panel("Fit")
+
+    def panel(self, title: str) -> QWidget:
+        """The panel shown in the dock called ``title`` (inside its scroll area, if it has one)."""
+        widget = self.docks[title].widget()
+        return widget.widget() if isinstance(widget, QScrollArea) else widget
 
     def _open_calibration(self) -> None:
         from refplane.views.calibration_dialog import CalibrationDialog  # imported when first used
@@ -183,9 +215,10 @@ class MainWindow(QMainWindow):
         """Add a panel in a dock, below the trace list unless ``area`` says otherwise; returns the dock.
 
         The panel appears under View ▸ Panels so it can be hidden and shown. Docks in the same
-        area are stacked; drag a dock's title to tab or float it.
+        area are stacked; drag a dock's title to tab or float it. The panel scrolls when the
+        window is too small for it (a laptop screen), so it never makes the window larger.
         """
-        return self._dock(title, widget, area)
+        return self._dock(title, widget, area, scroll=True)
 
     def add_tool_action(self, text: str, triggered: Callable[[], object], *,
                         shortcut: str | None = None) -> QAction:
@@ -218,10 +251,17 @@ class MainWindow(QMainWindow):
         file_menu.addSeparator()
         file_menu.addAction("Save chart picture…", lambda: self.ask_export("chart"))
         file_menu.addAction("Save plots picture…", lambda: self.ask_export("plots"))
+        file_menu.addAction("Export marker table…", self.ask_export_table)
         file_menu.addSeparator()
         file_menu.addAction("Close all traces", self.state.clear)
         quit_action = file_menu.addAction("&Quit", self.close)
         quit_action.setShortcut(QKeySequence.Quit)
+
+        edit = bar.addMenu("&Edit")
+        self.undo_action = edit.addAction("Undo", self.undo)
+        self.undo_action.setShortcut(QKeySequence.Undo)
+        bind(self, self.state.undoChanged, self._on_undo_changed)
+        self._on_undo_changed()
 
         view = bar.addMenu("&View")
         self.admittance_action = view.addAction("Admittance grid")
@@ -230,6 +270,7 @@ class MainWindow(QMainWindow):
         self.admittance_action.toggled.connect(self.chart.set_admittance_grid)
         self.vswr_action = view.addAction("Constant-VSWR circle…", self.ask_vswr)
         view.addAction("Reset chart view", self.chart.reset_view).setShortcut(QKeySequence("Ctrl+0"))
+        self.chart_z0_action = view.addAction("Chart reference impedance…", self.ask_chart_z0)
         self.log_action = view.addAction("Log frequency axis")
         self.log_action.setCheckable(True)
         self.log_action.setChecked(self.state.display.log_frequency)
@@ -247,11 +288,17 @@ class MainWindow(QMainWindow):
             self.theme_actions[key] = action
         self._panels_menu = view.addMenu("Panels")
 
+        self._build_traces_menu(bar)
+
         markers = bar.addMenu("&Markers")
         markers.addAction("Add marker at a frequency…", self._focus_marker_entry).setShortcut(QKeySequence("Ctrl+M"))
         markers.addAction("Remove current marker", self._remove_current_marker)
         markers.addAction("Remove all markers", self.state.clear_markers)
         markers.addAction("Copy marker table", self.marker_table.copy_to_clipboard)
+        markers.addSeparator()
+        from refplane.views.find_menu import fill_find_menu
+
+        self.find_menu = fill_find_menu(markers.addMenu("Find"), self.state, self, self._say_found)
 
         self.tools_menu = bar.addMenu("&Tools")
         self.tools_menu.menuAction().setVisible(False)  # shown once a tool is added
@@ -260,6 +307,85 @@ class MainWindow(QMainWindow):
         help_menu.addAction("Working safely…", self.show_safety)
         help_menu.addAction("Using the window…", self.show_usage)
         help_menu.addAction("About Refplane…", self.show_about)
+
+    def undo(self) -> None:
+        """Edit ▸ Undo: bring back the last closed trace or removed markers."""
+        done = self.state.undo()
+        if done:
+            self.statusBar().showMessage(f"Undone: {done}", 4000)
+
+    def _on_undo_changed(self) -> None:
+        text = self.state.undo_text()
+        self.undo_action.setEnabled(text is not None)
+        self.undo_action.setText(f"Undo {text}" if text else "Undo")
+
+    def _build_traces_menu(self, bar) -> None:
+        traces = bar.addMenu("T&races")
+        self.store_memory_action = traces.addAction("Store current trace as memory", self.store_memory)
+        self.store_memory_action.setShortcut(QKeySequence("Ctrl+Shift+M"))
+        self.forget_memory_action = traces.addAction("Forget the memory", self.state.clear_memory)
+        traces.addSeparator()
+        self.relative_db_action = traces.addAction(
+            "Show relative to memory (dB and degrees)",
+            lambda: self.state.set_display(upper_plot="memory_db", lower_plot="memory_deg"))
+        self.relative_ratio_action = traces.addAction(
+            "Show divided by memory",
+            lambda: self.state.set_display(upper_plot="memory_ratio", lower_plot="memory_deg"))
+        self.plain_plots_action = traces.addAction(
+            "Show return loss and R, X again",
+            lambda: self.state.set_display(upper_plot="return_loss", lower_plot="r_x"))
+        traces.addSeparator()
+        self.close_trace_action = traces.addAction("Close current trace", self.close_current_trace)
+        self.close_trace_action.setShortcut(QKeySequence("Ctrl+W"))
+        self.traces_menu = traces
+        bind(self, self.state.memoryChanged, self._on_memory_changed)
+        bind(self, self.state.currentTraceChanged, lambda _tid: self._on_memory_changed())
+        self._on_memory_changed()
+
+    def _on_memory_changed(self) -> None:
+        has_trace = self.state.current_trace != -1
+        has_memory = self.state.memory is not None
+        self.store_memory_action.setEnabled(has_trace)
+        self.close_trace_action.setEnabled(has_trace)
+        for action in (self.forget_memory_action, self.relative_db_action, self.relative_ratio_action):
+            action.setEnabled(has_memory)
+        if has_memory:
+            self.forget_memory_action.setText(f"Forget the memory ({self.state.memory.name})")
+        else:
+            self.forget_memory_action.setText("Forget the memory")
+
+    def store_memory(self) -> None:
+        """Store the current trace as the memory (Traces ▸ Store current trace as memory)."""
+        if self.state.current_trace == -1:
+            self.statusBar().showMessage("Open a sweep first: the current trace is what is stored.", 5000)
+            return
+        self.state.store_memory(self.state.current_trace)
+        self.statusBar().showMessage(
+            f"Stored {self.state.memory.name} as the memory; Traces ▸ Show relative to memory compares "
+            "the traces with it.", 8000)
+
+    def close_current_trace(self) -> None:
+        if self.state.current_trace != -1:
+            self.state.remove_trace(self.state.current_trace)
+
+    def ask_chart_z0(self) -> None:
+        """Ask for the chart's reference impedance (blank: each file's own)."""
+        from refplane.analysis.errors import AnalysisError
+        from refplane.analysis.units import parse_resistance
+
+        current = self.state.display.chart_z0_ohm
+        text, ok = QInputDialog.getText(
+            self, "Chart reference impedance",
+            "Reference impedance of the chart, plots and readings, e.g. 75 Ω.\n"
+            "Leave empty to use each file's own (usually 50 Ω).",
+            text="" if current is None else f"{current:g} Ω")
+        if not ok:
+            return
+        try:
+            value = parse_resistance(text) if text.strip() else None
+            self.state.set_display(chart_z0_ohm=value)
+        except AnalysisError as exc:
+            self.show_error("Not a reference impedance", str(exc))
 
     def _on_display_changed(self, name: str) -> None:
         d = self.state.display
@@ -307,13 +433,13 @@ class MainWindow(QMainWindow):
     def ask_open(self) -> None:
         from refplane.analysis.loading import SWEEP_PATTERNS
 
-        folder = str(_settings().value("last_folder", ""))
+        folder = last_folder("sweeps")
         patterns = " ".join(SWEEP_PATTERNS)
         paths, _ = QFileDialog.getOpenFileNames(
             self, "Open sweeps", folder, f"Sweeps ({patterns});;Touchstone (*.s?p *.snp *.ts);;"
                                          "CSV (*.csv);;All files (*)")
         if paths:
-            _settings().setValue("last_folder", os.path.dirname(paths[0]))
+            remember_folder("sweeps", paths[0])
             self.open_files(paths)
 
     def recent_files(self) -> list[str]:
@@ -393,25 +519,24 @@ class MainWindow(QMainWindow):
     def ask_open_session(self) -> None:
         from refplane.session.files import SUFFIX
 
-        folder = str(_settings().value("last_session_folder", _settings().value("last_folder", "")))
+        folder = last_folder("sessions")
         path, _ = QFileDialog.getOpenFileName(self, "Open session", folder,
                                               f"Refplane sessions (*{SUFFIX});;All files (*)")
         if path:
-            _settings().setValue("last_session_folder", os.path.dirname(path))
+            remember_folder("sessions", path)
             self.open_session(path)
 
     def ask_save_session(self) -> str | None:
         from refplane.session.files import SUFFIX
 
-        folder = str(_settings().value("last_session_folder", _settings().value("last_folder", "")))
-        suggested = self.session_path or os.path.join(folder, f"session{SUFFIX}")
+        suggested = self.session_path or in_last_folder("sessions", f"session{SUFFIX}")
         path, _ = QFileDialog.getSaveFileName(self, "Save session", suggested,
                                               f"Refplane sessions (*{SUFFIX})")
         if not path:
             return None
         if not path.lower().endswith(SUFFIX):
             path += SUFFIX
-        _settings().setValue("last_session_folder", os.path.dirname(path))
+        remember_folder("sessions", path)
         # The save dialog has already asked before replacing an existing file.
         return self.save_session(path, overwrite=True)
 
@@ -457,8 +582,9 @@ class MainWindow(QMainWindow):
                     from dataclasses import replace
 
                     files[i] = replace(f, path=located, status="changed")
-        self.state.clear()
-        self.state.clear_markers()
+        self.state.clear(undoable=False)
+        self.state.clear_markers(undoable=False)
+        self.state.forget_undo()
         self.session_path = os.path.abspath(path)
         requests = {}
         self._session_load = {"doc": doc, "requests": requests, "sweeps": {}, "errors": [],
@@ -479,7 +605,9 @@ class MainWindow(QMainWindow):
         if box.clickedButton() is not locate:
             return None
         path, _ = QFileDialog.getOpenFileName(self, f"Where is {os.path.basename(missing.recorded)}?",
-                                              str(_settings().value("last_folder", "")))
+                                              last_folder("sweeps"))
+        if path:
+            remember_folder("sweeps", path)
         return path or None
 
     def _session_file_loaded(self, request, sweep, error: str | None = None) -> None:
@@ -556,9 +684,46 @@ class MainWindow(QMainWindow):
             ev.acceptProposedAction()
 
     # ================================================================ export
+    def ask_table_path(self) -> str | None:
+        """Ask where to write the marker table (a method so tests can replace the dialog)."""
+        path, _ = QFileDialog.getSaveFileName(self, "Export marker table",
+                                              in_last_folder("tables", "markers.csv"),
+                                              "CSV, comma-separated (*.csv)")
+        if path:
+            remember_folder("tables", path)
+        return path or None
+
+    def ask_export_table(self) -> None:
+        """File ▸ Export marker table…: the table as CSV numbers, as Copy table puts them."""
+        if not self.state.markers():
+            self.statusBar().showMessage("No markers yet: place one (click a trace, or Markers ▸ Find) first.", 6000)
+            return
+        path = self.ask_table_path()
+        if not path:
+            return
+        if not os.path.splitext(path)[1]:
+            path += ".csv"
+        self.export_table(path, overwrite=True)  # the save dialog has asked before replacing
+
+    def export_table(self, path: str, *, overwrite: bool = False) -> str | None:
+        """Write the marker table as CSV (units in the header row, plain numbers)."""
+        from refplane.analysis.errors import AnalysisError
+        from refplane.analysis.fileio import write_text_atomic
+
+        try:
+            written = write_text_atomic(path, self.marker_table.as_tsv(delimiter=","), overwrite=overwrite)
+        except (AnalysisError, OSError) as exc:
+            self.show_error("The marker table could not be written", str(exc))
+            return None
+        self.statusBar().showMessage(f"Wrote {written}", 5000)
+        return str(written)
+
     def ask_save_path(self, title: str, suggested: str) -> str | None:
         """Ask where to save a picture (a method so tests can replace the dialog)."""
-        path, _ = QFileDialog.getSaveFileName(self, title, suggested, "PNG picture (*.png);;SVG drawing (*.svg)")
+        path, _ = QFileDialog.getSaveFileName(self, title, in_last_folder("pictures", suggested),
+                                              "PNG picture (*.png);;SVG drawing (*.svg)")
+        if path:
+            remember_folder("pictures", path)
         return path or None
 
     def ask_export(self, what: str) -> None:
@@ -646,6 +811,11 @@ class MainWindow(QMainWindow):
         self.docks["Markers"].show()
         self.marker_table.entry.setFocus()
 
+    def _say_found(self, text: str, passing: bool = False) -> None:
+        """Report a search from the menu in the marker panel (news passes after a few seconds)."""
+        self.docks["Markers"].show()
+        self.marker_table._say(text, passing)
+
     def _remove_current_marker(self) -> None:
         if self.state.current_marker != -1:
             self.state.remove_marker(self.state.current_marker)
@@ -674,9 +844,31 @@ class MainWindow(QMainWindow):
         QMessageBox.information(self, SAFETY_TITLE, SAFETY_HTML)
 
     def show_usage(self) -> None:
+        """Help ▸ Using the window: a scrolling page sized to fit the screen (a message box of
+        this length would run off a 768-pixel-high screen)."""
+        from PySide6.QtWidgets import QDialog, QDialogButtonBox, QTextBrowser, QVBoxLayout
+
         from refplane.views.help_text import USAGE_HTML
 
-        QMessageBox.information(self, "Using the window", USAGE_HTML)
+        dialog = getattr(self, "usage_dialog", None)
+        if dialog is None:
+            dialog = self.usage_dialog = QDialog(self)
+            dialog.setWindowTitle("Using the window")
+            browser = QTextBrowser(dialog)
+            browser.setOpenExternalLinks(False)
+            browser.setHtml(USAGE_HTML)
+            buttons = QDialogButtonBox(QDialogButtonBox.Close, parent=dialog)
+            buttons.rejected.connect(dialog.close)
+            layout = QVBoxLayout(dialog)
+            layout.addWidget(browser)
+            layout.addWidget(buttons)
+            screen = self.screen().availableGeometry() if self.screen() is not None else None
+            w, h = 640, 620
+            if screen is not None:
+                w, h = min(w, screen.width() - 40), min(h, screen.height() - 80)
+            dialog.resize(w, h)
+        dialog.show()
+        dialog.raise_()
 
     def show_about(self) -> None:
         from refplane import __version__

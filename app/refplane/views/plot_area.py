@@ -57,7 +57,7 @@ class PlotArea(pg.GraphicsWidget):
         layout.setHorizontalSpacing(0)
         layout.setVerticalSpacing(0)
         self.setLayout(layout)
-        self._axes = {"left": pg.AxisItem("left", parent=self), "bottom": LogUnitAxis("bottom", parent=self)}
+        self._axes = {"left": LogUnitAxis("left", parent=self), "bottom": LogUnitAxis("bottom", parent=self)}
         for axis in self._axes.values():
             axis.linkToView(self.vb)
             # Above the curves' view box like pyqtgraph's own plots, but behind any child
@@ -71,6 +71,7 @@ class PlotArea(pg.GraphicsWidget):
         layout.setRowStretchFactor(0, 100)
         self.items: list[QGraphicsItem] = []
         self.log_x = False
+        self.log_y = False
 
     def getViewBox(self) -> pg.ViewBox:
         """The view box (pyqtgraph's spelling, as on PlotItem)."""
@@ -87,7 +88,7 @@ class PlotArea(pg.GraphicsWidget):
         self.items.append(item)
         self.vb.addItem(item, ignoreBounds=ignoreBounds)
         if isinstance(item, pg.PlotDataItem):
-            item.setLogMode(self.log_x, False)
+            item.setLogMode(self.log_x, self.log_y)
 
     def removeItem(self, item: QGraphicsItem) -> None:
         """Take ``item`` out of the view."""
@@ -100,14 +101,16 @@ class PlotArea(pg.GraphicsWidget):
         self._axes[axis].setLabel(text, units=units)
 
     def setLogMode(self, x: bool | None = None, y: bool | None = None) -> None:
-        """Logarithmic frequency axis on or off (the y axis stays linear)."""
+        """Logarithmic frequency axis (``x``) and value axis (``y``) on or off; ``None`` keeps one."""
         if x is not None:
             self.log_x = bool(x)
+        if y is not None:
+            self.log_y = bool(y)
         for item in self.items:
             if isinstance(item, pg.PlotDataItem):
-                item.setLogMode(self.log_x, False)
+                item.setLogMode(self.log_x, self.log_y)
         for axis in self._axes.values():
-            axis.setLogMode(self.log_x, False)
+            axis.setLogMode(self.log_x, self.log_y)
         self.vb.enableAutoRange()
 
     def enableAutoRange(self) -> None:

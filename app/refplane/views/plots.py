@@ -17,7 +17,7 @@ import pyqtgraph as pg
 from PySide6.QtCore import QRectF, Qt, QTimer, Signal
 from PySide6.QtGui import QColor, QPainter, QPainterPath
 from PySide6.QtWidgets import (QCheckBox, QComboBox, QGraphicsItem, QHBoxLayout, QLabel,
-                               QPushButton, QVBoxLayout, QWidget)
+                               QPushButton, QSizePolicy, QToolButton, QVBoxLayout, QWidget)
 
 from refplane.views.binding import bind
 from refplane.session import plot_series
@@ -167,11 +167,20 @@ class FrequencyPlot(QWidget):
         self.note = QLabel("")
         self.note.setObjectName("hint")
         quiet_label(self.note)
+        # The note may be long ("relative to …"): it is cut rather than widening the window.
+        self.note.setSizePolicy(QSizePolicy.Ignored, QSizePolicy.Preferred)
+        self.note.setAlignment(Qt.AlignLeft | Qt.AlignVCenter)  # cut at its end, never its start
+        self.log_y_box = QCheckBox("Log")
+        self.log_y_box.setToolTip("Logarithmic value axis (VSWR, |Z| and ratios, which span decades)")
+        self.zoom_button = QToolButton()
+        self.zoom_button.setText("Autoscale")
+        self.zoom_button.setToolTip("Reset this plot's zoom: fit the visible traces (double-click does the same)")
         top = QHBoxLayout()
         top.setContentsMargins(4, 2, 4, 0)
         top.addWidget(self.chooser)
-        top.addStretch(1)
-        top.addWidget(self.note)
+        top.addWidget(self.log_y_box)
+        top.addWidget(self.zoom_button)
+        top.addWidget(self.note, 1)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(0, 0, 0, 0)
         layout.setSpacing(2)
@@ -191,6 +200,10 @@ class FrequencyPlot(QWidget):
         self._redraw_timer.setInterval(0)
         self._redraw_timer.timeout.connect(self.redraw)
         self.chooser.currentIndexChanged.connect(self._on_chooser)
+        self.log_y_box.toggled.connect(self.set_log_y)
+        self.zoom_button.clicked.connect(self.reset_zoom)
+        self.viewbox.sigRangeChangedManually.connect(self._on_zoomed_by_hand)
+        self._applying_view = False
         self.viewbox.sigBand.connect(self._on_band_dragged)
         self.plot.scene().sigMouseClicked.connect(self._on_clicked)
         bind(self, state.tracesChanged, self.schedule_redraw)
@@ -201,10 +214,15 @@ class FrequencyPlot(QWidget):
         bind(self, state.bandChanging, self._on_band_changed)
         bind(self, state.bandChanged, self._on_band_changed)
         bind(self, state.displayChanged, self._on_display_changed)
+        bind(self, state.memoryChanged, self.schedule_redraw)
         self.log_x = state.display.log_frequency
-        if self.log_x:
-            self.plot.setLogMode(x=True, y=False)
+        self.log_y = self._wants_log_y()
+        if self.log_x or self.log_y:
+            self.plot.setLogMode(x=self.log_x, y=self.log_y)
+        self._sync_log_box()
         self.redraw()
+        if self._session_view() is not None:
+            self._apply_view()
 
     # ---------------------------------------------------------------- public
     @property
@@ -219,6 +237,79 @@ class FrequencyPlot(QWidget):
     def _session_quantity(self) -> str:
         return getattr(self.state.display, f"{self.slot}_plot")
 
+    # ------------------------------------------------------------- y axis
+    def _wants_log_y(self) -> bool:
+        return self._session_quantity() in self.state.display.log_y
+
+    def set_log_y(self, on: bool) -> None:
+        """Draw this plot's quantity on a logarithmic value axis (a session option, per quantity)."""
+        from refplane.session.model import LOG_Y_QUANTITIES
+
+        key = self._session_quantity()
+        if key not in LOG_Y_QUANTITIES:
+            return
+        chosen = set(self.state.display.log_y)
+        chosen = chosen | {key} if on else chosen - {key}
+        self.state.set_display(log_y=tuple(chosen))
+
+    def _sync_log_box(self) -> None:
+        from refplane.session.model import LOG_Y_QUANTITIES
+
+        allowed = self._session_quantity() in LOG_Y_QUANTITIES
+        self.log_y_box.blockSignals(True)
+        self.log_y_box.setChecked(self._wants_log_y())
+        self.log_y_box.setEnabled(allowed)
+        self.log_y_box.setToolTip("Logarithmic value axis" if allowed else
+                                  "Only VSWR, |Z| and the ratio to the memory span decades; "
+                                  "their plots can use a log scale")
+        self.log_y_box.blockSignals(False)
+
+    def _apply_log_y(self) -> None:
+        wanted = self._wants_log_y()
+        self._sync_log_box()
+        if wanted != self.log_y:
+            self.log_y = wanted
+            self.plot.setLogMode(x=self.log_x, y=self.log_y)
+            self.redraw()
+            if self._session_view() is None:
+                self.viewbox.autoRange(padding=None)
+                self.plot.enableAutoRange()
+
+    # --------------------------------------------------------------- zoom
+    def _session_view(self):
+        return getattr(self.state.display, f"{self.slot}_view")
+
+    def reset_zoom(self) -> None:
+        """Fit the plot to its visible traces again, and keep fitting (forgets the zoom)."""
+        self.state.set_display(**{f"{self.slot}_view": None})
+        self.viewbox.autoRange(padding=None)
+        self.plot.enableAutoRange()
+
+    def _on_zoomed_by_hand(self, *_args) -> None:
+        (x0, x1), (y0, y1) = self.viewbox.viewRange()
+        f0, f1 = self._freq(x0), self._freq(x1)
+        if self.log_y:
+            y0, y1 = 10.0 ** y0, 10.0 ** y1
+        self._applying_view = True
+        try:
+            self.state.set_display(**{f"{self.slot}_view": (f0, f1, y0, y1)})
+        except Exception:  # noqa: BLE001 - a degenerate range (a zoom to nothing) is not kept
+            pass
+        finally:
+            self._applying_view = False
+
+    def _apply_view(self) -> None:
+        view = self._session_view()
+        if view is None:
+            self.viewbox.autoRange(padding=None)
+            self.plot.enableAutoRange()
+            return
+        f0, f1, y0, y1 = view
+        if self.log_y:
+            y0, y1 = math.log10(max(y0, 1e-300)), math.log10(max(y1, 1e-300))
+        self.viewbox.setRange(xRange=(self._x(max(f0, 1e-300) if self.log_x else f0), self._x(f1)),
+                              yRange=(y0, y1), padding=0)
+
     def _on_chooser(self, _index: int) -> None:
         key = self.chooser.currentData()
         if key is not None:
@@ -231,9 +322,25 @@ class FrequencyPlot(QWidget):
                 self.chooser.blockSignals(True)
                 self.chooser.setCurrentIndex(self.chooser.findData(key))
                 self.chooser.blockSignals(False)
-            self.redraw()
+            self._sync_log_box()
+            if self._wants_log_y() != self.log_y:
+                self._apply_log_y()
+            else:
+                self.redraw()
+            # A new quantity has its own scale: fit it.
+            if self._session_view() is not None:
+                self.state.set_display(**{f"{self.slot}_view": None})
+            else:
+                self.viewbox.autoRange(padding=None)
+                self.plot.enableAutoRange()
+        elif name == "log_y":
+            self._apply_log_y()
+        elif name == f"{self.slot}_view" and not self._applying_view:
+            self._apply_view()
         elif name == "log_frequency":
             self._set_log_x(self.state.display.log_frequency)
+        elif name == "chart_z0_ohm":
+            self.schedule_redraw()
 
     def set_log_x(self, log_x: bool) -> None:
         """Logarithmic or linear frequency axis (a session display option, shared by both plots)."""
@@ -243,7 +350,7 @@ class FrequencyPlot(QWidget):
         if bool(log_x) == self.log_x:
             return
         self.log_x = bool(log_x)
-        self.plot.setLogMode(x=self.log_x, y=False)
+        self.plot.setLogMode(x=self.log_x, y=self.log_y)
         self.redraw()
         # Fit the view to the curves now: until then it still holds the old range (hertz read
         # as log10 hertz, say), which the axis cannot label.
@@ -326,10 +433,23 @@ class FrequencyPlot(QWidget):
         styles = {"solid": Qt.SolidLine, "dashed": Qt.DashLine, "dotted": Qt.DotLine}
         for curve in view.curves:
             x, y = plot_series.finite_for_plot(curve.freq_hz, curve.y, self.log_x)
+            if self.log_y:
+                y = np.where(y > 0, y, np.nan)  # a log axis has no place for zero or below
             colour = QColor(curve.colour)
-            colour.setAlphaF(curve.alpha)
+            if curve.style == "dotted":
+                # A fitted model: its trace's colour with dashes of a contrasting colour over
+                # it, so it shows even where it lies exactly on the trace.
+                from refplane.views.smith_chart import model_dash_pen
+
+                self._add_curve(x, y, pg.mkPen(colour, width=curve.width + 0.4))
+                self._add_curve(x, y, model_dash_pen(self.theme.model_outline, curve.width + 0.4))
+                continue
+            # The faded (uncorrected) trace takes the theme's opacity, chosen to stay visible
+            # on that theme's background.
+            colour.setAlphaF(curve.alpha if curve.alpha >= 1.0 else self.theme.faded_alpha)
             self._add_curve(x, y, pg.mkPen(colour, width=curve.width, style=styles[curve.style]))
         self.note.setText(view.note)
+        self.note.setToolTip(view.note)  # the whole note, when the plot is too narrow for it
         self._sync_lines()
         self._on_band_changed()
         self.last_redraw_s = time.perf_counter() - started
@@ -417,7 +537,47 @@ class FrequencyPlot(QWidget):
         finally:
             self._syncing_region = False
 
+    def context_menu(self, freq_hz: float | None = None):
+        """The right-click menu of the plot (at ``freq_hz`` when the click was inside it)."""
+        from PySide6.QtWidgets import QMenu
+
+        from refplane.session.model import LOG_Y_QUANTITIES
+
+        menu = QMenu(self)
+        tid = self.state.current_trace
+        add = menu.addAction("Add marker here on the current trace",
+                             lambda: self._add_marker_at(freq_hz))
+        add.setEnabled(tid != -1 and freq_hz is not None)
+        menu.addAction("Autoscale (fit the visible traces)", self.reset_zoom)
+        log = menu.addAction("Log scale", lambda: self.set_log_y(not self._wants_log_y()))
+        log.setCheckable(True)
+        log.setChecked(self._wants_log_y())
+        log.setEnabled(self._session_quantity() in LOG_Y_QUANTITIES)
+        if self.state.band is not None:
+            menu.addAction("Clear band", lambda: self.state.set_band(None))
+        return menu
+
+    def _add_marker_at(self, freq_hz: float | None) -> None:
+        from refplane.analysis.errors import AnalysisError
+
+        tid = self.state.current_trace
+        if tid == -1 or freq_hz is None:
+            return
+        try:
+            self.state.add_marker(tid, freq_hz)
+        except AnalysisError:
+            pass  # outside the current trace's sweep: nothing to place
+
     def _on_clicked(self, ev) -> None:
+        if ev.button() == Qt.LeftButton and ev.double():
+            self.reset_zoom()
+            return
+        if ev.button() == Qt.RightButton:
+            inside = self.viewbox.sceneBoundingRect().contains(ev.scenePos())
+            freq = self._freq(self.viewbox.mapSceneToView(ev.scenePos()).x()) if inside else None
+            ev.accept()
+            self.context_menu(freq).exec(ev.screenPos().toPoint())
+            return
         if ev.button() != Qt.LeftButton or ev.double() or ev.modifiers() & Qt.ShiftModifier:
             return
         if not self.viewbox.sceneBoundingRect().contains(ev.scenePos()):
@@ -531,5 +691,7 @@ class CompanionPlots(QWidget):
 
         band = self.state.band
         self.clear_band.setEnabled(band is not None)
+        self.clear_band.setToolTip("Forget the selected band" if band is not None else
+                                   "No band chosen: Shift-drag across a plot, or Pick band then drag")
         self.band_label.setText(
             "" if band is None else f"Band {format_frequency(band[0], 5)} – {format_frequency(band[1], 5)}")

@@ -59,6 +59,11 @@ class ChartPicture(QWidget):
         for m in scene.markers:
             rows.append(f"<span style='color:{m.colour}'><b>{m.number}</b></span>&nbsp;&nbsp;"
                         f"{html.escape(m.summary)}")
+        from refplane.session.present import picture_notes
+
+        notes = picture_notes(scene.memory.name if scene.memory is not None else None,
+                              scene.chart_z0_ohm, scene.found)
+        rows += [html.escape(line) for line in notes]
         return "<br>".join(rows)
 
 

@@ -23,7 +23,7 @@ import numpy as np
 import pyqtgraph as pg
 from PySide6.QtCore import QPointF, QRectF, Qt, Signal
 from PySide6.QtGui import QColor, QFont, QFontMetricsF, QPainter, QPainterPath, QPen
-from PySide6.QtWidgets import QGraphicsItem, QLabel, QVBoxLayout, QWidget
+from PySide6.QtWidgets import QGraphicsItem, QLabel, QSizePolicy, QVBoxLayout, QWidget
 
 from refplane.views.binding import bind
 from refplane.views import smith_grid
@@ -55,6 +55,16 @@ def _line_path(ends) -> QPainterPath:
     path = QPainterPath(QPointF(x0, y0))
     path.lineTo(QPointF(x1, y1))
     return path
+
+
+def model_dash_pen(outline: str, width: float) -> QPen:
+    """The dashes drawn over a fitted model curve: short dashes in a colour that contrasts
+    with every trace colour, so the model shows even where it lies exactly on its trace."""
+    pen = QPen(QColor(outline), width)
+    pen.setCosmetic(True)
+    pen.setDashPattern([3.0, 3.0])
+    pen.setCapStyle(Qt.FlatCap)
+    return pen
 
 
 def _pen(colour: str, width: float = 1.0, style=Qt.SolidLine, alpha: float = 1.0) -> QPen:
@@ -208,12 +218,27 @@ class TraceItem(pg.ItemGroup):
             item.setParentItem(self)
             item.setVisible(ends)
         self._ends = ends
+        self.dashes: pg.PlotCurveItem | None = None
         self.set_style(colour, width=width, dashed=dashed, alpha=alpha)
 
-    def set_style(self, colour: str, *, width: float = 2.0, dashed: bool = False, alpha: float = 1.0) -> None:
-        """Colour, width (px), dash and opacity of the curve and its end symbols."""
+    def set_style(self, colour: str, *, width: float = 2.0, dashed: bool = False, alpha: float = 1.0,
+                  outline: str | None = None) -> None:
+        """Colour, width (px), dash and opacity of the curve and its end symbols.
+
+        With ``outline`` the curve is drawn in two colours: solid in ``colour`` with dashes of
+        ``outline`` over it, so it stays visible where it lies on a curve of its own colour.
+        """
         pen = _pen(colour, width, Qt.DashLine if dashed else Qt.SolidLine, alpha)
         apply_line_mode(self.curve, pen)
+        if outline is not None:
+            if self.dashes is None:
+                self.dashes = pg.PlotCurveItem(antialias=True, skipFiniteCheck=True)
+                self.dashes.setParentItem(self)
+            apply_line_mode(self.dashes, model_dash_pen(outline, width))
+            self._draw()
+        elif self.dashes is not None:
+            self.dashes.setParentItem(None)
+            self.dashes = None
         c = QColor(colour)
         c.setAlphaF(alpha)
         self.start.setPen(pg.mkPen(c, width=1.6))
@@ -247,6 +272,8 @@ class TraceItem(pg.ItemGroup):
         if x.size > self.THIN_ABOVE and self._pixel > 0:
             x, y = smith_grid.thin_polyline(x, y, 0.5 * self._pixel)
         self.curve.setData(x, y)
+        if self.dashes is not None:
+            self.dashes.setData(x, y)
 
 
 class MarkerItem(pg.GraphicsObject):
@@ -343,6 +370,27 @@ class VswrCircleItem(pg.PlotCurveItem):
         self.setVisible(True)
 
 
+class ElidedLabel(QLabel):
+    """A label of fixed lines that ends a line wider than itself with "…" rather than cutting
+    a word in half (its text stays whole)."""
+
+    def paintEvent(self, ev) -> None:  # noqa: N802 (Qt's name)
+        from PySide6.QtCore import QRect
+        from PySide6.QtGui import QPainter
+
+        rect = self.contentsRect()
+        metrics = self.fontMetrics()
+        painter = QPainter(self)
+        painter.setPen(self.palette().color(self.foregroundRole()))
+        y = rect.top()
+        for line in self.text().split("\n"):
+            text = metrics.elidedText(line, Qt.ElideRight, rect.width())
+            painter.drawText(QRect(rect.left(), y, rect.width(), metrics.height()),
+                             int(Qt.AlignLeft | Qt.AlignVCenter), text)
+            y += metrics.height()
+        painter.end()
+
+
 class ChartView(pg.GraphicsView):
     """A graphics view holding one view box and nothing else (the chart has no axes or menu).
 
@@ -389,10 +437,25 @@ class SmithChart(QWidget):
         self.vswr_circle = VswrCircleItem(theme)
         self.vswr_circle.setVisible(False)
         self.plot.addItem(self.vswr_circle)
-        self.hover = QLabel(" ")
+        self.hover = ElidedLabel(" ")
         self.hover.setObjectName("hover")
         quiet_label(self.hover)
         self.hover.setTextInteractionFlags(Qt.TextSelectableByMouse)
+        # A fixed place: two lines high (the reading, then the nearest trace point), as wide as
+        # the chart whatever it says. (Sized by its text, the line pushed the splitter sideways
+        # as the cursor moved.)
+        self.hover.setSizePolicy(QSizePolicy.Ignored, QSizePolicy.Fixed)
+        self.hover.setFixedHeight(2 * self.hover.fontMetrics().height() + 6)
+        self.hover.setWordWrap(False)
+        self.hover.setContentsMargins(6, 0, 6, 0)
+        from refplane.views.help_text import EMPTY_WINDOW_TEXT
+
+        # Said on the chart while nothing is open: how to open something.
+        self.empty_note = QLabel(EMPTY_WINDOW_TEXT, self.plot)
+        self.empty_note.setObjectName("emptyNote")
+        self.empty_note.setAlignment(Qt.AlignCenter)
+        self.empty_note.setWordWrap(True)
+        self.empty_note.setAttribute(Qt.WA_TransparentForMouseEvents, True)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(0, 0, 0, 0)
         layout.setSpacing(0)
@@ -416,11 +479,14 @@ class SmithChart(QWidget):
         bind(self, state.markerMoving, self._on_marker_moving)
         bind(self, state.currentMarkerChanged, self._on_current_marker)
         bind(self, state.displayChanged, self._on_display_changed)
+        bind(self, state.memoryChanged, self._on_memory_changed)
+        self._memory: TraceItem | None = None
         self.view.sigRangeChanged.connect(self._on_range_changed)
         self.view.sigRangeChangedManually.connect(self._on_zoomed_by_hand)
         scene = self.plot.scene()
         scene.sigMouseMoved.connect(self._on_mouse_moved)
         scene.sigMouseClicked.connect(self._on_mouse_clicked)
+        self._style_empty_note()
         self._on_traces_changed()
         self._on_markers_changed()
         self._applying_view = False
@@ -464,6 +530,13 @@ class SmithChart(QWidget):
                 self.vswr_circle.set_circle(*smith_grid.vswr_circle(d.vswr_circle))
         elif name == "chart_view" and not self._applying_view:
             self._show_range(d.chart_view)
+        elif name == "chart_z0_ohm":
+            # Every curve moves to the new chart centre.
+            for tid in list(self._traces):
+                self._on_trace_changed(tid)
+                self._on_overlays_changed(tid)
+            self._on_markers_changed()
+            self._on_memory_changed()
 
     def _show_range(self, view: tuple[float, float, float, float] | None) -> None:
         x0, x1, y0, y1 = view if view is not None else (-HOME, HOME, -HOME, HOME)
@@ -488,9 +561,13 @@ class SmithChart(QWidget):
         self.plot.setBackground(theme.chart_bg)
         self.grid.set_theme(theme)
         self.vswr_circle.set_theme(theme)
+        self._style_empty_note()
         for m in self._markers.values():
             m._theme = theme
             m.update()
+        for tid in list(self._traces):
+            self._on_trace_changed(tid)  # faded and model curves take the theme's colours
+        self._on_memory_changed()
 
     def trace_item(self, trace_id: int) -> TraceItem:
         """The item drawing a trace (for tests and export)."""
@@ -533,6 +610,8 @@ class SmithChart(QWidget):
         yield from self._traces.values()
         yield from self._raw.values()
         yield from self._overlays.values()
+        if getattr(self, "_memory", None) is not None:
+            yield self._memory
 
     def _on_range_changed(self, *_args) -> None:
         ux, uy = self.view.viewPixelSize()
@@ -547,7 +626,34 @@ class SmithChart(QWidget):
         self.plot.addItem(item)
         return item
 
+    def _style_empty_note(self) -> None:
+        # On a plate of the chart's own colour, framed, so the grid does not run through the
+        # words. (The palette, not a style sheet: a style sheet sends the widget through Qt's
+        # slower styling path, which start-up pays for.)
+        from PySide6.QtGui import QColor, QPalette
+
+        note = self.empty_note
+        pal = note.palette()
+        pal.setColor(QPalette.Window, QColor(self.theme.chart_bg))
+        pal.setColor(QPalette.WindowText, QColor(self.theme.text))
+        note.setPalette(pal)
+        note.setAutoFillBackground(True)
+        note.setFrameShape(QLabel.Box)
+        note.setMargin(10)
+
+    def resizeEvent(self, ev) -> None:  # noqa: N802 (Qt's name)
+        super().resizeEvent(ev)
+        self._place_empty_note()
+
+    def _place_empty_note(self) -> None:
+        w = min(self.plot.width() - 40, 360)
+        self.empty_note.setFixedWidth(max(w, 120))
+        self.empty_note.adjustSize()
+        self.empty_note.move((self.plot.width() - self.empty_note.width()) // 2,
+                             (self.plot.height() - self.empty_note.height()) // 2)
+
     def _on_traces_changed(self) -> None:
+        self.empty_note.setVisible(not self.state.trace_ids())
         ids = set(self.state.trace_ids())
         for tid in list(self._traces):
             if tid not in ids:
@@ -580,18 +686,19 @@ class SmithChart(QWidget):
         raw = self._raw.get(trace_id)
         if t.raw_gamma is not None:
             if raw is None:
-                raw = self._raw[trace_id] = TraceItem(t.colour, width=1.4, alpha=0.3, ends=False)
+                raw = self._raw[trace_id] = TraceItem(t.colour, width=1.4, alpha=self.theme.faded_alpha,
+                                                      ends=False)
                 raw.setZValue(8)
                 self._add_trace_item(raw)
             r = t.raw_gamma
-            raw.set_style(t.colour, width=1.4, alpha=0.3)
+            raw.set_style(t.colour, width=1.4, alpha=self.theme.faded_alpha)
             raw.set_data(r.real, r.imag)
             raw.setVisible(t.visible)
         elif raw is not None:
             self.plot.removeItem(self._raw.pop(trace_id))
         for key, ov in self._overlays.items():
             if key[0] == trace_id:
-                ov.set_style(t.colour, width=1.6, dashed=True, alpha=0.9)
+                ov.set_style(t.colour, width=1.8, outline=self.theme.model_outline)
                 ov.setVisible(t.visible)
         for mid, mitem in self._markers.items():
             if self.state.marker(mid).trace_id == trace_id:
@@ -607,12 +714,28 @@ class SmithChart(QWidget):
         for ov in t.overlays:
             key = (trace_id, ov.name)
             if key not in self._overlays:
-                self._overlays[key] = TraceItem(t.colour, width=1.6, dashed=True, alpha=0.9, ends=False)
-                self._overlays[key].setZValue(9)
+                self._overlays[key] = TraceItem(t.colour, width=1.8, ends=False)
+                self._overlays[key].set_style(t.colour, width=1.8, outline=self.theme.model_outline)
+                self._overlays[key].setZValue(11)  # over its trace, which it may hide exactly
                 self._add_trace_item(self._overlays[key])
             g = ov.gamma
             self._overlays[key].set_data(g.real, g.imag)
             self._overlays[key].setVisible(t.visible)
+
+    def _on_memory_changed(self) -> None:
+        """Draw the stored trace (trace memory) as a thin dashed curve in the theme's muted colour."""
+        memory = self.state.scene().memory
+        if memory is None:
+            if self._memory is not None:
+                self.plot.removeItem(self._memory)
+                self._memory = None
+            return
+        if self._memory is None:
+            self._memory = TraceItem(self.theme.muted, width=1.3, dashed=True, ends=False)
+            self._memory.setZValue(7)
+            self._add_trace_item(self._memory)
+        self._memory.set_style(self.theme.muted, width=1.3, dashed=True)
+        self._memory.set_data(memory.gamma.real, memory.gamma.imag)
 
     def _on_markers_changed(self) -> None:
         scene = self.state.scene()
@@ -691,6 +814,13 @@ class SmithChart(QWidget):
         return hover_text(gamma, z, z0, named)
 
     def _on_mouse_clicked(self, ev) -> None:
+        if ev.button() == Qt.RightButton:
+            p = self.view.mapSceneToView(ev.scenePos())
+            on = [i for i in self.plot.scene().items(ev.scenePos()) if isinstance(i, MarkerItem)]
+            menu = self.context_menu(complex(p.x(), p.y()), on[0].marker_id if on else None)
+            ev.accept()
+            menu.exec(ev.screenPos().toPoint())
+            return
         if ev.button() != Qt.LeftButton or ev.double():
             return
         scene_pos = ev.scenePos()
@@ -699,6 +829,32 @@ class SmithChart(QWidget):
         p = self.view.mapSceneToView(scene_pos)
         self.setFocus()
         self.add_marker_near(complex(p.x(), p.y()))
+
+    def context_menu(self, gamma: complex, marker_id: int | None = None):
+        """The right-click menu at chart position ``gamma`` (on a marker when ``marker_id`` is given)."""
+        from PySide6.QtWidgets import QMenu
+
+        menu = QMenu(self)
+        if marker_id is not None and marker_id in self._markers:
+            m = self.state.scene().marker(marker_id)
+            menu.addAction(f"Remove marker {m.number} (Ctrl+Z brings it back)",
+                           lambda: self.state.remove_marker(marker_id))
+            if m.follows:
+                menu.addAction(f"Stop following the {m.follows_text}",
+                               lambda: self.state.unfollow_marker(marker_id))
+            menu.addSeparator()
+        near = self._nearest_trace(gamma.real, gamma.imag) if abs(gamma) <= 1.0 else None
+        add = menu.addAction("Add marker here", lambda: self.add_marker_near(gamma))
+        add.setEnabled(near is not None and near[2] <= PICK_PX)
+        if self.state.current_trace != -1:
+            menu.addAction("Store current trace as memory",
+                           lambda: self.state.store_memory(self.state.current_trace))
+        menu.addSeparator()
+        grid = menu.addAction("Admittance grid", lambda: self.set_admittance_grid(not self.state.display.admittance_grid))
+        grid.setCheckable(True)
+        grid.setChecked(self.state.display.admittance_grid)
+        menu.addAction("Reset chart view", self.reset_view)
+        return menu
 
     def add_marker_near(self, gamma: complex) -> int | None:
         """Place a marker on the visible trace nearest to chart position ``gamma``, if within reach."""

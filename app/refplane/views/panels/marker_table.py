@@ -34,6 +34,11 @@ class MarkerTable(QWidget):
         self.message.setObjectName("hint")
         quiet_label(self.message)
         self.message.setWordWrap(True)
+        # What band searches found (edges, width, centre); follows the markers as they move.
+        self.found = QLabel("")
+        self.found.setObjectName("found")
+        self.found.setWordWrap(True)
+        self.found.setTextInteractionFlags(Qt.TextSelectableByMouse)
         self.table = QTableWidget(0, 0)
         self.table.setEditTriggers(QAbstractItemView.NoEditTriggers)
         self.table.setSelectionMode(QAbstractItemView.ContiguousSelection)
@@ -50,26 +55,42 @@ class MarkerTable(QWidget):
         self.remove_button = QPushButton("Remove marker")
         self.clear_button = QPushButton("Remove all")
 
-        self.entry.setMinimumWidth(170)
+        self.entry.setMinimumWidth(150)
         self.entry.setMaximumWidth(260)
+        # Two short rows rather than one long one: a single row of every control made the
+        # window at least 1,250 px wide, wider than a 1280×800 laptop leaves for it.
         row = QHBoxLayout()
         row.addWidget(self.entry, 1)
         row.addWidget(self.add_button)
-        row.addSpacing(18)
-        row.addWidget(QLabel("Difference: marker"))
-        row.addWidget(self.delta_b)
-        row.addWidget(QLabel("− marker"))
-        row.addWidget(self.delta_a)
+        self.find_button = QPushButton("Find")
+        self.find_button.setToolTip("Place markers where the current trace has its best match, "
+                                    "its resonances, its largest |Z| or the edges of a VSWR band")
+        from PySide6.QtWidgets import QMenu
+
+        # Filled when first opened: start-up does not pay for a menu nobody has opened yet.
+        self.find_menu = QMenu(self.find_button)
+        self.find_menu.aboutToShow.connect(self._fill_find_menu)
+        self.find_button.setMenu(self.find_menu)
+        row.addWidget(self.find_button)
         row.addStretch(1)
         row.addWidget(self.remove_button)
         row.addWidget(self.clear_button)
-        row.addWidget(self.copy_button)
+        row2 = QHBoxLayout()
+        row2.addWidget(QLabel("Difference: marker"))
+        row2.addWidget(self.delta_b)
+        row2.addWidget(QLabel("− marker"))
+        row2.addWidget(self.delta_a)
+        row2.addStretch(1)
+        row2.addWidget(self.copy_button)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(4, 4, 4, 4)
         layout.addLayout(row)
+        layout.addLayout(row2)
         layout.addWidget(self.message)
+        layout.addWidget(self.found)
         layout.addWidget(self.table, 1)
         self.message.hide()
+        self.found.hide()
 
         self._ids: list[int] = []
         self._cols: list[str] = []
@@ -81,15 +102,18 @@ class MarkerTable(QWidget):
         self.clear_button.clicked.connect(state.clear_markers)
         self.delta_a.currentIndexChanged.connect(lambda _i: self._on_delta_chosen())
         self.delta_b.currentIndexChanged.connect(lambda _i: self._on_delta_chosen())
-        bind(self, state.displayChanged, lambda name: name == "delta_markers" and self._fill_delta())
+        bind(self, state.displayChanged, self._on_display_changed)
         self.table.currentCellChanged.connect(self._on_current_cell)
+        self.table.setContextMenuPolicy(Qt.CustomContextMenu)
+        self.table.customContextMenuRequested.connect(
+            lambda pos: self.context_menu(self.table.rowAt(pos.y())).exec(self.table.viewport().mapToGlobal(pos)))
         bind(self, state.markersChanged, self.rebuild)
         bind(self, state.tracesChanged, self.rebuild)
         bind(self, state.traceChanged, lambda _id: self.rebuild())
         bind(self, state.offsetsChanged, lambda _id: self.rebuild())
         bind(self, state.overlaysChanged, lambda _id: self.rebuild())
         bind(self, state.markerMoving, self.refresh_marker)
-        bind(self, state.markerMoved, lambda _id: self.table.resizeColumnsToContents())
+        bind(self, state.markerMoved, self._on_marker_moved)
         bind(self, state.currentMarkerChanged, self._select_current)
         self.rebuild()
 
@@ -141,9 +165,10 @@ class MarkerTable(QWidget):
         return {label: self.table.item(row, col).text() for col, label in enumerate(self._cols)
                 if self.table.item(row, col) is not None and self.table.item(row, col).text()}
 
-    def as_tsv(self) -> str:
+    def as_tsv(self, delimiter: str = "\t") -> str:
         """The table as tab-separated numbers a spreadsheet computes with: units in the header
-        row, one quantity per column, plain ASCII minus, no thousands separators."""
+        row, one quantity per column, plain ASCII minus, no thousands separators
+        (``delimiter=","`` gives the same as CSV)."""
         from refplane.session.present import difference_values, sheet_rows, sheet_text
 
         scene = self.state.scene()
@@ -152,15 +177,29 @@ class MarkerTable(QWidget):
             a, b = scene.marker(scene.delta.a), scene.marker(scene.delta.b)
             rows.append(("Difference", scene.delta.label, difference_values(a.readout, b.readout)))
         rows += [(f"{m.number} model", name, r) for m in scene.markers for name, r in m.model_readouts.items()]
-        return sheet_text(sheet_rows(rows))
+        return sheet_text(sheet_rows(rows), delimiter=delimiter)
 
     def copy_to_clipboard(self) -> None:
         QGuiApplication.clipboard().setText(self.as_tsv())
         self._say("Table copied: numbers in the units named in its first row.")
 
-    def _say(self, text: str) -> None:
+    def _say(self, text: str, passing: bool = False) -> None:
+        """Show a line above the table; ``passing`` news goes after a few seconds (it would
+        otherwise keep a row of the table out of sight on a small screen)."""
         self.message.setText(text)
         self.message.setVisible(bool(text))
+        timer = getattr(self, "_message_timer", None)
+        if timer is None:
+            from PySide6.QtCore import QTimer
+
+            # Owned by the panel: it goes when the panel goes.
+            timer = self._message_timer = QTimer(self)
+            timer.setSingleShot(True)
+            timer.timeout.connect(lambda: self._say(""))
+        if passing and text:
+            timer.start(6000)
+        else:
+            timer.stop()
 
     # ----------------------------------------------------------------- slots
     def rebuild(self) -> None:
@@ -175,7 +214,8 @@ class MarkerTable(QWidget):
         self.table.setRowCount(len(markers) + (1 if show_delta else 0) + len(self._model_rows))
         self.table.setHorizontalHeaderLabels(self._cols)
         numbers = {m.id: str(m.number) for m in markers}
-        rows = ([numbers[m.id] for m in markers] + (["Difference"] if show_delta else [])
+        headers = {m.id: f"{m.number} · {m.follows_text}" if m.follows_text else str(m.number) for m in markers}
+        rows = ([headers[m.id] for m in markers] + (["Difference"] if show_delta else [])
                 + [f"{numbers[mid]} model" for mid, _name in self._model_rows])
         self.table.setVerticalHeaderLabels(rows)
         for m in markers:
@@ -189,11 +229,25 @@ class MarkerTable(QWidget):
             combo.setCurrentIndex(combo.findData(chosen) if chosen is not None else -1)
             combo.setEnabled(show_delta)
             combo.blockSignals(False)
-        for button in (self.remove_button, self.clear_button, self.copy_button):
+        # A control that cannot act says why in its tooltip (shown on a disabled control too).
+        why = "" if markers else "No marker yet: click near a trace, type a frequency, or use Find. "
+        for button, does in ((self.remove_button, "Remove the current marker (Ctrl+Z brings it back)"),
+                             (self.clear_button, "Remove every marker (Ctrl+Z brings them back)"),
+                             (self.copy_button, "Copy every cell as numbers for a spreadsheet")):
             button.setEnabled(bool(markers))
+            button.setToolTip(why + ("" if markers else "(") + does + ("" if markers else ")"))
+        for combo in (self.delta_a, self.delta_b):
+            combo.setToolTip("The difference row shows marker b − marker a" if show_delta
+                             else "Needs two markers")
         self._fill_delta()
         self._select_current(self.state.current_marker)
         self.table.resizeColumnsToContents()
+        lines = list(scene.found)
+        if scene.chart_z0_ohm is not None:
+            lines.insert(0, f"Readings against {scene.chart_z0_ohm:g} Ω, the chart's reference "
+                            "(View ▸ Chart reference impedance…).")
+        self.found.setText("\n".join(lines))
+        self.found.setVisible(bool(lines))
 
     def refresh_marker(self, marker_id: int) -> None:
         if marker_id not in self._ids:
@@ -215,6 +269,30 @@ class MarkerTable(QWidget):
                     self._set(first + i, col, cells.get(label, "—" if label != "Trace" else ""),
                               left=(label == "Trace"))
         self._fill_delta()
+
+    def _fill_find_menu(self) -> None:
+        if not self.find_menu.actions():
+            from refplane.views.find_menu import fill_find_menu
+
+            fill_find_menu(self.find_menu, self.state, self, self._say)
+
+    def _on_display_changed(self, name: str) -> None:
+        if name == "delta_markers":
+            self._fill_delta()
+        elif name == "chart_z0_ohm":
+            self.rebuild()  # every reading is now against the chart's reference
+
+    def _on_marker_moved(self, _marker_id: int) -> None:
+        self.table.resizeColumnsToContents()
+        scene = self.state.scene()
+        lines = list(scene.found)
+        if scene.chart_z0_ohm is not None:
+            lines.insert(0, f"Readings against {scene.chart_z0_ohm:g} Ω, the chart's reference "
+                            "(View ▸ Chart reference impedance…).")
+        found = "\n".join(lines)
+        if found != self.found.text():
+            self.found.setText(found)
+            self.found.setVisible(bool(found))
 
     def _set(self, row: int, col: int, text: str, left: bool = False) -> None:
         item = self.table.item(row, col)
@@ -246,6 +324,28 @@ class MarkerTable(QWidget):
         self.table.verticalHeaderItem(row).setText("Δ")
         for col, label in enumerate(self._cols):
             self._set(row, col, cells.get(label, ""), left=(label == "Trace"))
+
+    def context_menu(self, row: int):
+        """The right-click menu of a row of the table (any row, or −1 for none)."""
+        from PySide6.QtWidgets import QMenu
+
+        menu = QMenu(self)
+        if 0 <= row < len(self._ids):
+            mid = self._ids[row]
+            m = self.state.scene().marker(mid)
+            menu.addAction(f"Remove marker {m.number} (Ctrl+Z brings it back)", lambda: self.state.remove_marker(mid))
+            if m.follows:
+                menu.addAction(f"Stop following the {m.follows_text}", lambda: self.state.unfollow_marker(mid))
+            others = [x for x in self.state.scene().markers if x.id != mid]
+            if others:
+                diff = menu.addMenu("Difference from this marker to")
+                for other in others:
+                    diff.addAction(f"marker {other.number}",
+                                   lambda a=mid, b=other.id: self.state.set_display(delta_markers=(a, b)))
+            menu.addSeparator()
+        menu.addAction("Copy table", self.copy_to_clipboard).setEnabled(bool(self._ids))
+        menu.addAction("Remove all markers", self.state.clear_markers).setEnabled(bool(self._ids))
+        return menu
 
     def _remove_current(self) -> None:
         if self.state.current_marker != -1:

@@ -18,7 +18,7 @@ from __future__ import annotations
 import os
 
 from PySide6.QtCore import QEvent, QObject, Qt, Signal
-from PySide6.QtWidgets import (QComboBox, QFileDialog, QFormLayout, QHBoxLayout, QLabel, QLineEdit,
+from PySide6.QtWidgets import (QComboBox, QSizePolicy, QFileDialog, QFormLayout, QHBoxLayout, QLabel, QLineEdit,
                                QMessageBox, QPushButton, QSlider, QVBoxLayout, QWidget)
 
 from refplane.views.binding import bind
@@ -86,6 +86,10 @@ class OffsetsPanel(QWidget):
         self.show_error = self._show_error
 
         self.trace_label = QLabel()
+        # A long trace name wraps (or, without spaces, is cut) rather than widening the window;
+        # its tooltip holds the whole name.
+        self.trace_label.setWordWrap(True)
+        self.trace_label.setSizePolicy(QSizePolicy.Ignored, QSizePolicy.Preferred)
         self.port_combo = QComboBox()
         self.port_combo.setToolTip("The port whose line is edited")
         self.delay_edit = QLineEdit()
@@ -120,6 +124,9 @@ class OffsetsPanel(QWidget):
         self.standard_combo.addItem("open", "open")
         self.standard_combo.addItem("short", "short")
         self.source_combo = QComboBox()
+        # Sized for a short name, not the longest one open: a long name must not widen the window.
+        self.source_combo.setSizeAdjustPolicy(QComboBox.AdjustToMinimumContentsLengthWithIcon)
+        self.source_combo.setMinimumContentsLength(14)
         self.source_combo.setToolTip("Trace of the bare cable or fixture ended in the standard")
         self.estimate_button = QPushButton("Find from open/short")
         self.estimate_label = QLabel()
@@ -153,7 +160,9 @@ class OffsetsPanel(QWidget):
         layout = QVBoxLayout(self)
         layout.addLayout(form)
         layout.addLayout(resets)
-        layout.addWidget(QLabel("<b>Find the line from a measured open or short</b>"))
+        heading = QLabel("<b>Find the line from a measured open or short</b>")
+        heading.setWordWrap(True)
+        layout.addWidget(heading)
         layout.addLayout(estimate_form)
         layout.addWidget(self.estimate_button)
         layout.addWidget(self.estimate_label)
@@ -395,8 +404,17 @@ class OffsetsPanel(QWidget):
         return str(written)
 
     def _ask_save_path(self, suggested: str) -> str | None:
+        import os
+
+        from refplane.views.folders import last_folder, remember_folder
+
+        folder = last_folder("corrected")
+        if folder:  # corrected sweeps go where the last one went, under the suggested name
+            suggested = os.path.join(folder, os.path.basename(suggested))
         path, _ = QFileDialog.getSaveFileName(self, "Save corrected sweep", suggested,
                                               "Touchstone (*.s1p *.s2p *.s3p *.s4p *.snp)")
+        if path:
+            remember_folder("corrected", path)
         return path or None
 
     def _confirm(self, text: str) -> bool:
@@ -460,7 +478,10 @@ class OffsetsPanel(QWidget):
                        self.z0_edit, self.slider, self.step_combo, self.reset_button,
                        self.reset_all_button, self.save_button, self.estimate_button):
             widget.setEnabled(enabled)
+        # Said where a disabled control is pointed at: why it cannot act yet.
+        self.setToolTip("" if enabled else "Open a sweep first: the panel edits the current trace")
         self.trace_label.setText(self.state.trace(self.trace_id).name if enabled else "no trace open")
+        self.trace_label.setToolTip(self.trace_label.text())
         self._refresh_fields()
 
     def _refresh_fields(self) -> None:

@@ -5,7 +5,7 @@ from __future__ import annotations
 from PySide6.QtCore import Qt, Signal
 from PySide6.QtGui import QColor, QIcon, QPixmap
 from PySide6.QtWidgets import (QAbstractItemView, QColorDialog, QComboBox, QHeaderView,
-                               QTableWidget, QTableWidgetItem, QToolButton, QVBoxLayout, QWidget)
+                               QMenu, QTableWidget, QTableWidgetItem, QToolButton, QVBoxLayout, QWidget)
 
 from refplane.views.binding import bind
 from refplane.session.model import Session
@@ -48,6 +48,9 @@ class TraceList(QWidget):
         self._widgets: dict[int, tuple] = {}
         self._updating = False
 
+        self.table.setContextMenuPolicy(Qt.CustomContextMenu)
+        self.table.customContextMenuRequested.connect(
+            lambda pos: self._exec_menu(self.context_menu(self.table.rowAt(pos.y())), pos))
         self.table.itemChanged.connect(self._on_item_changed)
         self.table.currentCellChanged.connect(self._on_current_cell)
         # Queued: the close button must not be deleted while its own click is being handled.
@@ -129,6 +132,35 @@ class TraceList(QWidget):
             port.setCurrentIndex(t.port - 1)
             port.blockSignals(False)
         colour.setIcon(swatch(t.colour))
+
+    def context_menu(self, row: int) -> QMenu:
+        """The right-click menu of a row (or of the empty list when ``row`` is −1)."""
+        menu = QMenu(self)
+        if not 0 <= row < len(self._ids):
+            menu.addAction("No trace here: File ▸ Open sweeps… opens one").setEnabled(False)
+            return menu
+        tid = self._ids[row]
+        t = self.state.trace(tid)
+        menu.addAction("Make current", lambda: self.state.set_current_trace(tid))
+        menu.addAction("Hide" if t.visible else "Show", lambda: self.state.set_visible(tid, not t.visible))
+        menu.addAction("Rename…", lambda: self.table.editItem(self.table.item(row, self.COL_NAME)))
+        menu.addAction("Change colour…", lambda: self._recolour(tid))
+        menu.addSeparator()
+        menu.addAction("Store as memory", lambda: self.state.store_memory(tid))
+        find = menu.addMenu("Find")
+        from refplane.views.find_menu import fill_find_menu
+
+        def say(text, passing=False):
+            window = self.window()
+            if hasattr(window, "_say_found"):
+                window._say_found(text, passing)
+        fill_find_menu(find, self.state, self, say, trace_id=tid)
+        menu.addSeparator()
+        menu.addAction("Close (Ctrl+Z brings it back)", lambda: self.closeRequested.emit(tid))
+        return menu
+
+    def _exec_menu(self, menu: QMenu, pos) -> None:
+        menu.exec(self.table.viewport().mapToGlobal(pos))
 
     def _recolour(self, trace_id: int) -> None:
         colour = self.ask_colour(self.state.trace(trace_id).colour)
