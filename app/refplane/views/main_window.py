@@ -158,6 +158,8 @@ class MainWindow(QMainWindow):
         fit.visibilityChanged.connect(self._build_fit_panel)
         self.tabifyDockWidget(plane, fit)
         plane.raise_()
+        from refplane.views.panels import antenna_panel
+        antenna_panel.install(self)
         self.add_tool_action("Calibrate from standards…", self._open_calibration, shortcut="Ctrl+K")
 
     def _build_fit_panel(self, visible: bool) -> None:

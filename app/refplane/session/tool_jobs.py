@@ -1,0 +1,122 @@
+"""Work of the tool panels (antenna, cable, time domain) as requests and never-raising jobs.
+
+Same pattern as :mod:`refplane.session.jobs`: a frozen request captured when the work was
+asked for, a plain function returning a :class:`~refplane.session.jobs.JobResult`. The window
+runs them on its worker facility; tests call them directly. Each result carries its request's
+job number, so a panel drops results of requests it has since superseded.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from refplane.analysis.sweep import Sweep
+from refplane.session.jobs import JobResult, guarded
+
+
+# ------------------------------------------------------------------------ antenna
+@dataclass(frozen=True)
+class AntennaRequest:
+    """Everything the antenna panel's three readings need, captured at the time of asking."""
+
+    job: int
+    """Sequence number; a later request supersedes this one."""
+    trace_id: int
+    """The trace read."""
+    sweep: Sweep
+    """Its displayed sweep (offsets removed: the plane at the feedpoint)."""
+    port: int
+    """1-based port whose reflection is read."""
+    freq_hz: float | None
+    """The marker's frequency (feedline and matching need one), or None."""
+    settings: object
+    """The panel's :class:`~refplane.session.tool_settings.AntennaSettings`."""
+
+
+@dataclass(frozen=True)
+class AntennaResults:
+    """The three parts of the antenna panel; each a result or a one-line reason."""
+
+    request: AntennaRequest
+    resonance: JobResult
+    """``ResonanceReport`` of the whole trace at the settings' VSWR limit."""
+    feedline: JobResult
+    """``FeedlineResult`` at the marker, or not ok (no marker, no feedline, bad line)."""
+    match: JobResult
+    """``MatchResult`` at the marker, or not ok."""
+
+
+def feedline_of(settings):
+    """The ``LineOffset`` the antenna settings describe (AnalysisError when they cannot)."""
+    from refplane.analysis.deembed import LineOffset
+
+    return LineOffset.from_length(settings.feed_length_m, settings.feed_vf, loss_db=settings.feed_loss_db,
+                                  loss_ref_hz=settings.feed_loss_ref_hz, line_z0_ohm=settings.feed_line_z0_ohm)
+
+
+def feedline_sweep(sweep: Sweep, port: int, settings) -> Sweep:
+    """The trace as seen at the other end of the settings' feedline (a 1-port sweep, all points).
+
+    With ``feed_toward == "radio"`` this is what the radio sees; with ``"antenna"``, the
+    impedance at the antenna.
+    """
+    from refplane.analysis.antenna.feedline import toward_antenna, toward_radio
+    from refplane.analysis.impedance import gamma_to_z, z_to_gamma
+
+    sweep.check_port(port)
+    z_port = complex(sweep.z0_ohm[port - 1])
+    work = toward_radio if settings.feed_toward == "radio" else toward_antenna
+    result = work(sweep.freq_hz, gamma_to_z(sweep.reflection(port), z_port), feedline_of(settings),
+                  z_ref_ohm=z_port.real)
+    z = result.z_radio_ohm if settings.feed_toward == "radio" else result.z_antenna_ohm
+    where = "at the radio" if settings.feed_toward == "radio" else "at the antenna"
+    return Sweep(freq_hz=sweep.freq_hz, s=z_to_gamma(z, z_port.real).reshape(-1, 1, 1), z0_ohm=z_port.real,
+                 name=f"{sweep.name or 'trace'} {where}")
+
+
+def antenna(request: AntennaRequest, *, cancelled=lambda: False) -> JobResult:
+    """Resonances and VSWR bands of the trace; feedline and matching networks at the marker.
+
+    ``cancelled()`` is asked between the parts, so a superseded request stops early. The
+    value is :class:`AntennaResults`; one part failing leaves the others standing.
+    """
+    from refplane.analysis.antenna.feedline import toward_antenna, toward_radio
+    from refplane.analysis.antenna.matching import match_sweep
+    from refplane.analysis.antenna.resonance import analyse
+    from refplane.analysis.errors import AnalysisError
+    from refplane.analysis.impedance import gamma_to_z
+    from refplane.analysis.markers import gamma_at
+
+    s = request.settings
+    sweep, port, f = request.sweep, request.port, request.freq_hz
+    skipped = JobResult(False, message="superseded")
+
+    resonance = guarded(lambda: analyse(sweep, port, vswr_limits=(float(s.vswr_limit),)),
+                        what="find resonances and bands")
+    if cancelled():
+        return JobResult(True, AntennaResults(request, resonance, skipped, skipped))
+
+    def feed():
+        if f is None:
+            raise AnalysisError("Place a marker to see what the radio sees through the feedline.")
+        if not s.feed_length_m > 0:
+            raise AnalysisError("Give the feedline's length to see what the radio sees through it.")
+        z_port = complex(sweep.z0_ohm[port - 1])
+        z = gamma_to_z(gamma_at(sweep, f, port), z_port)
+        work = toward_radio if s.feed_toward == "radio" else toward_antenna
+        power = float(s.power_w) if s.power_w else None
+        return work(f, z, feedline_of(s), z_ref_ohm=z_port.real, power_w=power)
+
+    feedline = guarded(feed, what="work through the feedline")
+    if cancelled():
+        return JobResult(True, AntennaResults(request, resonance, feedline, skipped))
+
+    def design():
+        if f is None:
+            raise AnalysisError("Place a marker at the frequency to match.")
+        power = float(s.power_w) if s.power_w else None
+        return match_sweep(sweep, f, port=port, target_ohm=s.target_ohm, series=s.series, power_w=power,
+                           vf=s.feed_vf)
+
+    match = guarded(design, what="design matching networks")
+    return JobResult(True, AntennaResults(request, resonance, feedline, match))
