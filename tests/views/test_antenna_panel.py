@@ -16,7 +16,7 @@ from refplane.analysis.sweep import Sweep
 from refplane.session import tool_text, tools
 from refplane.session.model import Session
 from refplane.views.panels import tool_widgets as tw
-from refplane.views.panels.antenna_panel import AntennaPanel
+from refplane.views.panels.antenna_panel import AntennaPanel, two_line
 
 pytestmark = pytest.mark.needs_qt
 
@@ -78,8 +78,8 @@ def test_resonance_and_band_of_a_series_rlc_against_closed_forms(setup):
     # Closed form for high Q: fractional width (s − 1)/(Q√s) (Yaghjian and Best 2005), within 1 %.
     assert band.width_hz / f0 == pytest.approx((s - 1) / (q * math.sqrt(s)), rel=0.01)
     # The table shows exactly the analysis result's numbers.
-    assert tw.rows_of(panel.band_table) == tool_text.band_rows(analyse(state.displayed(state.trace_ids()[0]),
-                                                                      vswr_limits=(2.0,)))
+    assert tw.rows_of(panel.band_table) == two_line(tool_text.band_rows(
+        analyse(state.displayed(state.trace_ids()[0]), vswr_limits=(2.0,))))
     assert "Best match 1.00:1" in panel.best_label.text()
 
 
@@ -172,15 +172,16 @@ def test_matching_at_the_marker_follows_pozar_and_the_analysis(setup, qtbot):
     c = [p for p in first.parts if p.kind == "C"][0]
     ind = [p for p in first.parts if p.kind == "L"][0]
     assert c.value == pytest.approx(0.92e-12, rel=0.01) and ind.value == pytest.approx(38.8e-9, rel=0.01)
-    assert tw.rows_of(panel.parts_table) == tool_text.part_rows(first)
-    assert tw.rows_of(panel.parts_table)[0][:3] == ["shunt C", "922.8 fF", "910 fF"]  # 0.91 pF is E24
+    assert tool_text.part_rows(first)[0][:3] == ["shunt C", "922.8 fF", "910 fF"]  # 0.91 pF is E24
+    assert tw.rows_of(panel.parts_table)[0][:2] == ["shunt C", "922.8 fF\n910 fF"]
+    assert [r[0] for r in tw.rows_of(panel.parts_table)] == [r[0] for r in tool_text.part_rows(first)]
     expected = match_sweep(state.displayed(tid), 500e6, power_w=100.0, series="E24", vf=0.66)
     assert [n.topology for n in match.networks] == [n.topology for n in expected.networks]
     assert panel.network_combo.count() == len(expected.networks)
     # Choose another network in the list: the session remembers it and the parts follow.
     panel.network_combo.setCurrentIndex(1)
     assert state.tool("antenna").network == "L 2"
-    assert tw.rows_of(panel.parts_table) == tool_text.part_rows(match.networks[1])
+    assert tw.rows_of(panel.parts_table)[1][2] == "\n".join(tool_text.part_rows(match.networks[1])[1][3:])
     assert panel.parts_text().splitlines()[0].startswith("L-network 2")
     panel.copy_parts()
     from PySide6.QtGui import QGuiApplication

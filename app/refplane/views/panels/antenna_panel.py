@@ -81,9 +81,11 @@ class AntennaPanel(QWidget):
         lay.addLayout(f)
         self.best_label = tw.note("", quiet=False)
         lay.addWidget(self.best_label)
-        self.resonance_table = tw.table(["Resonance", "Kind", "R", "Q"])
+        self.resonance_table = tw.table(["Resonance", "Kind", "R", "Loaded Q"])
+        self.resonance_table.horizontalHeaderItem(3).setToolTip(
+            "ω·|dZ/dω|/(2R) at the resonance (Yaghjian and Best 2005); not the marker table's X/R")
         lay.addWidget(self.resonance_table)
-        self.band_table = tw.table(["From", "To", "Centre", "Width"])
+        self.band_table = tw.table(["From / to", "Centre / width"])
         lay.addWidget(self.band_table)
         column.addWidget(box)
 
@@ -105,8 +107,10 @@ class AntennaPanel(QWidget):
         self.power_edit.setPlaceholderText("e.g. 100 W")
         self.power_edit.setToolTip("Power the transmitter puts into the line (and into a matching network).")
         self.toward_combo = QComboBox()
-        self.toward_combo.addItem("at the antenna (see the radio end)", "radio")
-        self.toward_combo.addItem("at the radio end (see the antenna)", "antenna")
+        self.toward_combo.addItem("at the antenna", "radio")
+        self.toward_combo.addItem("at the radio end", "antenna")
+        self.toward_combo.setToolTip("Where the trace was measured: at the antenna (the panel shows what "
+                                     "the radio sees) or at the radio end (it shows the antenna)")
         self.toward_combo.setSizeAdjustPolicy(QComboBox.AdjustToMinimumContentsLengthWithIcon)
         self.toward_combo.setMinimumContentsLength(12)
         f = tw.form()
@@ -115,7 +119,7 @@ class AntennaPanel(QWidget):
         f.addRow("Loss", self.loss_edit)
         f.addRow("Line Z0", self.z0_edit)
         f.addRow("Power", self.power_edit)
-        f.addRow("Trace is", self.toward_combo)
+        f.addRow("Trace taken", self.toward_combo)
         lay.addLayout(f)
         self.feed_table = tw.table(["At the marker", "Value"])
         lay.addWidget(self.feed_table)
@@ -145,7 +149,7 @@ class AntennaPanel(QWidget):
         self.network_combo.setMinimumContentsLength(14)
         self.network_combo.setSizePolicy(QSizePolicy.Ignored, QSizePolicy.Fixed)
         lay.addWidget(self.network_combo)
-        self.parts_table = tw.table(["Part", "Exact", "Standard", "Peak V", "RMS A"])
+        self.parts_table = tw.table(["Part", "Exact / standard", "Peak V / RMS I"])
         lay.addWidget(self.parts_table)
         self.network_label = tw.note("", quiet=False)
         lay.addWidget(self.network_label)
@@ -225,12 +229,12 @@ class AntennaPanel(QWidget):
         self._job += 1
         if tid == -1:
             self._show(None)
-            self.message.setText("Open a sweep of the antenna (with the plane at its feedpoint) and place "
+            self._say("Open a sweep of the antenna (with the plane at its feedpoint) and place "
                                  "a marker.")
             return None
         request = tool_jobs.AntennaRequest(job=self._job, trace_id=tid, sweep=self.state.displayed(tid),
                                            port=port, freq_hz=freq, settings=self.settings)
-        self.message.setText("Working…")
+        self._say("Working…")
 
         def work(ticket):
             return tool_jobs.antenna(request, cancelled=lambda: ticket.cancelled)
@@ -291,12 +295,17 @@ class AntennaPanel(QWidget):
 
         self.workers.submit(work, done, name="Feedline…")
 
+    def _say(self, text: str) -> None:
+        # The message line takes room only when it has something to say.
+        self.message.setText(text)
+        self.message.setVisible(bool(text))
+
     # ---------------------------------------------------------------- edits → session
     def _set(self, **changes) -> None:
         try:
             self.state.set_tool(TOOL, **changes)
         except AnalysisError as exc:
-            self.message.setText(str(exc))
+            self._say(str(exc))
 
     def _length_typed(self) -> None:
         from refplane.analysis.units import parse_length
@@ -331,7 +340,7 @@ class AntennaPanel(QWidget):
             if value is not None and not value > 0:
                 raise AnalysisError(f"{text!r}: an impedance must be above zero ohms")
         except AnalysisError as exc:
-            self.message.setText(str(exc))
+            self._say(str(exc))
             return
         self._set(**{field: value})
 
@@ -344,7 +353,7 @@ class AntennaPanel(QWidget):
             if value < 0:
                 raise AnalysisError("a power must be zero or more watts")
         except AnalysisError as exc:
-            self.message.setText(str(exc))
+            self._say(str(exc))
             return
         self._set(power_w=value)
 
@@ -412,7 +421,7 @@ class AntennaPanel(QWidget):
 
     def _show(self, results, message: str = "") -> None:
         self.results = results
-        self.message.setText(message)
+        self._say(message)
         if results is None:
             for t in (self.resonance_table, self.band_table, self.feed_table, self.parts_table):
                 tw.fill(t, [])
@@ -426,7 +435,7 @@ class AntennaPanel(QWidget):
         if res.ok:
             self.best_label.setText(tool_text.best_sentence(res.value, results.request.settings.vswr_limit))
             tw.fill(self.resonance_table, tool_text.resonance_rows(res.value))
-            tw.fill(self.band_table, tool_text.band_rows(res.value))
+            tw.fill(self.band_table, two_line(tool_text.band_rows(res.value)))
         else:
             self.best_label.setText(res.message)
             tw.fill(self.resonance_table, [])
@@ -468,7 +477,9 @@ class AntennaPanel(QWidget):
             self.network_combo.setCurrentIndex(i)
             self.network_combo.blockSignals(False)
         self.network_combo.setToolTip(self.network_combo.currentText())
-        tw.fill(self.parts_table, tool_text.part_rows(network))
+        # A line's or stub's impedance and far end go on a second line of its cell.
+        tw.fill(self.parts_table, [[r[0].replace(" line ", " line\n", 1).replace(" stub ", " stub\n", 1)]
+                                   + two_line([r[1:]])[0] for r in tool_text.part_rows(network)])
         self.network_label.setText(tool_text.network_sentence(network, self._match().series))
         self.copy_button.setEnabled(True)
         self._set_path(network.path_gamma if self.settings.draw_path else None)
@@ -476,6 +487,11 @@ class AntennaPanel(QWidget):
     def _set_path(self, gamma) -> None:
         self.path_gamma = gamma
         self.pathChanged.emit(gamma)
+
+
+def two_line(rows):
+    """Pairs of cells stacked in one cell each ("a\nb"), so a table fits the side column."""
+    return [[f"{row[i]}\n{row[i + 1]}" for i in range(0, len(row), 2)] for row in rows]
 
 
 # ---------------------------------------------------------------- the chart's path item

@@ -71,7 +71,9 @@ def table(headers: list[str]) -> QTableWidget:
     header.setStretchLastSection(True)
     header.setMinimumSectionSize(20)
     t.setVerticalScrollBarPolicy(Qt.ScrollBarAlwaysOff)
-    t.setHorizontalScrollBarPolicy(Qt.ScrollBarAsNeeded)
+    # Cells carry tooltips and two-line text where space is short; the column never scrolls sideways.
+    t.setHorizontalScrollBarPolicy(Qt.ScrollBarAlwaysOff)
+    t.setTextElideMode(Qt.ElideRight)
     t.setSizePolicy(QSizePolicy.Ignored, QSizePolicy.Fixed)
     fill(t, [])
     return t
