@@ -57,7 +57,14 @@ def calibration_to_json(cal: Calibration) -> dict:
         "quality": cal.quality, "verdict": cal.verdict,
         "warnings": list(cal.warnings), "description": list(cal.description),
         "checks": [c.summary() for c in cal.checks],
+        **({"uncertainty": _uncertainty_json(cal.uncertainty)} if cal.uncertainty is not None else {}),
     }
+
+
+def _uncertainty_json(cu) -> dict:
+    from refplane.analysis.uncertainty.calprop import to_json
+
+    return to_json(cu)
 
 
 def save_calibration(cal: Calibration, path: str | os.PathLike, *, overwrite: bool = False) -> Path:
@@ -141,8 +148,13 @@ def calibration_from_json(obj, *, file: str | os.PathLike | None = None) -> Cali
     description = strings("description") + tuple(f"check result: {c}" for c in strings("checks"))
     if file is not None:
         description = (f"calibration file: {fname}",) + description
+    uncertainty = None
+    if "uncertainty" in obj:
+        from refplane.analysis.uncertainty.calprop import from_json
+
+        uncertainty = from_json(obj["uncertainty"], freq, file=fname)
     return Calibration(freq, float(z0), port1, trans, residual, strings("warnings"), quality,
-                       str(obj.get("verdict", "")), description)
+                       str(obj.get("verdict", "")), description, uncertainty=uncertainty)
 
 
 def load_calibration(path: str | os.PathLike) -> Calibration:

@@ -299,6 +299,9 @@ class Calibration:
     description : tuple of str
         How it was made (standards, files), for headers of corrected files.
     checks : tuple of CheckResult
+    uncertainty : CalibrationUncertainty or None
+        Residual-term covariance propagated from the standards
+        (:mod:`refplane.analysis.uncertainty.calprop`), when it was worked out.
     """
 
     freq_hz: np.ndarray
@@ -311,6 +314,7 @@ class Calibration:
     verdict: str = ""
     description: tuple[str, ...] = ()
     checks: tuple[CheckResult, ...] = field(default_factory=tuple)
+    uncertainty: object | None = None
 
     @property
     def n_points(self) -> int:

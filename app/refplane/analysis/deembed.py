@@ -4,20 +4,52 @@ The line model
 --------------
 Each port may carry one :class:`LineOffset`: a uniform line described by its one-way
 electrical delay ``τ``, a conductor loss that grows as √f, a dielectric loss that grows as f,
-and an optional characteristic impedance. Over the line the waves pick up
+and an optional characteristic impedance. With the one-way conductor and dielectric losses
+in nepers
 
-    γl(f) = α(f)·l + j·2π·f·τ,     α(f)·l = (loss_db·√(f/f_ref) + dielectric_loss_db·(f/f_ref)) / 8.6859
+    A_c(f) = loss_db·√(f/f_ref) / 8.6859,     A_d(f) = dielectric_loss_db·(f/f_ref) / 8.6859
 
-(nepers; 20·log10(e) ≈ 8.6859 dB per neper). The loss at f = 0 is zero.
+(20·log10(e) ≈ 8.6859 dB per neper; both vanish at f = 0), the line's γl is, in the
+low-loss form,
 
-Matched lines (``line_z0_ohm`` None, or equal to the port's reference) only rotate and
-attenuate the waves, so each S_ij is multiplied by e^(−γ_i l_i)·e^(−γ_j l_j) when a line is
-added and by the inverse when it is removed. A line of another impedance is a full two-port
-(ABCD → S at the port's reference) cascaded in front of the port; removing it uses the exact
-inverse of that cascade; a 1-port takes a shortcut (Γ referred to the line's own impedance,
-where the line is matched) and a 2-port has the 2 × 2 algebra written out. Every path is
-vectorised over frequency and worked in blocks of a few thousand points (no Python loop
-over points); adding and then removing the same offsets returns the input to rounding.
+    γl(f) = A_c(f)·(1 + j·s) + A_d(f) + j·2π·f·τ,      s = 1 if ``skin_phase`` else 0,
+
+with a constant characteristic impedance Zc (``line_z0_ohm``, or the port's reference).
+
+Why the conductor term carries a phase (``skin_phase=True``, the causal skin-effect model):
+a good conductor's surface impedance is Zs = (1 + j)·√(π·f·μ/σ) — its resistance and its
+internal reactance are equal and both grow as √f (Pozar, *Microwave Engineering*, 4th ed.,
+§1.7 "the surface impedance of a good conductor" and §2.7 for the line's R, L, G, C; from
+memory). Per unit length the line has Z' = jωL + (1 + j)·R_s(f) and Y' = jωC + G(f), so to
+first order in the losses γ = α_c·(1 + j) + α_d + jβ: the skin effect delays the wave by
+exactly as many radians as it attenuates it in nepers. A √f loss with no phase (s = 0, the
+form Refplane used first, still the default of the dataclass so stored offsets read alike)
+is not causal; on real cable it leaves a phase error that grows as √f.
+
+With ``z0_follows_skin=True`` the line is taken literally as that R, L, G, C line instead of
+its low-loss form (Pozar §2.1, γ = √(Z'Y'), Zc = √(Z'/Y')). In terms of the line's totals,
+with φ = 2π·f·τ,
+
+    Z'l/Z0 = jφ + 2·A_c·(1 + j),    Y'l·Z0 = jφ + 2·A_d,
+    γl = √((jφ + 2A_c(1 + j))·(jφ + 2A_d)),     Zc(f) = Z0·√((jφ + 2A_c(1 + j)) / (jφ + 2A_d)),
+
+where Z0 is the high-frequency impedance (``line_z0_ohm``, or the port's reference). Zc
+rises above Z0 at low frequency as the conductor's internal reactance and resistance become
+comparable with ωL (by a fraction ≈ (1 − j)·A_c/φ); γl reduces to the low-loss form above
+when the losses are small against φ. The law holds where the skin depth is small against the
+conductors (coax: above roughly 100 kHz to 1 MHz); it ignores the DC resistance, and the
+small phase a constant-loss-tangent dielectric carries.
+
+Matched lines (``line_z0_ohm`` None, or equal to the port's reference, and an impedance that
+does not follow the skin law) only rotate and attenuate the waves, so each S_ij is
+multiplied by e^(−γ_i l_i)·e^(−γ_j l_j) when a line is added and by the inverse when it is
+removed. A line of another impedance is a full two-port (ABCD → S at the port's reference)
+cascaded in front of the port; removing it uses the exact inverse of that cascade; a 1-port
+takes a shortcut (Γ referred to the line's own impedance, where the line is matched) and a
+2-port has the 2 × 2 algebra written out. Every path is vectorised over frequency and worked
+in blocks of a few thousand points (no Python loop over points); adding and then removing
+the same offsets returns the input to rounding. A lossless line takes exactly the same
+arithmetic whatever the two model switches say.
 
 A line of another impedance uses the same Γ = (Z − Z_ref)/(Z + Z_ref) definition as the rest
 of Refplane, also for complex port references.
@@ -76,7 +108,15 @@ class LineOffset:
         One-way dielectric loss in dB at ``loss_ref_hz``; scales as f. Not negative.
     line_z0_ohm : float or None
         Characteristic impedance of the line, above zero; ``None`` means the line matches
-        the sweep's reference impedance at that port.
+        the sweep's reference impedance at that port. With ``z0_follows_skin`` this is the
+        high-frequency value.
+    skin_phase : bool
+        Give the √f conductor loss its equal phase (the causal skin-effect model, see the
+        module notes). False keeps the older loss-only form.
+    z0_follows_skin : bool
+        Treat the line as its full R, L, G, C line: the impedance rises above ``line_z0_ohm``
+        at low frequency following the skin-effect law. Implies ``skin_phase``; needs a
+        delay of zero or more.
 
     Examples
     --------
@@ -89,8 +129,12 @@ class LineOffset:
     loss_ref_hz: float = 1e9
     dielectric_loss_db: float = 0.0
     line_z0_ohm: float | None = None
+    skin_phase: bool = False
+    z0_follows_skin: bool = False
 
     def __post_init__(self) -> None:
+        object.__setattr__(self, "z0_follows_skin", bool(self.z0_follows_skin))
+        object.__setattr__(self, "skin_phase", bool(self.skin_phase) or self.z0_follows_skin)
         object.__setattr__(self, "delay_s", _finite(self.delay_s, "delay"))
         for name, what in (("loss_db", "loss"), ("dielectric_loss_db", "dielectric loss")):
             value = _finite(getattr(self, name), what)
@@ -109,6 +153,45 @@ class LineOffset:
             if z0 <= 0:
                 raise AnalysisError(f"the line impedance must be above zero, not {z0:g} Ω")
             object.__setattr__(self, "line_z0_ohm", z0)
+        if self.z0_follows_skin and self.delay_s < 0:
+            raise AnalysisError("a line whose impedance follows the skin-effect law needs a delay of "
+                                "zero or more (it describes a real length of cable)")
+
+    @property
+    def full_line(self) -> bool:
+        """True when the line is worked as its full R, L, G, C line (impedance varies with f).
+
+        Only a line with both length (delay) and conductor loss has that law; otherwise the
+        low-loss form is exact or the only meaningful one.
+        """
+        return self.z0_follows_skin and self.loss_db > 0.0 and self.delay_s > 0.0
+
+    def losses_np(self, freq_hz: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """One-way conductor and dielectric losses in nepers at ``freq_hz`` (A_c, A_d of the notes)."""
+        ratio = np.abs(np.asarray(freq_hz, dtype=np.float64)) / self.loss_ref_hz
+        return np.sqrt(ratio) * (self.loss_db / DB_PER_NEPER), ratio * (self.dielectric_loss_db / DB_PER_NEPER)
+
+    def _full_terms(self, freq_hz: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """(Z'l/Z0, Y'l·Z0) of the full line, see the module notes."""
+        f = np.asarray(freq_hz, dtype=np.float64)
+        a_c, a_d = self.losses_np(f)
+        phi = (2.0 * math.pi * self.delay_s) * f
+        return (2.0 * a_c + 1j * (phi + 2.0 * a_c)), (2.0 * a_d + 1j * phi)
+
+    def impedance_ohm(self, freq_hz: np.ndarray, z_ref_ohm: complex = 50.0) -> np.ndarray:
+        """The line's characteristic impedance at ``freq_hz`` (constant unless ``z0_follows_skin``).
+
+        ``z_ref_ohm`` stands in for ``line_z0_ohm`` when that is ``None``. At f = 0 the
+        high-frequency value is returned (the skin law does not reach DC).
+        """
+        f = np.asarray(freq_hz, dtype=np.float64)
+        z0 = complex(z_ref_ohm) if self.line_z0_ohm is None else self.line_z0_ohm
+        if not self.full_line:
+            return np.full(f.shape, z0, dtype=np.complex128)
+        zl, yl = self._full_terms(f)
+        safe = yl != 0
+        ratio = np.where(safe, zl / np.where(safe, yl, 1.0), 1.0)
+        return z0 * np.sqrt(ratio)
 
     @classmethod
     def from_length(cls, length_m: float, velocity_factor: float, **kw) -> "LineOffset":
@@ -148,11 +231,16 @@ class LineOffset:
     def gamma_l(self, freq_hz: np.ndarray) -> np.ndarray:
         """The line's γ·l at ``freq_hz``: attenuation in nepers plus j·(phase in radians)."""
         f = np.asarray(freq_hz, dtype=np.float64)
+        if self.full_line:
+            zl, yl = self._full_terms(f)
+            return np.sqrt(zl * yl)          # principal root: Re ≥ 0, a wave that decays
         out = np.empty(f.shape, dtype=np.complex128)
         out.imag = (2.0 * math.pi * self.delay_s) * f
         if self.loss_db or self.dielectric_loss_db:
             ratio = f / self.loss_ref_hz
             alpha = np.sqrt(np.abs(ratio)) * (self.loss_db / DB_PER_NEPER)
+            if self.skin_phase and self.loss_db:
+                out.imag += alpha
             if self.dielectric_loss_db:
                 alpha += ratio * (self.dielectric_loss_db / DB_PER_NEPER)
             out.real = alpha
@@ -169,15 +257,20 @@ class LineOffset:
             parts.append(f"({format_si(self.length_m(velocity_factor), 'm')} at velocity factor {velocity_factor:g})")
         if self.loss_db or self.dielectric_loss_db:
             ref = format_frequency(self.loss_ref_hz)
-            parts.append(f"loss {self.loss_db:g} dB at {ref} (√f)")
+            parts.append(f"loss {self.loss_db:g} dB at {ref} (√f"
+                         + (", with its equal phase)" if self.skin_phase and self.loss_db else ")"))
             if self.dielectric_loss_db:
                 parts.append(f"dielectric loss {self.dielectric_loss_db:g} dB at {ref} (f)")
         parts.append("line impedance = reference" if self.line_z0_ohm is None
                      else f"line impedance {self.line_z0_ohm:g} Ω")
+        if self.full_line:
+            parts[-1] += " at high frequency, rising below as the skin-effect law says"
         return ", ".join(parts)
 
 
 def _is_matched(offset: LineOffset, z_ref: complex) -> bool:
+    if offset.full_line:
+        return False
     return offset.line_z0_ohm is None or (z_ref.imag == 0.0 and offset.line_z0_ohm == z_ref.real)
 
 
@@ -231,9 +324,16 @@ def _phasor(f: np.ndarray, w: float) -> np.ndarray:
 def _exp_gamma_l(offset: LineOffset, freq_hz: np.ndarray, k: float) -> np.ndarray:
     """e^(k·γl) at ``freq_hz`` (called block by block on long sweeps; see :func:`_phasor`)."""
     f = freq_hz
+    if offset.full_line:
+        return np.exp(k * offset.gamma_l(f))
     out = _phasor(f, k * 2.0 * math.pi * offset.delay_s)
     if offset.loss_db or offset.dielectric_loss_db:
         scratch = f * (1.0 / offset.loss_ref_hz)
+        if offset.skin_phase and offset.loss_db:
+            # (1 + j)·A_c: the conductor term turns the phasor by as many radians as nepers.
+            a_c = np.sqrt(np.abs(scratch)) * (k * offset.loss_db / DB_PER_NEPER)
+            alpha = a_c + scratch * (k * offset.dielectric_loss_db / DB_PER_NEPER)
+            return out * np.exp(alpha + 1j * a_c)
         if offset.dielectric_loss_db:
             alpha = np.sqrt(np.abs(scratch)) * (k * offset.loss_db / DB_PER_NEPER)
             alpha += scratch * (k * offset.dielectric_loss_db / DB_PER_NEPER)
@@ -255,7 +355,7 @@ def _line_terms(offset: LineOffset, freq_hz: np.ndarray, z_ref: complex) -> tupl
     # With ρ = (Zc − Zref)/(Zc + Zref) and P = e^(−γl): S11 = ρ(1 − P²)/(1 − ρ²P²) and
     # S21 = P(1 − ρ²)/(1 − ρ²P²) — the ABCD → S conversion of a uniform line, rearranged.
     # |ρ| < 1 and |P| ≤ 1, so the denominator never vanishes.
-    zc = offset.line_z0_ohm
+    zc = offset.impedance_ohm(freq_hz, z_ref) if offset.full_line else offset.line_z0_ohm
     rho = (zc - z_ref) / (zc + z_ref)
     p2 = p * p
     den = 1.0 - (rho * rho) * p2
@@ -333,7 +433,7 @@ def _one_port_block(f, s, z0, offsets, removing: bool) -> np.ndarray:
     """
     offset = offsets[0]
     z_ref = complex(z0[0])
-    zc = offset.line_z0_ohm
+    zc = offset.impedance_ohm(f, z_ref) if offset.full_line else offset.line_z0_ohm
     r = (zc - z_ref) / (zc + z_ref)
     g = s[:, 0, 0]
     den = 1.0 - r * g

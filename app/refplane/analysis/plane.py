@@ -3,7 +3,8 @@
 A bare cable or fixture ended in an open (Γ = +1) or a short (Γ = −1) and measured through a
 matched line reads Γ_m = Γ_ideal · e^(−2γl): the round trip turns the phase by −4π·f·τ and
 attenuates by twice the one-way loss. :func:`estimate_plane` finds the one-way delay τ and
-the one-way conductor loss (√f model) that bring the reading back to the ideal standard.
+the one-way conductor (√f) and dielectric (f) losses that bring the reading back to the ideal
+standard.
 
 How
 ---
@@ -15,9 +16,16 @@ How
    −5 % … 95 % of the unambiguous span 1/(2·Δf).
 2. Delay, fine: a robust (soft-L1) least-squares fit of the remaining, now small, phase
    error against −4π·f·Δτ through the origin.
-3. Loss: −20·log10|r| = 2·loss_db·√(f/f_ref), fitted by least squares with a Huber loss
-   (scale from the median absolute deviation), not below zero.
-4. Residual: the RMS of |Γ_corrected − Γ_ideal| over the band, with every point counted.
+3. Loss: −20·log10|r| = 2·(loss_db·√(f/f_ref) + dielectric_loss_db·f/f_ref), fitted by
+   least squares with a Huber loss (scale from the median absolute deviation), not below
+   zero; the dielectric term is kept only when it lowers the sum of squares by a tenth.
+4. Model: the line model of :mod:`refplane.analysis.deembed` is tried three ways — causal
+   (the √f loss with its equal phase; the delay is fitted to the phase left after removing
+   it), loss only (the √f loss without phase, as synthetic data and older files may have),
+   and the full R, L, G, C line whose impedance follows the skin-effect law at low frequency
+   (delay refined by a bounded 1-D search). Each later one must lower the median error by 5 %
+   to be chosen; the estimate reports which model won.
+5. Residual: the RMS of |Γ_corrected − Γ_ideal| over the band, with every point counted.
 """
 
 from __future__ import annotations
@@ -27,7 +35,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from refplane.analysis.deembed import SPEED_OF_LIGHT_M_S, LineOffset
+from refplane.analysis.deembed import DB_PER_NEPER, SPEED_OF_LIGHT_M_S, LineOffset
 from refplane.analysis.errors import AnalysisError
 from refplane.analysis.sweep import Sweep
 
@@ -54,7 +62,7 @@ class PlaneEstimate:
     loss_db : float
         One-way conductor loss in dB at ``loss_ref_hz`` (scales as √f).
     loss_ref_hz : float
-        Reference frequency of ``loss_db``.
+        Reference frequency of ``loss_db`` and ``dielectric_loss_db``.
     length_m : float or None
         Physical length for the given velocity factor; ``None`` when none was given.
     residual : float
@@ -72,6 +80,14 @@ class PlaneEstimate:
     typical_error : float
         The median of |Γ_corrected − Γ_ideal|: unlike ``residual``, a few wild points
         hardly move it.
+    dielectric_loss_db : float
+        One-way dielectric loss in dB at ``loss_ref_hz`` (scales as f).
+    skin_phase : bool
+        True when the conductor loss carries its equal phase (the causal skin-effect model,
+        see :mod:`refplane.analysis.deembed`).
+    z0_follows_skin : bool
+        True when the line's impedance follows the skin-effect law at low frequency (the
+        full R, L, G, C line, high-frequency impedance = the port's reference).
     """
 
     delay_s: float
@@ -84,10 +100,20 @@ class PlaneEstimate:
     other_residual: float = math.nan
     band_hz: tuple[float, float] = (math.nan, math.nan)
     typical_error: float = math.nan
+    dielectric_loss_db: float = 0.0
+    skin_phase: bool = False
+    z0_follows_skin: bool = False
+
+    @property
+    def model(self) -> str:
+        """Which line model explained the reading best: "causal", "loss only" or "full line"."""
+        return "full line" if self.z0_follows_skin else ("causal" if self.skin_phase else "loss only")
 
     def offset(self) -> LineOffset:
-        """The estimate as a :class:`LineOffset` (line matched to the port's reference)."""
-        return LineOffset(delay_s=self.delay_s, loss_db=self.loss_db, loss_ref_hz=self.loss_ref_hz)
+        """The estimate as a :class:`LineOffset` (impedance: the port's reference)."""
+        return LineOffset(delay_s=self.delay_s, loss_db=self.loss_db, loss_ref_hz=self.loss_ref_hz,
+                          dielectric_loss_db=self.dielectric_loss_db, skin_phase=self.skin_phase,
+                          z0_follows_skin=self.z0_follows_skin)
 
     def verdict(self) -> str:
         """A plain sentence on how well the stated standard and a uniform line explain the data."""
@@ -111,6 +137,8 @@ class PlaneEstimate:
     def json(self) -> dict:
         """The one-way figures as plain JSON values."""
         return {"delay_s": self.delay_s, "loss_db": self.loss_db, "loss_ref_hz": self.loss_ref_hz,
+                "dielectric_loss_db": self.dielectric_loss_db, "skin_phase": self.skin_phase,
+                "z0_follows_skin": self.z0_follows_skin, "model": self.model,
                 "length_m": self.length_m, "residual": self.residual}
 
 
@@ -162,13 +190,19 @@ def _fine_delay(freq_hz: np.ndarray, u: np.ndarray, tau0: float, step: float) ->
     return tau1 + float(fit.x[0]) / (4 * np.pi * scale_hz)
 
 
-def _fit_loss(freq_hz: np.ndarray, mag: np.ndarray, loss_ref_hz: float) -> float:
+def _fit_loss(freq_hz: np.ndarray, mag: np.ndarray, loss_ref_hz: float) -> tuple[float, float]:
+    """One-way (conductor, dielectric) loss in dB at ``loss_ref_hz`` from |Γ_m/Γ_ideal|.
+
+    −20·log10|r| / 2 = a·√(f/f_ref) + b·(f/f_ref), both not negative, fitted with a Huber
+    loss (scale from the median absolute deviation of a first, conductor-only fit).
+    """
     from scipy.optimize import least_squares
 
     keep = (freq_hz > 0) & (mag > 0)
     if not np.any(keep):
-        return 0.0
-    x = np.sqrt(freq_hz[keep] / loss_ref_hz)
+        return 0.0, 0.0
+    ratio = freq_hz[keep] / loss_ref_hz
+    x = np.sqrt(ratio)
     y = -20.0 * np.log10(mag[keep]) / 2.0          # one-way loss in dB at each point
     start = max(float(np.median(y / x)), 0.0)
     resid = y - start * x
@@ -179,10 +213,44 @@ def _fit_loss(freq_hz: np.ndarray, mag: np.ndarray, loss_ref_hz: float) -> float
         return p[0] * x - y
 
     fit = least_squares(error, x0=[start], bounds=([0.0], [np.inf]), loss="huber", f_scale=scale)
-    return max(float(fit.x[0]), 0.0)
+    conductor = max(float(fit.x[0]), 0.0)
+    if x.size < 4 or ratio.max() <= 1.5 * ratio.min():
+        return conductor, 0.0          # too narrow a band to tell √f from f
+
+    def error2(p: np.ndarray) -> np.ndarray:
+        return p[0] * x + p[1] * ratio - y
+
+    both = least_squares(error2, x0=[conductor, 0.0], bounds=([0.0, 0.0], [np.inf, np.inf]),
+                         loss="huber", f_scale=scale)
+    # Keep the dielectric term only when it earns its place: the two terms are much alike over
+    # a narrow band, and noise alone must not move loss from one to the other.
+    before = float(np.sum(both.fun ** 2)) if both.success else math.inf
+    alone = float(np.sum(error(np.array([conductor])) ** 2))
+    if both.success and both.x[1] > 0 and before < 0.9 * alone:
+        return max(float(both.x[0]), 0.0), max(float(both.x[1]), 0.0)
+    return conductor, 0.0
 
 
-def _fit(freq_hz: np.ndarray, gamma: np.ndarray, ideal: float, loss_ref_hz: float, coarse=None):
+#: The ways the line's losses may be modelled, in the order tried (see :func:`estimate_plane`).
+MODELS = ("causal", "loss only", "full line")
+
+
+def _model_offset(model: str, tau: float, loss: tuple[float, float], ref: float) -> LineOffset:
+    return LineOffset(delay_s=tau, loss_db=loss[0], loss_ref_hz=ref, dielectric_loss_db=loss[1],
+                      skin_phase=model != "loss only", z0_follows_skin=model == "full line")
+
+
+def _errors(freq_hz: np.ndarray, gamma: np.ndarray, ideal: float, offset: LineOffset) -> np.ndarray:
+    if offset.full_line:
+        from refplane.analysis.deembed import remove_offsets
+
+        back = remove_offsets(Sweep(freq_hz, gamma, 50.0), [offset]).s[:, 0, 0]
+        return np.abs(back - ideal)
+    return np.abs(gamma * np.exp(2.0 * offset.gamma_l(freq_hz)) - ideal)
+
+
+def _fit(freq_hz: np.ndarray, gamma: np.ndarray, ideal: float, loss_ref_hz: float, coarse=None,
+         models=MODELS):
     r = gamma / ideal
     mag = np.abs(r)
     ok = mag > 0
@@ -192,12 +260,37 @@ def _fit(freq_hz: np.ndarray, gamma: np.ndarray, ideal: float, loss_ref_hz: floa
     # |Σ u·e^(j4πfτ)| does not change when u changes sign, so the coarse delay found for one
     # standard serves for the other.
     tau0, step = coarse if coarse is not None else _coarse_delay(freq_hz, u)
-    tau = _fine_delay(freq_hz, u, tau0, step)
-    loss_db = _fit_loss(freq_hz, mag, loss_ref_hz)
-    offset = LineOffset(delay_s=tau, loss_db=loss_db, loss_ref_hz=loss_ref_hz)
-    corrected = gamma * np.exp(2.0 * offset.gamma_l(freq_hz))
-    error = np.abs(corrected - ideal)
-    return tau, loss_db, float(np.sqrt(np.mean(error ** 2))), float(np.median(error)), (tau0, step)
+    loss = _fit_loss(freq_hz, mag, loss_ref_hz)
+    conductor_np = np.sqrt(np.abs(freq_hz) / loss_ref_hz) * (loss[0] / DB_PER_NEPER)
+    best = None
+    for model in models if loss[0] > 0 else models[:1]:
+        if model == "full line":
+            # Start from the causal delay and let the full line's own phase settle it.
+            from scipy.optimize import minimize_scalar
+
+            t_c = best[1].delay_s if best is not None else tau0
+            scale = 1e-3 * max(abs(t_c), step)
+
+            def rms(t: float) -> float:
+                off = _model_offset(model, max(t_c + t * scale, 0.0), loss, loss_ref_hz)
+                return float(np.sqrt(np.mean(_errors(freq_hz, gamma, ideal, off) ** 2)))
+
+            res = minimize_scalar(rms, bounds=(-20.0, 20.0), method="bounded", options={"xatol": 1e-4})
+            tau = max(t_c + float(res.x) * scale, 0.0)
+        else:
+            # The causal model's conductor term turns the round trip by 2·A_c radians more.
+            turned = u * np.exp(2j * conductor_np) if model == "causal" else u
+            tau = _fine_delay(freq_hz, turned, tau0, step)
+        offset = _model_offset(model, tau, loss, loss_ref_hz)
+        error = _errors(freq_hz, gamma, ideal, offset)
+        rms_error = float(np.sqrt(np.mean(error ** 2)))
+        typical = float(np.median(error))
+        # Judged by the median error, which a few wild points hardly move; a later (less
+        # preferred) model must do clearly better to be chosen.
+        if best is None or typical < 0.95 * best[2]:
+            best = (rms_error, offset, typical)
+    rms_error, offset, typical = best
+    return offset, rms_error, typical, (tau0, step)
 
 
 def estimate_plane(sweep: Sweep, *, standard: str = "open", port: int = 1,
@@ -266,11 +359,13 @@ def estimate_plane(sweep: Sweep, *, standard: str = "open", port: int = 1,
         freq, gamma = freq[inside], gamma[inside]
     if freq.size < 3:
         raise AnalysisError(f"a plane estimate needs at least 3 swept points in the band; found {freq.size}")
-    tau, loss_db, residual, typical, coarse = _fit(freq, gamma, _IDEAL[key], ref)
+    line, residual, typical, coarse = _fit(freq, gamma, _IDEAL[key], ref)
     other = "short" if key == "open" else "open"
-    _, _, other_residual, _, _ = _fit(freq, gamma, _IDEAL[other], ref, coarse)
+    _, other_residual, _, _ = _fit(freq, gamma, _IDEAL[other], ref, coarse, models=MODELS[:2])
+    tau = line.delay_s
     length = tau * vf * SPEED_OF_LIGHT_M_S if vf is not None else None
-    return PlaneEstimate(delay_s=tau, loss_db=loss_db, loss_ref_hz=ref, length_m=length,
+    return PlaneEstimate(delay_s=tau, loss_db=line.loss_db, loss_ref_hz=ref, length_m=length,
                          residual=residual, n_points=int(freq.size), standard=key,
                          other_residual=other_residual, band_hz=(float(freq[0]), float(freq[-1])),
-                         typical_error=typical)
+                         typical_error=typical, dielectric_loss_db=line.dielectric_loss_db,
+                         skin_phase=line.skin_phase, z0_follows_skin=line.z0_follows_skin)

@@ -123,13 +123,15 @@ class Standard:
     series_l_h: float = 0.0
     data: Sweep | None = None
     file: str | None = None
+    #: Standard uncertainties of numeric fields, field name → value (SI), from ``<key>_u``.
+    uncertainties: Mapping[str, float] = field(default_factory=dict)
 
     def __post_init__(self) -> None:
         if self.kind not in KINDS:
             raise AnalysisError(f"unknown kind of standard {self.kind!r} (use one of {', '.join(KINDS)})")
         for f in dataclasses.fields(self):
             value = getattr(self, f.name)
-            if f.name in ("kind", "data", "file") or value is None:
+            if f.name in ("kind", "data", "file", "uncertainties") or value is None:
                 continue
             if not isinstance(value, (int, float)) or isinstance(value, bool) or not math.isfinite(value):
                 raise AnalysisError(f"{self.kind}: {f.name} must be a finite number, not {value!r}")
@@ -153,7 +155,7 @@ class Standard:
             return False
         defaults = Standard(self.kind)
         return all(getattr(self, f.name) == getattr(defaults, f.name)
-                   for f in dataclasses.fields(self) if f.name not in ("data", "file"))
+                   for f in dataclasses.fields(self) if f.name not in ("data", "file", "uncertainties"))
 
     def describe(self) -> str:
         """A short plain description, for file headers and the window."""
@@ -384,9 +386,18 @@ def _standard_from_json(entry, kind: str | None, label: str, base: Path, file: s
         raise SweepFileError(f"{label}: 'kind' must be one of {', '.join(KINDS)}", file=file)
     allowed = {**_OFFSET_KEYS, **{k: (v, 1.0) for k, v in _KIND_KEYS[given_kind].items()}}
     values: dict[str, object] = {}
+    uncertainties: dict[str, float] = {}
     data_file = entry.pop("file", None)
     entry.pop("note", None)
     for key, value in entry.items():
+        if key.endswith("_u") and key[:-2] in allowed:
+            # A standard uncertainty of a numeric field, in the field's own unit.
+            name, scale = allowed[key[:-2]]
+            if not isinstance(value, (int, float)) or isinstance(value, bool) or not math.isfinite(value) \
+                    or value < 0:
+                raise SweepFileError(f"{label}: {key} must be a number of at least 0, not {value!r}", file=file)
+            uncertainties[name] = float(value) * scale
+            continue
         if key not in allowed:
             raise SweepFileError(
                 f"{label}: unknown key {key!r} for a {given_kind} (known: {', '.join(sorted(allowed))}, "
@@ -412,7 +423,7 @@ def _standard_from_json(entry, kind: str | None, label: str, base: Path, file: s
         data = read_sweep(path)
         data_file = str(path)
     try:
-        return Standard(given_kind, data=data, file=data_file, **values)
+        return Standard(given_kind, data=data, file=data_file, uncertainties=uncertainties, **values)
     except SweepFileError:
         raise
     except AnalysisError as exc:

@@ -16,7 +16,7 @@ import sys
 from refplane import __version__
 
 #: Sub-commands, each a module ``refplane.cli.<name>`` with ``add_parser(sub)`` and ``run(args)``.
-COMMANDS = ("read", "plane", "correct", "fit", "render", "resonance", "feedline", "match")
+COMMANDS = ("read", "plane", "correct", "fit", "render", "cable", "tdr", "resonance", "feedline", "match")
 
 
 class _Parser(argparse.ArgumentParser):

@@ -48,6 +48,17 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--through", choices=("series", "shunt"), default=None,
                    help="fit a 2-port sweep from transmission, the part mounted in series or in shunt")
     p.add_argument("--json", action="store_true", help="print JSON instead of a sentence and a table")
+    from refplane.cli.uncertainty_options import _parse_residual
+
+    g = p.add_argument_group(
+        "uncertainty", "Add the calibration's systematic errors to the fit's statistical ones: each "
+        "parameter then carries a combined expanded uncertainty (k = 2), found by refitting draws.")
+    g.add_argument("--residual", type=arg_type(_parse_residual, "residual terms"), metavar="D,M,T",
+                   help="corrected directivity, source match (dB) and tracking (±dB), e.g. 40dB,35dB,0.1dB")
+    g.add_argument("--cal", metavar="CAL.json",
+                   help="apply a saved calibration to the raw sweep first and count its propagated uncertainty")
+    g.add_argument("--u-draws", type=int, default=60, metavar="N",
+                   help="refits for the systematic part (default 60)")
     p.set_defaults(run=run)
 
 
@@ -56,10 +67,30 @@ def run(args: argparse.Namespace) -> int:
     from refplane.analysis.loading import read_sweep
     from refplane.analysis.units import format_frequency, format_si
 
+    from refplane.analysis.uncertainty.fitunc import fit_uncertainty
+
     sweep = read_sweep(args.file)
+    cal_u = None
+    if args.cal:
+        from refplane.analysis.calfile import load_calibration
+        from refplane.analysis.calibration import correct
+
+        cal = load_calibration(args.cal)
+        sweep = correct(cal, sweep, interpolate=True).sweep
+        cal_u = cal.uncertainty
     result = fit_sweep(sweep, model=args.model, band_hz=args.band_hz, port=args.port, through=args.through)
+    unc = None
+    if result.measurement == "reflection" or (args.residual is None and cal_u is None):
+        if cal_u is not None and result.port != 1:
+            cal_u = None
+        unc = fit_uncertainty(result, sweep.freq_hz, sweep.reflection(result.port) if result.measurement ==
+                              "reflection" else sweep.s[:, 1, 0], residual=args.residual, calibration=cal_u,
+                              draws=args.u_draws)
     if args.json:
-        print_json({"file": args.file, **result.json()})
+        out = {"file": args.file, **result.json()}
+        if unc is not None:
+            out["combined"] = unc.json()
+        print_json(out)
         return 0
     low, high = result.band_hz
     if result.measurement == "reflection":
@@ -70,7 +101,18 @@ def run(args: argparse.Namespace) -> int:
           f"{format_frequency(low)} to {format_frequency(high)}, reference {result.z0_ohm:g} Ω")
     print(result.sentence())
     print()
-    print(format_table(["parameter", "value", "std. error"], result.table_rows()))
+    if unc is not None and unc.draws:
+        from refplane.analysis.fitting import format_with_error
+        from refplane.analysis.circuits import unit_of
+
+        rows = [(k, v, e, format_with_error(result.params[k], unc.expanded[k], unit_of(k)).partition(" ± ")[2])
+                for k, v, e in result.table_rows()]
+        print(format_table(["parameter", "value", "std. error", "combined U (k = 2)"],
+                           [(k, v, e, f"± {c}" if c else "—") for k, v, e, c in rows]))
+        print(f"combined U: the fit's statistical error and the systematic part from {unc.draws} refits "
+              f"({'; '.join(unc.sources)}), about 95 %")
+    else:
+        print(format_table(["parameter", "value", "std. error"], result.table_rows()))
     derived = []
     if "srf_hz" in result.derived:
         from refplane.analysis.fitting import format_with_error

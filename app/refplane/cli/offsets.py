@@ -6,6 +6,13 @@ Options
 ``--length L --vf V``     the same as a physical length and velocity factor, e.g. 20cm 0.66
                           (instead of ``--delay``; each needs the other)
 ``--loss DB@F``           one-way conductor loss at a frequency, e.g. 0.4dB@1GHz (grows as √f)
+``--dielectric-loss DB@F`` one-way dielectric loss at a frequency, e.g. 0.1dB@1GHz (grows as f)
+``--skin-phase``          give the √f loss its equal phase (the causal skin-effect model that
+                          real cable follows; ``refplane plane`` and ``refplane cable`` say
+                          when to use it)
+``--z0-follows-skin``     work the line as its full R, L, G, C line: its impedance (``--line-z0``
+                          or the port's reference) is the high-frequency value and rises at
+                          low frequency as the skin-effect law says (implies ``--skin-phase``)
 ``--line-z0 Z``           the line's impedance, e.g. 75 (default: the port's reference)
 ``--offset-port N|all``   the port the line sits at. Default: the port being read (``--port``,
                           port 1 when there is none); ``all`` puts the same line at every port.
@@ -65,7 +72,15 @@ def add_offset_options(parser: argparse.ArgumentParser) -> None:
     group.add_argument("--vf", dest="offset_vf", metavar="V", type=arg_type(_parse_vf, "velocity factor"),
                        help="velocity factor of the line for --length, e.g. 0.66 for solid-polyethylene coax")
     group.add_argument("--loss", dest="offset_loss", metavar="DB@F", type=arg_type(parse_loss, "loss"),
-                       help="one-way loss of the line, e.g. 0.4dB@1GHz (taken to grow as √f)")
+                       help="one-way conductor loss of the line, e.g. 0.4dB@1GHz (taken to grow as √f)")
+    group.add_argument("--dielectric-loss", dest="offset_dielectric_loss", metavar="DB@F",
+                       type=arg_type(parse_loss, "loss"),
+                       help="one-way dielectric loss of the line, e.g. 0.1dB@1GHz (taken to grow as f)")
+    group.add_argument("--skin-phase", dest="offset_skin_phase", action="store_true", default=None,
+                       help="give the √f loss its equal phase (the causal skin-effect model of real cable)")
+    group.add_argument("--z0-follows-skin", dest="offset_z0_follows_skin", action="store_true", default=None,
+                       help="the line's impedance is its high-frequency value and rises at low frequency "
+                            "as the skin-effect law says (implies --skin-phase)")
     group.add_argument("--line-z0", dest="offset_line_z0_ohm", metavar="Z",
                        type=arg_type(_parse_line_z0, "impedance"),
                        help="the line's characteristic impedance, e.g. 75 (default: the port's reference)")
@@ -87,12 +102,18 @@ def offset_from_args(args: argparse.Namespace):
     length = getattr(args, "offset_length_m", None)
     vf = getattr(args, "offset_vf", None)
     loss = getattr(args, "offset_loss", None)
+    dielectric = getattr(args, "offset_dielectric_loss", None)
     line_z0 = getattr(args, "offset_line_z0_ohm", None)
+    skin_phase = bool(getattr(args, "offset_skin_phase", None))
+    z0_skin = bool(getattr(args, "offset_z0_follows_skin", None))
     if length is not None and vf is None:
         raise AnalysisError("--length needs --vf (the line's velocity factor, e.g. 0.66)")
     if vf is not None and length is None:
         raise AnalysisError("--vf applies to --length; give the line's length too (or use --delay)")
-    if delay is None and length is None and loss is None:
+    if delay is None and length is None and loss is None and dielectric is None:
+        if skin_phase or z0_skin:
+            raise AnalysisError("--skin-phase and --z0-follows-skin describe a line's loss; "
+                                "give its --loss (and --delay, or --length and --vf) too")
         if line_z0 is not None:
             raise AnalysisError("--line-z0 describes a line; give its --delay (or --length and --vf) too")
         if getattr(args, "offset_port", None) is not None:
@@ -101,6 +122,16 @@ def offset_from_args(args: argparse.Namespace):
     kw = {}
     if loss is not None:
         kw["loss_db"], kw["loss_ref_hz"] = loss
+    if dielectric is not None:
+        value, ref = dielectric
+        if loss is None:
+            kw["loss_ref_hz"] = ref
+        # The dielectric loss grows as f: restate it at the conductor loss's frequency.
+        kw["dielectric_loss_db"] = value * (kw["loss_ref_hz"] / ref)
+    if skin_phase:
+        kw["skin_phase"] = True
+    if z0_skin:
+        kw["z0_follows_skin"] = True
     if line_z0 is not None:
         kw["line_z0_ohm"] = line_z0
     if length is not None:
@@ -156,5 +187,6 @@ def offsets_json(args: argparse.Namespace, sweep) -> list[dict]:
     """The removed lines as JSON-ready dicts (one per port with a line), for ``--json`` output."""
     offsets = offsets_from_args(args, sweep) or ()
     return [{"port": port, "delay_s": o.delay_s, "loss_db": o.loss_db, "loss_ref_hz": o.loss_ref_hz,
-             "line_z0_ohm": o.line_z0_ohm}
+             "dielectric_loss_db": o.dielectric_loss_db, "skin_phase": o.skin_phase,
+             "z0_follows_skin": o.z0_follows_skin, "line_z0_ohm": o.line_z0_ohm}
             for port, o in enumerate(offsets, start=1) if o is not None]

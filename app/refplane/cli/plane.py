@@ -20,8 +20,11 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
         "plane", help="find the line in front of an open or short",
         description="Estimate the one-way delay and loss of a cable or fixture from a sweep of it "
                     "ended in an open or a short, i.e. the line to remove to move the reference "
-                    "plane to its far end. The line is taken as matched to the port's reference "
-                    "and the standard as ideal; the residual says how well that holds.",
+                    "plane to its far end. The line's impedance is taken as the port's reference "
+                    "(at high frequency) and the standard as ideal; the residual says how well that "
+                    "holds. The loss is split into a conductor (√f) and a dielectric (f) term, and the "
+                    "line model that explains the reading best is reported (see the README, 'Cables'). "
+                    "The summary ends with the 'refplane read' options that remove the line found.",
         epilog=_CAUTION)
     p.add_argument("file", help="Touchstone (.s1p, .s2p, …, .ts) or CSV sweep")
     p.add_argument("--standard", required=True, type=str.lower, choices=("open", "short"),
@@ -65,8 +68,13 @@ def summary(file: str, port: int, est, vf: float | None) -> str:
     ]
     if est.length_m is not None:
         lines.append(f"  length         {est.length_m * 100:.2f} cm at velocity factor {vf:g}")
+    lines.append(f"  one-way loss   {est.loss_db:.3f} dB at {format_frequency(est.loss_ref_hz)} (conductor, "
+                 "taken to grow as √f)")
+    if est.dielectric_loss_db:
+        lines.append(f"                 {est.dielectric_loss_db:.3f} dB at {format_frequency(est.loss_ref_hz)} "
+                     "(dielectric, taken to grow as f)")
     lines += [
-        f"  one-way loss   {est.loss_db:.3f} dB at {format_frequency(est.loss_ref_hz)} (taken to grow as √f)",
+        f"  line model     {_MODEL_WORDS[est.model]}",
         f"  residual       {est.residual:.4f} RMS of |Γ − Γ_{est.standard}| after removing the line "
         f"(median {est.typical_error:.4f})",
         f"  {est.verdict()}",
@@ -75,6 +83,26 @@ def summary(file: str, port: int, est, vf: float | None) -> str:
         how = f"--length={est.length_m * 100:.3f}cm --vf {vf:g}"
     else:
         how = f"--delay={est.delay_s * 1e9:.5f}ns"
-    lines.append(f"To remove this line: refplane read FILE {how} "
-                 f"--loss {est.loss_db:.4f}dB@{format_frequency(est.loss_ref_hz).replace(' ', '')} --at F")
-    return "\n".join(lines)
+    return "\n".join(lines) + "\nTo remove this line: refplane read FILE " + remove_options(est, how) + " --at F"
+
+
+_MODEL_WORDS = {
+    "loss only": "√f loss without phase (explains this reading better than the causal model)",
+    "causal": "causal skin effect: the √f loss carries its equal phase",
+    "full line": "full line: causal skin effect, impedance rising at low frequency as the skin law says",
+}
+
+
+def remove_options(est, how: str) -> str:
+    """The ``refplane read`` options that remove the line of ``est`` (every term of its model)."""
+    from refplane.analysis.units import format_frequency
+
+    ref = format_frequency(est.loss_ref_hz).replace(" ", "")
+    parts = [how, f"--loss {est.loss_db:.4f}dB@{ref}"]
+    if est.dielectric_loss_db:
+        parts.append(f"--dielectric-loss {est.dielectric_loss_db:.4f}dB@{ref}")
+    if est.z0_follows_skin:
+        parts.append("--z0-follows-skin")
+    elif est.skin_phase and est.loss_db:
+        parts.append("--skin-phase")
+    return " ".join(parts)

@@ -48,8 +48,81 @@ def _active(r: Readout) -> bool:
     return math.isfinite(r.gamma_mag) and r.gamma_mag > 1.0
 
 
-def readout_cells(r: Readout) -> dict[str, str]:
-    """A single-point readout as ordered display cells, label → text with scaled units."""
+def _u_decimals(u: float) -> int:
+    """Decimal places that show an expanded uncertainty to one significant figure, or two when
+    its first digit is 1 or 2 (GUM, JCGM 100, 7.2.6: at most two significant figures)."""
+    exponent = math.floor(math.log10(u))
+    lead = u / 10**exponent
+    return max(0, -exponent + (1 if lead < 2.95 else 0))
+
+
+def format_pm(value: float, u: float | None, unit: str, *, si: bool = False) -> str:
+    """A value with its expanded uncertainty: "77.6 ± 0.8 Ω", "8.92 nH ± 0.31 nH".
+
+    The value is rounded to the uncertainty's last shown digit. Without a finite ``u`` the
+    plain value is returned (as :func:`number` or :func:`format_si` would show it).
+
+    Examples
+    --------
+    >>> format_pm(77.634, 0.81, "Ω")
+    '77.6 ± 0.8 Ω'
+    >>> format_pm(8.923e-9, 0.27e-9, "H", si=True)
+    '8.92 nH ± 0.27 nH'
+    """
+    if u is None or not math.isfinite(u) or not math.isfinite(value):
+        return format_si(value, unit, 4) if si else number(value, unit)
+    if si:
+        num, _, prefixed = format_si(value, unit, 6).partition(" ")
+        scale = value / float(num) if float(num) != 0 else 1.0
+        scale = abs(scale)
+    else:
+        prefixed, scale = unit, 1.0
+    shown_u = u / scale
+    if shown_u == 0:
+        return f"{number(value / scale, prefixed, 4)} ± 0"
+    d = _u_decimals(shown_u)
+    v_text = f"{value / scale:,.{d}f}".replace(",", " ").replace("-", "−")
+    u_text = f"{shown_u:.{d}f}"
+    if si:
+        return f"{v_text} {prefixed} ± {u_text} {prefixed}".strip()
+    return f"{v_text} ± {u_text} {unit}".strip()
+
+
+def _cells_with_u(r: Readout, u: Mapping) -> dict[str, str]:
+    def pm(key, unit, si=False):
+        return format_pm(getattr(r, key), u.get(key), unit, si=si)
+
+    if not math.isnan(r.series_l_h):
+        series = f"L {pm('series_l_h', 'H', True)}"
+    elif not math.isnan(r.series_c_f):
+        series = f"C {pm('series_c_f', 'F', True)}"
+    else:
+        series = "—"
+    active = _active(r)
+    return {
+        "Frequency": format_frequency(r.freq_hz),
+        "R": pm("r_ohm", "Ω"),
+        "X": pm("x_ohm", "Ω"),
+        "Series L/C": series,
+        "|Z|": pm("z_mag_ohm", "Ω"),
+        "|Γ|": pm("gamma_mag", ""),
+        "∠Γ": pm("gamma_deg", "°"),
+        "VSWR": NOT_DEFINED_ACTIVE if active else pm("vswr", ""),
+        "Return loss": pm("return_loss_db", "dB"),
+        "Q": pm("q", ""),
+        "Parallel R": pm("parallel_r_ohm", "Ω"),
+        "Parallel X": pm("parallel_x_ohm", "Ω"),
+    }
+
+
+def readout_cells(r: Readout, u: Mapping | None = None) -> dict[str, str]:
+    """A single-point readout as ordered display cells, label → text with scaled units.
+
+    ``u`` (optional): expanded uncertainties keyed like :meth:`Readout.json_point`
+    (e.g. ``ReadoutUncertainty.json_point()``); the cells then read "77.6 ± 0.8 Ω".
+    """
+    if u is not None:
+        return _cells_with_u(r, u)
     kind, value = series_part(r)
     active = _active(r)
     return {
@@ -83,6 +156,23 @@ def summary_line(r: Readout) -> str:
     series = f" ({kind} {value})" if value != "—" else ""
     vswr = NOT_DEFINED_ACTIVE if _active(r) else number(r.vswr, "", 2)
     return f"{format_frequency(r.freq_hz)}: {impedance_text(r)}{series}, VSWR {vswr}"
+
+
+def summary_line_with_u(r: Readout, u: Mapping) -> str:
+    """"470 MHz: 77.6 ± 0.8 Ω + j26.4 ± 0.9 Ω (L 8.92 nH ± 0.31 nH), VSWR 1.81 ± 0.02 (k = 2)"."""
+    if math.isinf(r.r_ohm):
+        return summary_line(r)
+    sign = "+" if r.x_ohm >= 0 else "−"
+    rx = format_pm(r.r_ohm, u.get("r_ohm"), "Ω")
+    xx = format_pm(abs(r.x_ohm), u.get("x_ohm"), "Ω")
+    if not math.isnan(r.series_l_h):
+        series = f" (L {format_pm(r.series_l_h, u.get('series_l_h'), 'H', si=True)})"
+    elif not math.isnan(r.series_c_f):
+        series = f" (C {format_pm(r.series_c_f, u.get('series_c_f'), 'F', si=True)})"
+    else:
+        series = ""
+    vswr = NOT_DEFINED_ACTIVE if _active(r) else format_pm(r.vswr, u.get("vswr"), "")
+    return f"{format_frequency(r.freq_hz)}: {rx} {sign} j{xx}{series}, VSWR {vswr} (k = 2)"
 
 
 def trace_label(name: str, port: int) -> str:
@@ -203,7 +293,10 @@ def estimate_sentence(est) -> str:
     """The plane estimate in one sentence, as the reference-plane panel shows it."""
     length = f", {format_si(est.length_m, 'm', 5)}" if est.length_m is not None else ""
     verdict = est.verdict()
-    return (f"Found {format_si(est.delay_s, 's', 5)}{length}, {est.loss_db:.3f} dB at "
+    dielectric = getattr(est, "dielectric_loss_db", 0.0) or 0.0
+    loss = f"{est.loss_db:.3f} dB" + (f" + {dielectric:.3f} dB dielectric" if dielectric else "")
+    phase = " (with its skin-effect phase)" if getattr(est, "skin_phase", False) else ""
+    return (f"Found {format_si(est.delay_s, 's', 5)}{length}, {loss}{phase} at "
             f"{format_frequency(est.loss_ref_hz)}; residual {est.residual:.4f}. "
             f"{verdict[:1].upper()}{verdict[1:]}.")
 

@@ -351,11 +351,9 @@ class OffsetsPanel(QWidget):
         if request.target_trace in self.state.trace_ids():
             trace = self.state.trace(request.target_trace)
             if request.target_port <= trace.raw.n_ports:
-                current = (trace.offsets[request.target_port - 1]
-                           if request.target_port <= len(trace.offsets) else None) or LineOffset()
-                found = current.with_changes(delay_s=est.delay_s, loss_db=est.loss_db,
-                                             loss_ref_hz=est.loss_ref_hz, dielectric_loss_db=0.0,
-                                             line_z0_ohm=None)
+                # Every term of the line the estimate found (its causal skin phase and
+                # dielectric loss included); the line's impedance is the port's reference.
+                found = est.offset()
                 try:
                     self.state.set_offsets(request.target_trace, with_port_offset(
                         trace.offsets, trace.raw.n_ports, request.target_port, found))
