@@ -120,3 +120,83 @@ def antenna(request: AntennaRequest, *, cancelled=lambda: False) -> JobResult:
 
     match = guarded(design, what="design matching networks")
     return JobResult(True, AntennaResults(request, resonance, feedline, match))
+
+
+# -------------------------------------------------------------------------- cable
+@dataclass(frozen=True)
+class CableRequest:
+    """A cable characterisation from two sweeps of one cable."""
+
+    job: int
+    """Sequence number; a later request supersedes this one."""
+    open_sweep: Sweep
+    """The cable with its far end open (displayed sweep of the chosen trace)."""
+    short_sweep: Sweep
+    """The cable with its far end shorted."""
+    port: int
+    """1-based port read in both."""
+    settings: object
+    """The panel's :class:`~refplane.session.tool_settings.CableSettings`."""
+
+
+def cable(request: CableRequest) -> JobResult:
+    """Characterise the cable (``CableResult``); never raises."""
+    def work():
+        from refplane.analysis.lines.cable import characterise_cable
+        from refplane.analysis.units import parse_band
+
+        s = request.settings
+        band = parse_band(s.band_text.replace(" ", "")) if s.band_text.strip() else None
+        return characterise_cable(request.open_sweep, request.short_sweep, port=request.port,
+                                  length_m=s.length_m if s.known == "length" else None,
+                                  velocity_factor=s.vf if s.known == "vf" else None,
+                                  band_hz=band, loss_ref_hz=s.loss_ref_hz)
+
+    return guarded(work, what="characterise the cable")
+
+
+# -------------------------------------------------------------------- time domain
+@dataclass(frozen=True)
+class TimeRequest:
+    """A time-domain transform of one trace."""
+
+    job: int
+    """Sequence number; a later request supersedes this one."""
+    trace_id: int
+    """The trace transformed."""
+    sweep: Sweep
+    """Its displayed sweep."""
+    port: int
+    """1-based port whose reflection is transformed."""
+    settings: object
+    """The view's :class:`~refplane.session.tool_settings.TimeDomainSettings`."""
+
+
+def window_text(settings) -> str:
+    """The window as the analysis names it ("kaiser:6", "hann")."""
+    return f"kaiser:{settings.kaiser_beta:g}" if settings.window == "kaiser" else settings.window
+
+
+def time_domain(request: TimeRequest) -> JobResult:
+    """The ``TimeResponse`` of the trace with the settings' mode, window and velocity factor."""
+    from refplane.analysis.lines.time_domain import time_response
+
+    s = request.settings
+    return guarded(lambda: time_response(request.sweep, port=request.port, mode=s.mode, window=window_text(s),
+                                         velocity_factor=s.vf), what="transform to the time domain")
+
+
+def gated(request: TimeRequest) -> JobResult:
+    """The trace with everything outside the settings' gate span removed (a ``GatedSweep``)."""
+    from refplane.analysis.errors import AnalysisError
+    from refplane.analysis.lines.time_domain import gate
+
+    s = request.settings
+
+    def work():
+        if s.gate_start_m is None or s.gate_stop_m is None:
+            raise AnalysisError("Set a gate span first (drag it on the time-domain plot).")
+        return gate(request.sweep, s.gate_start_m, s.gate_stop_m, port=request.port, velocity_factor=s.vf,
+                    window=window_text(s))
+
+    return guarded(work, what="gate the sweep")

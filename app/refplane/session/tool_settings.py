@@ -42,3 +42,47 @@ class AntennaSettings:
     """Key of the chosen network (``tool_text.network_keys``, e.g. "L 1"); "" chooses the first."""
     draw_path: bool = True
     """Draw the chosen network's path from the load to the centre on the chart."""
+
+
+@register("cable")
+@dataclass(frozen=True)
+class CableSettings:
+    """Cable characterisation from an open and a short sweep (the cable panel)."""
+
+    open_trace: str = ""
+    """Name of the trace of the cable with its far end open ("" none chosen)."""
+    short_trace: str = ""
+    """Name of the trace of the cable with its far end shorted."""
+    known: str = "length"
+    """What is given: ``"length"`` (the velocity factor follows), ``"vf"`` (the length follows) or ``"none"``."""
+    length_m: float = 1.0
+    """The cable's physical length when ``known == "length"``."""
+    vf: float = 0.66
+    """The cable's velocity factor when ``known == "vf"``."""
+    band_text: str = ""
+    """Band to use, e.g. "10 MHz : 1 GHz"; "" the whole sweep."""
+    loss_ref_hz: float = 1e9
+    """Frequency the losses are stated at."""
+
+
+@register("time_domain")
+@dataclass(frozen=True)
+class TimeDomainSettings:
+    """The time-domain view of the current trace."""
+
+    mode: str = "lowpass"
+    """``"lowpass"`` (impulse, step and impedance) or ``"bandpass"`` (impulse magnitude, any sweep)."""
+    show: str = "impulse"
+    """What is plotted: ``"impulse"``, ``"step"`` or ``"impedance"`` (the last two low-pass only)."""
+    window: str = "kaiser"
+    """Window: rectangular, hann, hamming, blackman or kaiser."""
+    kaiser_beta: float = 6.0
+    """β of the Kaiser window."""
+    vf: float = 0.66
+    """Velocity factor for the distance axis (round trip halved)."""
+    gate_start_m: float | None = None
+    """Near end of the gate span along the line; ``None``: no gate."""
+    gate_stop_m: float | None = None
+    """Far end of the gate span."""
+    markers_m: tuple = ()
+    """Distances of the time-domain markers."""

@@ -181,3 +181,68 @@ def parts_text(match, network, key: str) -> str:
     lines.append(bode_fano_sentence(match))
     lines.append(ANTENNA_CAUTION)
     return "\n".join(lines)
+
+
+# ------------------------------------------------------------------------- cable
+#: Shown in the cable panel and the time-domain view.
+CABLE_CAUTION = (
+    "Discharge a cable before connecting it to the analyzer (briefly join centre and shield): "
+    "long cables hold static charge that can destroy the analyzer's input. Never connect the "
+    "analyzer to a line a transmitter may feed. Follow the equipment maker's guidance and local "
+    "codes.")
+
+
+def cable_rows(result) -> list[tuple[str, str]]:
+    """(label, text) of a cable characterisation: one-way figures."""
+    rows = [
+        ("Impedance Z0", number(result.z0_fit_ohm, "Ω", 2)),
+        ("Delay (one way)", si(result.delay_s, "s", 5)),
+        ("Length", "—" if result.length_m is None else si(result.length_m, "m", 5)),
+        ("Velocity factor", "—" if result.velocity_factor is None else f"{result.velocity_factor:.4f}"),
+        (f"Loss at {_freq(result.loss_ref_hz)}", number(result.loss_db, "dB", 3)),
+        ("  conductor (∝ √f)", number(result.loss_conductor_db, "dB", 3)),
+        ("  dielectric (∝ f)", number(result.loss_dielectric_db, "dB", 3)),
+        (f"Loss per 100 m at {_freq(result.loss_ref_hz)}",
+         "— (give the length)" if result.loss_db_per_100m is None else number(result.loss_db_per_100m, "dB", 2)),
+        ("Residual |ΔΓ| (RMS)", f"{result.residual:.2g}"),
+        ("Band used", f"{_freq(result.band_hz[0])} – {_freq(result.band_hz[1])}"),
+        ("Points used", str(result.n_points)),
+    ]
+    return rows
+
+
+# -------------------------------------------------------------------- time domain
+def time_summary(td) -> str:
+    """Window, resolution and range of a time response, stated as on the plot."""
+    mode = "low-pass" if td.mode == "lowpass" else "band-pass"
+    text = (f"{mode}, {td.window.label} window (sidelobes {td.window.sidelobe_db:.0f} dB); "
+            f"resolution {si(td.resolution_m, 'm', 3)}, range {si(td.range_m, 'm', 3)} "
+            f"at velocity factor {td.velocity_factor:g}")
+    if td.resampled:
+        text += "; resampled onto a harmonic grid"
+    if td.dc_error is not None and td.dc_error > 0.005:
+        text += f"; DC extrapolated (± {td.dc_error:.2g})"
+    return text
+
+
+def event_rows(td) -> list[list[str]]:
+    """One row per event, strongest first: distance, ρ, return loss."""
+    return [[si(e.distance_m, "m", 4), f"{e.rho:+.3f}" if td.mode == "lowpass" else f"{e.rho:.3f}",
+             number(e.return_loss_db, "dB", 1)] for e in td.events]
+
+
+def time_marker_rows(td, distances_m) -> list[list[str]]:
+    """One row per time-domain marker: number, distance, ρ (impulse), step ρ, impedance."""
+    import math as _m
+
+    rows = []
+    for k, d in enumerate(distances_m, start=1):
+        try:
+            r = td.reading_at(d)
+        except Exception:  # noqa: BLE001 - a marker outside the range shows dashes
+            rows.append([str(k), si(d, "m", 4), "—", "—", "—"])
+            continue
+        z = "—" if r.impedance_ohm is None else ("∞" if not _m.isfinite(r.impedance_ohm)
+                                                 else number(r.impedance_ohm, "Ω", 1))
+        rows.append([str(k), si(d, "m", 4), f"{r.impulse:+.4f}", "—" if r.step is None else f"{r.step:+.4f}", z])
+    return rows
