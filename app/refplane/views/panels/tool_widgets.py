@@ -111,13 +111,14 @@ def scroll_column(content: QWidget) -> QScrollArea:
     return area
 
 
-def install_lazily(window, title: str, build: Callable[[], QWidget], *, beside: str | None = "Reference plane"):
+def install_lazily(window, title: str, build: Callable[[], QWidget], *, beside: str | None = "Reference plane",
+                   area=Qt.LeftDockWidgetArea):
     """Add a dock to ``window`` whose panel is built the first time the dock is shown.
 
     Start-up pays only for an empty placeholder. The dock is tabbed with ``beside`` when that
     dock exists. Returns the dock; ``dock.panel()`` builds and returns the panel.
     """
-    dock = window.add_side_panel(title, QWidget())
+    dock = window.add_side_panel(title, QWidget(), area=area)
 
     def ensure(visible: bool = True):
         holder = dock.widget()
@@ -131,7 +132,7 @@ def install_lazily(window, title: str, build: Callable[[], QWidget], *, beside: 
     dock.visibilityChanged.connect(ensure)
     dock.panel = lambda: ensure(True)
     other = window.docks.get(beside) if beside else None
-    if other is not None:
+    if other is not None and window.dockWidgetArea(other) == area:
         window.tabifyDockWidget(other, dock)
         other.raise_()
     return dock
