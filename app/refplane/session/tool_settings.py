@@ -86,3 +86,36 @@ class TimeDomainSettings:
     """Far end of the gate span."""
     markers_m: tuple = ()
     """Distances of the time-domain markers."""
+
+
+@register("uncertainty")
+@dataclass(frozen=True)
+class UncertaintySettings:
+    """What is known about the measurement's errors; every marker reading then carries its ±."""
+
+    enabled: bool = False
+    """Show the expanded uncertainty (k = 2, about 95 %) beside the readings."""
+    use_residual: bool = True
+    """Count the instrument's corrected performance stated below."""
+    directivity_db: float = 40.0
+    """Effective (corrected) directivity, dB below full reflection: |D| = 10^(−dB/20)."""
+    source_match_db: float = 35.0
+    """Effective (corrected) source match, dB: |M| = 10^(−dB/20)."""
+    tracking_db: float = 0.1
+    """Reflection tracking, ±dB: |T| = 10^(dB/20) − 1."""
+    calibration_file: str = ""
+    """A saved calibration whose propagated uncertainty applies (the sweeps read were corrected by it); "" none."""
+    noise: str = "auto"
+    """Trace noise: ``"auto"`` (estimated from each sweep), ``"none"``, or ``"level"`` (``noise_level``)."""
+    noise_level: float = 0.001
+    """Trace noise σ per axis of Γ when ``noise == "level"``."""
+    interpolation: bool = True
+    """Count the bound on reading between swept points."""
+    offset_delay_u_s: float = 0.0
+    """Standard uncertainty of the reference-plane offset's one-way delay (the port read)."""
+    offset_loss_u_db: float = 0.0
+    """Standard uncertainty of the offset's conductor loss, dB at its reference frequency."""
+    offset_line_z0_u_ohm: float = 0.0
+    """Standard uncertainty of the offset line's impedance."""
+    method: str = "auto"
+    """``"auto"`` (linear; Monte Carlo where the linearisation is poor), ``"linear"`` or ``"monte-carlo"``."""
