@@ -200,3 +200,26 @@ def gated(request: TimeRequest) -> JobResult:
                     window=window_text(s))
 
     return guarded(work, what="gate the sweep")
+
+
+# -------------------------------------------------------------------- uncertainty
+@dataclass(frozen=True)
+class UncertaintyRequest:
+    """The ± of one marker, for the uncertainty panel's preview."""
+
+    job: int
+    """Sequence number; a later request supersedes this one."""
+    trace: object
+    """The marker's :class:`~refplane.session.model.Trace` (raw sweep, offsets, port)."""
+    freq_hz: float
+    """The marker's frequency."""
+    settings: object
+    """The session's :class:`~refplane.session.tool_settings.UncertaintySettings`."""
+
+
+def marker_uncertainty(request: UncertaintyRequest) -> JobResult:
+    """The ``ReadoutUncertainty`` at the marker (value None when the ± is off), or a one-line reason."""
+    from refplane.session.uncertainty_view import trace_uncertainty
+
+    return guarded(lambda: trace_uncertainty(request.settings, request.trace, [request.freq_hz]),
+                   what="work out the uncertainty")

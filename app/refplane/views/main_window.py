@@ -161,6 +161,8 @@ class MainWindow(QMainWindow):
         from refplane.views.panels import antenna_panel, cable_panel
         antenna_panel.install(self)
         cable_panel.install(self)
+        from refplane.views.panels import uncertainty_panel
+        uncertainty_panel.install(self)
         from refplane.views import time_domain
         time_domain.install(self)
         self.add_tool_action("Calibrate from standards…", self._open_calibration, shortcut="Ctrl+K")

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 from typing import Callable
 
-from PySide6.QtCore import Qt
+from PySide6.QtCore import Qt, QTimer
 from PySide6.QtWidgets import (QAbstractItemView, QFormLayout, QFrame, QGroupBox, QHeaderView, QLabel,
                                QScrollArea, QSizePolicy, QTableWidget, QTableWidgetItem, QVBoxLayout,
                                QWidget)
@@ -20,7 +20,8 @@ def note(text: str = "", *, quiet: bool = True, selectable: bool = True) -> QLab
     """A wrapped label (muted for hints), its text selectable for copying."""
     label = QLabel(text)
     label.setWordWrap(True)
-    label.setSizePolicy(QSizePolicy.Ignored, QSizePolicy.Preferred)  # wraps instead of widening
+    label.setSizePolicy(QSizePolicy.Ignored, QSizePolicy.Minimum)  # wraps instead of widening
+    label.setAlignment(Qt.AlignLeft | Qt.AlignTop)
     if quiet:
         label.setObjectName("hint")
         quiet_label(label)
@@ -135,4 +136,14 @@ def install_lazily(window, title: str, build: Callable[[], QWidget], *, beside: 
     if other is not None and window.dockWidgetArea(other) == area:
         window.tabifyDockWidget(other, dock)
         other.raise_()
+        # Five tabs in a 340 px column: scroll the tabs rather than cut every title to "Ca…".
+        QTimer.singleShot(0, lambda: _whole_tab_titles(window))
     return dock
+
+
+def _whole_tab_titles(window) -> None:
+    from PySide6.QtWidgets import QTabBar
+
+    for bar in window.findChildren(QTabBar):
+        bar.setElideMode(Qt.ElideNone)
+        bar.setUsesScrollButtons(True)
