@@ -154,3 +154,11 @@ def test_caution_is_shown(setup):
 
     texts = " ".join(label.text() for label in view.findChildren(QLabel))
     assert "Discharge a cable" in texts and "transmitter may feed" in texts
+
+
+def test_follows_the_window_theme(setup):
+    state, view = setup
+    from refplane.views.theme import DARK
+
+    state.set_display(theme="dark")
+    assert view.plot.backgroundBrush().color().name() == DARK.chart_bg

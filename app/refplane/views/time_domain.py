@@ -168,6 +168,8 @@ class TimeDomainView(QWidget):
         self.open_gated_button.clicked.connect(self.open_gated)
         self.gate_item.sigRegionChangeFinished.connect(self._gate_dragged)
         bind(self, state.toolChanged, self._on_tool)
+        bind(self, state.displayChanged, self._on_display)
+        self._on_display("theme")
         for signal in (state.currentTraceChanged, state.offsetsChanged, state.traceChanged):
             bind(self, signal, self._schedule)
         bind(self, state.tracesChanged, self._schedule)
@@ -314,6 +316,21 @@ class TimeDomainView(QWidget):
         model = self.show_combo.model()
         for row in (1, 2):
             model.item(row).setEnabled(s.mode == "lowpass")
+
+    def _on_display(self, name: str) -> None:
+        if name == "theme":
+            from refplane.views.theme import THEMES
+
+            self.set_theme(THEMES.get(self.state.display.theme, THEMES["light"]))
+
+    def set_theme(self, theme) -> None:
+        """Colour the plot like the window's other plots (background, axes, the note)."""
+        self.plot.setBackground(theme.chart_bg)
+        for name in ("left", "bottom"):
+            axis = self.plot.getAxis(name)
+            axis.setPen(pg.mkPen(theme.muted))
+            axis.setTextPen(pg.mkPen(theme.text))
+        self.note_item.setColor(theme.muted)
 
     # ---------------------------------------------------------------- results
     def _on_done(self, request, result) -> None:
