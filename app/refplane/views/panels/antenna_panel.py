@@ -149,7 +149,9 @@ class AntennaPanel(QWidget):
         self.network_combo.setMinimumContentsLength(14)
         self.network_combo.setSizePolicy(QSizePolicy.Ignored, QSizePolicy.Fixed)
         lay.addWidget(self.network_combo)
-        self.parts_table = tw.table(["Part", "Exact / standard", "Peak V / RMS I"])
+        self.parts_table = tw.table(["Part", "Exact / standard", "Stress"])
+        self.parts_table.horizontalHeaderItem(2).setToolTip(
+            "Peak voltage across and RMS current through the part at the power given")
         lay.addWidget(self.parts_table)
         self.network_label = tw.note("", quiet=False)
         lay.addWidget(self.network_label)
