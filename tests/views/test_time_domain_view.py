@@ -10,6 +10,7 @@ from refplane.analysis.deembed import DB_PER_NEPER, SPEED_OF_LIGHT_M_S
 from refplane.analysis.lines.time_domain import gate, time_response
 from refplane.analysis.sweep import Sweep
 from refplane.session import tool_text
+from refplane.session.tool_jobs import GATE_OVERLAY
 from refplane.session.model import Session
 from refplane.views.panels import tool_widgets as tw
 from refplane.views.time_domain import TimeDomainView
@@ -135,7 +136,17 @@ def test_gate_dragged_and_the_gated_sweep_opened_as_a_trace(setup):
     view.set_gate_around_event()
     s = state.tool("time_domain")
     assert s.gate_start_m < 3.0 < s.gate_stop_m and view.gate_item.isVisible()
-    # Drag the gate on the plot: the session follows.
+    view.wait()
+    tid = state.trace_ids()[0]
+    overlay = state.trace(tid).overlays[GATE_OVERLAY]
+    np.testing.assert_allclose(overlay.s, gate(sweep, s.gate_start_m, s.gate_stop_m, velocity_factor=0.66,
+                                               window="kaiser:6").sweep.s)
+    # While the gate is dragged the overlay follows (the session is not written until the drag ends).
+    before = state.tool("time_domain")
+    view.gate_item.lines[0].setValue(2.6)      # one step of a drag: sigRegionChanged, not finished
+    view.wait()
+    assert view.gated.start_m == pytest.approx(2.6) and state.tool("time_domain") == before
+    # Drag the gate on the plot: the session follows when the drag ends.
     view.gate_item.setRegion((2.5, 3.5))
     assert (state.tool("time_domain").gate_start_m, state.tool("time_domain").gate_stop_m) == (2.5, 3.5)
     view.open_gated()
@@ -146,6 +157,10 @@ def test_gate_dragged_and_the_gated_sweep_opened_as_a_trace(setup):
     np.testing.assert_allclose(state.trace(ids[1]).raw.s, expected.sweep.s)
     view.clear_gate_button.click()
     assert state.tool("time_domain").gate_start_m is None and not view.gate_item.isVisible()
+    assert GATE_OVERLAY not in state.trace(tid).overlays
+    state.set_tool("time_domain", gate_start_m=2.5, gate_stop_m=3.5, gate_overlay=False)
+    view.wait()
+    assert GATE_OVERLAY not in state.trace(tid).overlays and not view.overlay_check.isChecked()
 
 
 def test_caution_is_shown(setup):

@@ -223,3 +223,39 @@ def marker_uncertainty(request: UncertaintyRequest) -> JobResult:
 
     return guarded(lambda: trace_uncertainty(request.settings, request.trace, [request.freq_hz]),
                    what="work out the uncertainty")
+
+
+#: Name of the dashed overlay showing the gated sweep on its trace while a gate is set.
+GATE_OVERLAY = "time gate"
+
+
+@dataclass(frozen=True)
+class GatePreviewRequest:
+    """The gated sweep for one gate position, while the gate is set or dragged."""
+
+    job: int
+    """Sequence number; a later request supersedes this one."""
+    trace_id: int
+    """The trace gated (its overlay shows the result)."""
+    sweep: Sweep
+    """Its displayed sweep."""
+    port: int
+    """1-based port."""
+    settings: object
+    """The view's :class:`~refplane.session.tool_settings.TimeDomainSettings` (gate span, window, vf)."""
+    plan: object = None
+    """A ``GatePlan`` prepared for this sweep, port and window, or None to prepare one."""
+
+
+def gate_preview(request: GatePreviewRequest) -> JobResult:
+    """(GatePlan, GatedSweep): the transform is prepared once and reused for every position of a drag."""
+    def work():
+        from refplane.analysis.lines.time_domain import prepare_gate
+
+        s = request.settings
+        plan = request.plan
+        if plan is None:
+            plan = prepare_gate(request.sweep, port=request.port, window=window_text(s))
+        return plan, plan.apply(s.gate_start_m, s.gate_stop_m, velocity_factor=s.vf)
+
+    return guarded(work, what="gate the sweep")

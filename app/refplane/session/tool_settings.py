@@ -86,6 +86,8 @@ class TimeDomainSettings:
     """Far end of the gate span."""
     markers_m: tuple = ()
     """Distances of the time-domain markers."""
+    gate_overlay: bool = True
+    """While a gate is set, draw the gated sweep dashed over its trace (follows a drag live)."""
 
 
 @register("uncertainty")

@@ -20,8 +20,8 @@ from __future__ import annotations
 import numpy as np
 import pyqtgraph as pg
 from PySide6.QtCore import Qt, QTimer, Signal
-from PySide6.QtWidgets import (QComboBox, QDoubleSpinBox, QHBoxLayout, QPushButton, QSizePolicy, QVBoxLayout,
-                               QWidget)
+from PySide6.QtWidgets import (QCheckBox, QComboBox, QDoubleSpinBox, QHBoxLayout, QPushButton, QSizePolicy,
+                               QVBoxLayout, QWidget)
 
 from refplane.analysis.errors import AnalysisError
 from refplane.session import tool_jobs, tool_text
@@ -61,6 +61,12 @@ class TimeDomainView(QWidget):
         self.response = None          # the TimeResponse shown
         self._request = None
         self._transform_key = None
+        self._plan = None             # GatePlan of the shown transform's sweep, port and window
+        self._plan_key = None
+        self._gate_job = 0
+        self._gate_ticket = None
+        self._overlay_trace: int | None = None   # the trace carrying the gated-sweep overlay
+        self.gated = None             # the GatedSweep drawn as that overlay
         self._timer = QTimer(self)
         self._timer.setSingleShot(True)
         self._timer.setInterval(0)
@@ -122,6 +128,10 @@ class TimeDomainView(QWidget):
         gate_row.addWidget(self.gate_button)
         gate_row.addWidget(self.clear_gate_button)
         column.addLayout(gate_row)
+        self.overlay_check = QCheckBox("Show the gated sweep on the chart")
+        self.overlay_check.setToolTip("Draw the sweep with only the gate's span kept, dashed over its trace; "
+                                      "it follows the gate as you drag it")
+        column.addWidget(self.overlay_check)
         self.open_gated_button = QPushButton("Open the gated sweep as a trace")
         self.open_gated_button.setSizePolicy(QSizePolicy.Ignored, QSizePolicy.Fixed)
         column.addWidget(self.open_gated_button)
@@ -167,6 +177,8 @@ class TimeDomainView(QWidget):
         self.clear_gate_button.clicked.connect(lambda: self._set(gate_start_m=None, gate_stop_m=None))
         self.open_gated_button.clicked.connect(self.open_gated)
         self.gate_item.sigRegionChangeFinished.connect(self._gate_dragged)
+        self.gate_item.sigRegionChanged.connect(self._gate_moving)
+        self.overlay_check.toggled.connect(lambda on: self._set(gate_overlay=bool(on)))
         bind(self, state.toolChanged, self._on_tool)
         bind(self, state.displayChanged, self._on_display)
         self._on_display("theme")
@@ -276,6 +288,12 @@ class TimeDomainView(QWidget):
         if self.gate_item.isVisible() and hi > lo:
             self._set(gate_start_m=round(float(lo), 9), gate_stop_m=round(float(hi), 9))
 
+    def _gate_moving(self) -> None:
+        # Live: only the preview follows; the session takes the span when the drag ends.
+        lo, hi = self.gate_item.getRegion()
+        if self.gate_item.isVisible() and hi > lo:
+            self._preview_gate(float(lo), float(hi))
+
     def _marker_dragged(self, index: int, line) -> None:
         markers = list(self.settings.markers_m)
         if index < len(markers):
@@ -312,6 +330,8 @@ class TimeDomainView(QWidget):
             if abs(spin.value() - value) > 1e-9:
                 put(spin, spin.setValue, value)
         self.beta_spin.setEnabled(s.window == "kaiser")
+        if self.overlay_check.isChecked() != s.gate_overlay:
+            put(self.overlay_check, self.overlay_check.setChecked, s.gate_overlay)
         # Step and impedance exist only in low-pass mode.
         model = self.show_combo.model()
         for row in (1, 2):
@@ -376,6 +396,7 @@ class TimeDomainView(QWidget):
             self.curve.setData([], [])
             self.note_item.setText("")
             self.gate_item.setVisible(False)
+            self._drop_overlay()
             self._draw_markers([])
             tw.fill(self.marker_table, [])
             return
@@ -402,9 +423,11 @@ class TimeDomainView(QWidget):
             self.gate_item.setVisible(True)
             self.gate_label.setText(f"Gate {tool_text.si(s.gate_start_m, 'm', 4)} to "
                                     f"{tool_text.si(s.gate_stop_m, 'm', 4)}")
+            self._preview_gate(s.gate_start_m, s.gate_stop_m)
         else:
             self.gate_item.setVisible(False)
             self.gate_label.setText("No gate set.")
+            self._drop_overlay()
         self._draw_markers(list(s.markers_m))
         tw.fill(self.marker_table, tool_text.time_marker_rows(td, s.markers_m))
 
@@ -422,6 +445,55 @@ class TimeDomainView(QWidget):
             line.blockSignals(True)
             line.setValue(d)
             line.blockSignals(False)
+
+    # ---------------------------------------------------------------- gate preview
+    def _preview_gate(self, start_m: float, stop_m: float) -> None:
+        """Work out the gated sweep for this span (superseding any still running) and overlay it."""
+        import dataclasses
+
+        req = self._request
+        if req is None or not self.settings.gate_overlay:
+            self._drop_overlay()
+            return
+        settings = dataclasses.replace(self.settings, gate_start_m=start_m, gate_stop_m=stop_m)
+        key = (id(req.sweep), req.port, tool_jobs.window_text(settings))
+        if key != self._plan_key:
+            self._plan, self._plan_key = None, key
+        if self._gate_ticket is not None:
+            self._gate_ticket.cancel()
+        self._gate_job += 1
+        request = tool_jobs.GatePreviewRequest(job=self._gate_job, trace_id=req.trace_id, sweep=req.sweep,
+                                               port=req.port, settings=settings, plan=self._plan)
+        self._gate_ticket = self.workers.submit(lambda _t: tool_jobs.gate_preview(request),
+                                                lambda r: self._on_gate_done(request, key, r), name="")
+
+    def _on_gate_done(self, request, key, result) -> None:
+        if request.job != self._gate_job:
+            return
+        self._gate_ticket = None
+        if not result.ok:
+            self.gate_label.setText(result.message)
+            self._drop_overlay()
+            return
+        plan, gated = result.value
+        if key == self._plan_key:
+            self._plan = plan
+        if request.trace_id not in self.state.trace_ids() or not self.settings.gate_overlay:
+            return
+        if self._overlay_trace not in (None, request.trace_id):
+            self._drop_overlay()
+        self.gated = gated
+        self.state.set_overlay(request.trace_id, tool_jobs.GATE_OVERLAY, gated.sweep)
+        self._overlay_trace = request.trace_id
+
+    def _drop_overlay(self) -> None:
+        if self._gate_ticket is not None:
+            self._gate_ticket.cancel()
+            self._gate_ticket = None
+        self._gate_job += 1
+        tid, self._overlay_trace = self._overlay_trace, None
+        if tid is not None and tid in self.state.trace_ids():
+            self.state.set_overlay(tid, tool_jobs.GATE_OVERLAY, None)
 
     def _place_note(self) -> None:
         (_x0, x1), (_y0, y1) = self.plot.getViewBox().viewRange()
