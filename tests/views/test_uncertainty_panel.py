@@ -3,8 +3,6 @@ uncertainty function (itself checked against the engine and ``refplane read --js
 
 from __future__ import annotations
 
-import dataclasses
-
 import numpy as np
 import pytest
 
@@ -98,13 +96,3 @@ def test_a_file_that_is_not_a_calibration_is_refused(setup, tmp_path):
     assert panel.cal_edit.text() == "/somewhere/port1.json"
     panel.cal_clear.click()
     assert state.tool("uncertainty").calibration_file == ""
-
-
-def test_placed_in_the_window(qtbot):
-    from refplane.views.main_window import MainWindow
-
-    window = MainWindow(Session())
-    qtbot.addWidget(window)
-    for title, kind in (("Uncertainty", UncertaintyPanel),):
-        assert isinstance(window.docks[title].panel(), kind)
-    assert dataclasses.is_dataclass(window.state.tool("uncertainty"))
