@@ -65,3 +65,8 @@ def from_json(name: str, obj: dict) -> object:
             raise ValueError(f"{key}: expected a list")
         values[key] = tuple(v) if isinstance(v, list) else v
     return cls(**values)
+
+
+# The tool panels' records register themselves; importing them here makes sure they are known
+# before any session file is read (a saved record of an unknown tool would be refused).
+from refplane.session import tool_settings as _tool_settings  # noqa: E402,F401

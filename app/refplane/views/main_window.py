@@ -184,6 +184,13 @@ class MainWindow(QMainWindow):
         fit.visibilityChanged.connect(self._build_fit_panel)
         self.tabifyDockWidget(plane, fit)
         plane.raise_()
+        from refplane.views.panels import antenna_panel, cable_panel
+        antenna_panel.install(self)
+        cable_panel.install(self)
+        from refplane.views.panels import uncertainty_panel
+        uncertainty_panel.install(self)
+        from refplane.views import time_domain
+        time_domain.install(self)
         self.add_tool_action("Calibrate from standards…", self._open_calibration, shortcut="Ctrl+K")
 
     def _build_fit_panel(self, visible: bool) -> None:
