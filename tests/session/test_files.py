@@ -203,3 +203,13 @@ def test_tool_settings_come_back_with_the_session(tmp_path):
             open_session(tmp_path / "t.refplane")
     finally:
         tools.REGISTRY.pop("test-tool", None)
+
+
+def test_a_causal_line_comes_back_with_its_switches(tmp_path):
+    s, _ = _work(tmp_path)
+    tid = s.trace_ids()[0]
+    line = LineOffset(delay_s=1e-9, loss_db=0.3, loss_ref_hz=1e9, dielectric_loss_db=0.1,
+                      skin_phase=True, z0_follows_skin=True)
+    s.set_offsets(tid, [line])
+    again, _ = open_session(save_session(s, tmp_path / "causal.refplane"))
+    assert again.trace(again.trace_ids()[0]).offsets == (line,)

@@ -295,7 +295,9 @@ def _check(doc: dict, file: str) -> dict:
                 continue
             c.obj(o, f"{w}.offsets[{j}]")
             for key, value in o.items():
-                c.num(value, f"{w}.offsets[{j}].{key}", null=True)
+                # Switches of the line model (skin_phase, z0_follows_skin) are true/false.
+                if not isinstance(value, bool):
+                    c.num(value, f"{w}.offsets[{j}].{key}", null=True)
         for j, v in enumerate(c.lst(t.get("velocity_factors", []), f"{w}.velocity_factors", max_len=99)):
             c.num(v, f"{w}.velocity_factors[{j}]", null=True, positive=True)
         for j, ov in enumerate(c.lst(t.get("overlays", []), f"{w}.overlays", max_len=16)):
