@@ -9,7 +9,7 @@ The builder takes plain values, so the command line, scripts and the window can 
 3. :func:`write_report` saves HTML or PDF (chosen by the file name), atomically;
 4. :func:`report_for_paths` does all three for files on disk.
 
-Every number shown comes through the same code as ``refplane read`` (``readings.readout_cells``)
+Every number shown comes through the same code as ``refplane read`` (``session.present.readout_cells``)
 and ``refplane check`` (``limits.LimitResult``), so a report cannot disagree with them.
 """
 
@@ -229,7 +229,7 @@ def facts(section: SweepReport) -> list[tuple[str, str]]:
 
 def marker_rows(section: SweepReport) -> tuple[list[str], list[list[str]]]:
     """The marker table: the same cells as ``refplane read`` prints, numbered."""
-    from refplane.analysis.readings import readout_cells
+    from refplane.session.present import readout_cells
 
     if section.readings is None:
         return [], []

@@ -66,23 +66,52 @@ def _read(sweep, freq_hz: float, port: int):
     return read_points(sweep, [freq_hz], port=port)
 
 
+def _u_settings(session, z0_chart):
+    """The uncertainty settings when the ± is on (and readings are on the files' own reference)."""
+    try:
+        settings = session.tool("uncertainty")
+    except KeyError:
+        return None
+    # The engine works on the files' reference impedance; on a renormalised chart no ± is claimed.
+    return settings if getattr(settings, "enabled", False) and z0_chart is None else None
+
+
+def _marker_uncertainty(settings, t, freq_hz: float):
+    """(u mapping for the cells, 95 % region of Γ as an (n, 2) array), or (None, None)."""
+    if settings is None:
+        return None, None
+    from refplane.analysis.errors import AnalysisError
+    from refplane.session.uncertainty_view import trace_uncertainty
+
+    try:
+        result = trace_uncertainty(settings, t, [float(freq_hz)])
+    except AnalysisError:
+        return None, None  # the panel says why; the cells stay plain rather than wrong
+    if result is None:
+        return None, None
+    return result.json_point(0), result.region(0)
+
+
 def _marker_view(m, number: int, t, previous: MarkerView | None, session) -> MarkerView:
     sweep = session.viewed(t.id)
     z0_chart = session.display.chart_z0_ohm
-    key = (m, sweep, t.port, number, t.colour, t.visible, tuple(t.overlays.items()))
+    u_settings = _u_settings(session, z0_chart)
+    key = (m, sweep, t.port, number, t.colour, t.visible, tuple(t.overlays.items()), u_settings)
     if previous is not None and previous.key == key:
         return previous
-    if previous is not None and previous.key[:3] == key[:3] and previous.key[6] == key[6]:
+    if previous is not None and previous.key[:3] == key[:3] and previous.key[6:] == key[6:]:
         readings = None  # number, colour or visibility changed: the reading stands
         readout, gamma, cells, summary, models, model_readouts = (
             previous.readout, previous.gamma, previous.cells, previous.summary, previous.model_cells,
             previous.model_readouts)
+        u, region = previous.u, previous.region
     else:
         readings = _read(sweep, m.freq_hz, t.port)
         readout = readings.readout.at(0)
         gamma = complex(readings.gamma[0])
-        cells = MappingProxyType(present.readout_cells(readout))
-        summary = present.summary_line(readout)
+        u, region = _marker_uncertainty(u_settings, t, m.freq_hz)
+        cells = MappingProxyType(present.readout_cells(readout, u))
+        summary = present.summary_line(readout) if u is None else present.summary_line_with_u(readout, u)
         models, model_readouts = {}, {}
         from refplane.analysis.errors import AnalysisError
 
@@ -101,6 +130,7 @@ def _marker_view(m, number: int, t, previous: MarkerView | None, session) -> Mar
     return MarkerView(id=m.id, number=number, trace_id=m.trace_id, colour=t.colour, visible=t.visible,
                       freq_hz=m.freq_hz, gamma=gamma, readout=readout, cells=cells, summary=summary,
                       model_cells=models, model_readouts=model_readouts, key=key,
+                      u=MappingProxyType(u) if u is not None else None, region=region,
                       follows=m.follows, follows_text=follows_text)
 
 

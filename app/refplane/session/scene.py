@@ -89,6 +89,10 @@ class MarkerView:
     """The reading in one line, for legends."""
     model_cells: Mapping[str, Mapping[str, str]]
     """Cells of each model overlay at the marker's frequency (overlay name → cells)."""
+    u: Mapping[str, float | None] | None = None
+    """Expanded uncertainties (k = 2) of the readings, keyed like the JSON point; None when off."""
+    region: np.ndarray | None = None
+    """The 95 % region of Γ at the marker as an (n, 2) polygon (re, im); None when off."""
     model_readouts: Mapping[str, Readout] = field(default_factory=dict)
     """Readings of each model overlay at the marker's frequency (overlay name → readout)."""
     key: tuple = field(repr=False, default=())

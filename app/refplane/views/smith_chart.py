@@ -468,6 +468,7 @@ class SmithChart(QWidget):
         self._raw: dict[int, TraceItem] = {}
         self._overlays: dict[tuple[int, str], TraceItem] = {}
         self._markers: dict[int, MarkerItem] = {}
+        self._regions: dict[int, pg.PlotCurveItem] = {}  # uncertainty regions around markers
         self._data: dict[int, tuple[np.ndarray, np.ndarray, np.ndarray]] = {}
         self._vswr: float | None = None
 
@@ -475,6 +476,8 @@ class SmithChart(QWidget):
         bind(self, state.traceChanged, self._on_trace_changed)
         bind(self, state.offsetsChanged, self._on_trace_changed)
         bind(self, state.overlaysChanged, self._on_overlays_changed)
+        # The ± of every reading follows the uncertainty settings.
+        bind(self, state.toolChanged, lambda name: name == "uncertainty" and self._on_markers_changed())
         bind(self, state.markersChanged, self._on_markers_changed)
         bind(self, state.markerMoving, self._on_marker_moving)
         bind(self, state.currentMarkerChanged, self._on_current_marker)
@@ -743,6 +746,9 @@ class SmithChart(QWidget):
         for mid in list(self._markers):
             if mid not in existing:
                 self.plot.removeItem(self._markers.pop(mid))
+        for mid in list(self._regions):
+            if mid not in existing:
+                self.plot.removeItem(self._regions.pop(mid))
         for m in scene.markers:
             item = self._markers.get(m.id)
             if item is None:
@@ -755,6 +761,28 @@ class SmithChart(QWidget):
             item.setVisible(m.visible)
             item.set_current(self._halo and m.id == scene.current_marker)
             item.setPos(m.gamma.real, m.gamma.imag)
+            self._show_region(m)
+
+    def _show_region(self, m) -> None:
+        """The 95 % region of Γ around a marker (uncertainty on), outlined in its trace's colour."""
+        item = self._regions.get(m.id)
+        if m.region is None:
+            if item is not None:
+                item.setVisible(False)
+            return
+        if item is None:
+            item = self._regions[m.id] = pg.PlotCurveItem(antialias=True)
+            item.setZValue(19)
+            self.plot.addItem(item)
+        x = np.append(m.region[:, 0], m.region[0, 0])
+        y = np.append(m.region[:, 1], m.region[0, 1])
+        item.setData(x, y)
+        item.setPen(_pen(m.colour, 1.4))
+        item.setVisible(m.visible)
+
+    def region_item(self, marker_id: int):
+        """The item outlining a marker's uncertainty region (for tests), or None."""
+        return self._regions.get(marker_id)
 
     def _on_marker_moving(self, marker_id: int) -> None:
         if marker_id in self._markers:
@@ -765,8 +793,10 @@ class SmithChart(QWidget):
             item.set_current(self._halo and mid == marker_id)
 
     def _place_marker(self, marker_id: int) -> None:
-        g = self.state.scene().marker(marker_id).gamma
-        self._markers[marker_id].setPos(g.real, g.imag)
+        m = self.state.scene().marker(marker_id)
+        self._markers[marker_id].setPos(m.gamma.real, m.gamma.imag)
+        if m.region is not None or marker_id in self._regions:
+            self._show_region(m)
 
     def _on_marker_dragged(self, marker_id: int, scene_pos: QPointF, finished: bool) -> None:
         p = self.view.mapSceneToView(scene_pos)

@@ -107,6 +107,8 @@ class MarkerTable(QWidget):
         self.table.setContextMenuPolicy(Qt.CustomContextMenu)
         self.table.customContextMenuRequested.connect(
             lambda pos: self.context_menu(self.table.rowAt(pos.y())).exec(self.table.viewport().mapToGlobal(pos)))
+        # The ± of every reading follows the uncertainty settings.
+        bind(self, state.toolChanged, lambda name: name == "uncertainty" and self.rebuild())
         bind(self, state.markersChanged, self.rebuild)
         bind(self, state.tracesChanged, self.rebuild)
         bind(self, state.traceChanged, lambda _id: self.rebuild())
