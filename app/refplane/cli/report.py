@@ -34,7 +34,9 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
         description="Write a report of one or more sweeps that a customer or a colleague can read "
                     "without Refplane: one self-contained HTML file or a PDF.",
         epilog=_EPILOG, formatter_class=argparse.RawDescriptionHelpFormatter)
-    p.add_argument("files", nargs="+", metavar="PATH", help="Touchstone (.s1p, .s2p, …, .ts) or CSV sweeps")
+    p.add_argument("files", nargs="*", metavar="PATH", help="Touchstone (.s1p, .s2p, …, .ts) or CSV sweeps")
+    p.add_argument("--session", metavar="SESSION",
+                   help="report a saved session (.refplane): its traces, offsets, markers and fit")
     p.add_argument("-o", "--output", required=True, metavar="OUT", help="the report: a .html or .pdf file")
     p.add_argument("--at", dest="at_hz", action="append", default=[], metavar="F",
                    type=arg_type(parse_frequency, "frequency"),
@@ -54,8 +56,6 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--csv", metavar="OUT.csv",
                    help="also write the marker tables (--at) as CSV for a spreadsheet, units in the header")
     p.add_argument("--title", default="Refplane measurement report", help="the report's title")
-    # The lead adds --session FILE here when session files exist: its sweeps, markers, offsets
-    # and limits would become report sections through refplane.report.build.sweep_report.
     p.add_argument("--force", action="store_true", help="replace OUT if it exists")
     from refplane.cli.offsets import add_offset_options
 
@@ -83,8 +83,24 @@ def run(args: argparse.Namespace) -> int:
     limits = list(args.limits)
     if args.limit_file:
         limits.extend(read_limits(args.limit_file))
-    prep = preparation_from_args(args)
-    sections = report_sections(args.files, at_hz=args.at_hz, limits=limits, prep=prep, fit_model=args.fit_model)
+    if args.session:
+        if args.files or args.at_hz or args.fit_model or args.cal:
+            raise AnalysisError("--session reports the session as it was saved; leave out PATH, --at, --fit and --cal")
+        from refplane.report.from_session import session_sections
+        from refplane.session.files import open_session
+
+        session, notes = open_session(args.session)
+        for note in notes:
+            print(f"refplane report: note: {note}", file=sys.stderr)
+        sections = session_sections(session, limits=limits)
+        if not sections:
+            raise AnalysisError("the session has no traces to report", file=args.session)
+    else:
+        if not args.files:
+            raise AnalysisError("name at least one sweep PATH, or a saved session with --session")
+        prep = preparation_from_args(args)
+        sections = report_sections(args.files, at_hz=args.at_hz, limits=limits, prep=prep,
+                                   fit_model=args.fit_model)
     path = write_report(sections, args.output, overwrite=args.force, title=args.title)
     print(f"wrote {path}")
     if args.csv:

@@ -256,6 +256,7 @@ class MainWindow(QMainWindow):
         self.save_session_action.setShortcut(QKeySequence.Save)
         file_menu.addAction("Save session as…", self.ask_save_session)
         file_menu.addSeparator()
+        file_menu.addAction("Report…", self.ask_report)
         file_menu.addAction("Save chart picture…", lambda: self.ask_export("chart"))
         file_menu.addAction("Save plots picture…", lambda: self.ask_export("plots"))
         file_menu.addAction("Export marker table…", self.ask_export_table)
@@ -546,6 +547,34 @@ class MainWindow(QMainWindow):
         remember_folder("sessions", path)
         # The save dialog has already asked before replacing an existing file.
         return self.save_session(path, overwrite=True)
+
+    def ask_report(self) -> str | None:
+        """File ▸ Report…: a document (HTML or PDF) of every open trace, its markers and fit."""
+        if not self.state.traces():
+            self.show_error("Nothing to report", "Open a sweep first.")
+            return None
+        path, _ = QFileDialog.getSaveFileName(self, "Write a report", "refplane-report.html",
+                                              "Web page (*.html);;PDF document (*.pdf)")
+        if not path:
+            return None
+        if not path.lower().endswith((".html", ".htm", ".pdf")):
+            path += ".html"
+        # The save dialog has already asked before replacing an existing file.
+        return self.write_report(path, overwrite=True)
+
+    def write_report(self, path: str, *, overwrite: bool = False) -> str | None:
+        """Write the report of the current session; problems are shown, never raised."""
+        from refplane.analysis.errors import AnalysisError
+        from refplane.report.build import write_report
+        from refplane.report.from_session import session_sections
+
+        try:
+            written = write_report(session_sections(self.state), path, overwrite=overwrite)
+        except (AnalysisError, OSError) as exc:
+            self.show_error("The report could not be written", str(exc))
+            return None
+        self.statusBar().showMessage(f"Wrote {written}", 5000)
+        return str(written)
 
     def save_session_now(self) -> str | None:
         """Save to the session's own file (File ▸ Save session), or ask where the first time."""

@@ -1,0 +1,24 @@
+"""Report sections from a session: what the window shows, as a document (File ▸ Report…,
+``refplane report --session``)."""
+
+from __future__ import annotations
+
+from typing import Sequence
+
+
+def session_sections(session, *, limits: Sequence = ()) -> list:
+    """One report section per open trace: its displayed (corrected) sweep, its markers, the
+    offsets applied, the fit sentence where a fitted curve is drawn, and ``limits``."""
+    from refplane.analysis.deembed import describe_offsets
+    from refplane.report.build import sweep_report
+
+    sections = []
+    for t in session.traces():
+        at = [m.freq_hz for m in session.markers(t.id)]
+        notes = list(describe_offsets(t.offsets)) if t.offsets else []
+        fit_model = None
+        if session.fit.overlay_trace == t.id and session.fit.measurement == "reflection":
+            fit_model = session.fit.model
+        sections.append(sweep_report(t.displayed, file=t.source, port=t.port, at_hz=at, limits=limits,
+                                     fit_model=fit_model, notes=notes))
+    return sections
