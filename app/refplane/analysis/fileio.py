@@ -2,7 +2,9 @@
 
 from __future__ import annotations
 
+import errno
 import os
+import stat
 import tempfile
 from pathlib import Path
 from typing import Callable
@@ -77,6 +79,114 @@ def write_text_atomic(path: str | os.PathLike, text: str, *, overwrite: bool = F
     return write_atomic(path, write, overwrite=overwrite)
 
 
+#: Largest input file Refplane reads (1 GiB). A two-port sweep of 2,000,000 points written
+#: with 17 significant digits is about 350 MB; anything much larger is not a sweep.
+MAX_INPUT_BYTES = 1 << 30
+
+_KINDS = ((stat.S_ISFIFO, "a named pipe"), (stat.S_ISCHR, "a character device"),
+          (stat.S_ISBLK, "a block device"), (stat.S_ISSOCK, "a socket"))
+
+
+def path_problem(exc: OSError | ValueError) -> str:
+    """A short reason for an error opening or creating a path (no library's own wording)."""
+    if isinstance(exc, ValueError):
+        return "the path holds a NUL character"
+    code = getattr(exc, "errno", None)
+    if code == errno.ENOENT:
+        return "no such file"
+    if code in (errno.EACCES, errno.EPERM):
+        return "permission denied"
+    if code == errno.ENAMETOOLONG:
+        return "the path is longer than the system allows"
+    if code == errno.ELOOP:
+        return "the path has a loop of symbolic links"
+    if code == errno.ENOTDIR:
+        return "a part of the path is not a folder"
+    if code == errno.EISDIR:
+        return "this is a folder, not a file"
+    if code == errno.ENOSPC or code == getattr(errno, "EDQUOT", None):
+        return "the disk is full"
+    if code == errno.EROFS:
+        return "the folder is on a read-only file system"
+    if code == errno.EMFILE or code == errno.ENFILE:
+        return "too many files are open"
+    text = getattr(exc, "strerror", None) or type(exc).__name__
+    return text[:1].lower() + text[1:]
+
+
+def open_input(path: str | os.PathLike, what: str = "a sweep file"):
+    """Open a file for reading in binary mode, refusing anything but a regular file.
+
+    A named pipe would block for ever, a device such as ``/dev/zero`` never ends, and a
+    huge file would exhaust memory; each is refused at once with a one-line
+    :class:`SweepFileError` naming the file.
+
+    Parameters
+    ----------
+    path : path-like
+        The file.
+    what : str
+        Its kind for messages ("a Touchstone file").
+
+    Returns
+    -------
+    file object
+        Opened ``rb``; the caller closes it. Its size is at most :data:`MAX_INPUT_BYTES`
+        when opened; readers stop at that many bytes anyway.
+    """
+    try:
+        name = os.fspath(path)
+    except TypeError:
+        raise SweepFileError("not a file path", file=str(path)) from None
+    flags = os.O_RDONLY | getattr(os, "O_NONBLOCK", 0) | getattr(os, "O_BINARY", 0)
+    try:
+        fd = os.open(name, flags)
+    except (OSError, ValueError) as exc:
+        if isinstance(exc, IsADirectoryError):
+            raise SweepFileError(f"this is a folder, not {what}", file=name) from None
+        raise SweepFileError(f"cannot open the file: {path_problem(exc)}", file=name) from None
+    try:
+        info = os.fstat(fd)
+        if stat.S_ISDIR(info.st_mode):
+            raise SweepFileError(f"this is a folder, not {what}", file=name)
+        if not stat.S_ISREG(info.st_mode):
+            kind = next((k for test, k in _KINDS if test(info.st_mode)), "not a regular file")
+            raise SweepFileError(f"this is {kind}, not {what}; only regular files are read",
+                                 file=name)
+        if info.st_size > MAX_INPUT_BYTES:
+            raise SweepFileError(too_big(info.st_size), file=name)
+        if flags & getattr(os, "O_NONBLOCK", 0):
+            os.set_blocking(fd, True)
+        return os.fdopen(fd, "rb")
+    except BaseException:
+        os.close(fd)
+        raise
+
+
+def too_big(size: int | None = None) -> str:
+    """The reason given for a file over :data:`MAX_INPUT_BYTES`."""
+    limit = MAX_INPUT_BYTES / (1 << 30)
+    if size is None:
+        return f"the file is larger than {limit:g} GiB, the most Refplane reads"
+    return f"the file is {size / (1 << 30):.1f} GiB; Refplane reads files up to {limit:g} GiB"
+
+
+def read_limited(path: str | os.PathLike, what: str, *, limit: int | None = None) -> bytes:
+    """The whole content of a regular file of at most ``limit`` bytes (see :func:`open_input`)."""
+    limit = MAX_INPUT_BYTES if limit is None else limit
+    name = os.fspath(path)
+    with open_input(name, what) as handle:
+        try:
+            data = handle.read(limit + 1)
+        except OSError as exc:
+            raise SweepFileError(f"cannot read the file: {path_problem(exc)}", file=name) from None
+    if len(data) > limit:
+        raise SweepFileError(too_big() if limit == MAX_INPUT_BYTES else
+                             f"the file is larger than {limit:,} bytes, too large for {what}",
+                             file=name)
+    return data
+
+
 def read_json(path: str | os.PathLike, what: str):
     """Read a JSON file of ours; ``what`` names its kind for messages ("a standards file").
 
@@ -88,15 +198,38 @@ def read_json(path: str | os.PathLike, what: str):
     import json
 
     fname = os.fspath(path)
+    # Calibration and standards files are small; 16 MB is far more than any holds.
+    raw = read_limited(fname, what, limit=16 << 20)
+    if b"\x00" in raw:
+        line = raw.count(b"\n", 0, raw.index(b"\x00")) + 1
+        raise SweepFileError("the file holds NUL bytes: it is not JSON text", file=fname, line=line)
     try:
-        text = Path(fname).read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise SweepFileError("no such file", file=fname) from None
-    except IsADirectoryError:
-        raise SweepFileError(f"this is a folder, not {what}", file=fname) from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise SweepFileError(f"cannot read the file ({exc})", file=fname) from None
+        text = raw.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        line = raw.count(b"\n", 0, exc.start) + 1
+        raise SweepFileError(f"byte 0x{raw[exc.start]:02x} is not UTF-8 text", file=fname,
+                             line=line) from None
     try:
-        return json.loads(text)
+        return json.loads(text, parse_int=_json_int, parse_constant=_json_constant)
     except json.JSONDecodeError as exc:
         raise SweepFileError(f"not valid JSON: {exc.msg}", file=fname, line=exc.lineno) from None
+    except RecursionError:
+        raise SweepFileError("the JSON is nested too deeply", file=fname) from None
+    except _JsonValueError as exc:
+        raise SweepFileError(str(exc), file=fname) from None
+
+
+class _JsonValueError(ValueError):
+    pass
+
+
+def _json_int(text: str):
+    # A whole number with hundreds of digits is no measurement; Python would also refuse
+    # to convert one of more than 4300 digits with its own, unhelpful, message.
+    if len(text.lstrip("-")) > 30:
+        raise _JsonValueError(f"a whole number of {len(text):,} digits is not a usable value")
+    return int(text)
+
+
+def _json_constant(text: str):
+    raise _JsonValueError(f"{text} is not a finite number")

@@ -1,0 +1,255 @@
+"""The careful pass: line by line, plain Python floats, exact line numbers.
+
+It runs when the bulk pass (:mod:`.fast`) meets anything irregular, to find the exact line
+and reason, or to read the rare legal irregularity (a 1.x noise block, a 2.0 file without
+[End]). Both passes give bit-for-bit the same sweep.
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Iterator
+
+import numpy as np
+
+from refplane.analysis.errors import SweepFileError, show_token
+from refplane.analysis.touchstone.convert import bad_point, to_s
+from refplane.analysis.touchstone.header import (
+    FREQ_UNITS, MAX_LINE, NUMBER, UNIT_NAMES, Header, decode_line, header_line, split_comment)
+from refplane.analysis.touchstone.source import LineTooLong, Source
+
+
+def _lines(src: Source) -> Iterator[tuple[int, str]]:
+    number = 0
+    while True:
+        try:
+            raw = src.readline()
+        except LineTooLong:
+            raise SweepFileError(f"line {number + 1} is longer than {MAX_LINE >> 20} MiB; this "
+                                 "is not a Touchstone file", file=src.name) from None
+        if not raw:
+            return
+        number += 1
+        yield number, decode_line(raw, src.name, number)
+
+
+def careful(name: str, ext_ports: int | None):
+    """Read the file line by line; returns (header, freq_hz, s) or raises SweepFileError."""
+    with Source(name) as src:
+        return _careful(src, name, ext_ports)
+
+
+def _careful(src: Source, name: str, ext_ports: int | None):
+    head = Header(file=name, ext_ports=ext_ports)
+    lines = _lines(src)
+    first: tuple[int, str] | None = None
+    last_line = 0
+    for number, text in lines:
+        last_line = number
+        kind = header_line(head, split_comment(text, head, number), number)
+        if kind == "keyword:network data":
+            head.network_data_line = number
+        elif kind.startswith("keyword:") and head.network_data_line is not None:
+            head.start_data(number)
+            raise head.error("[Network Data] is followed by no numbers", number)
+        elif kind == "data":
+            if "!" in text:
+                head.comments.pop()  # collected again below, with the line's numbers
+            head.start_data(number)
+            first = (number, text)
+            break
+    if first is None:
+        if last_line == 0:
+            raise SweepFileError("the file is empty", file=name)
+        if head.version == 2 and head.network_data_line is None:
+            raise head.error("the file has keywords but no [Network Data] section", last_line)
+        if head.version == 2:
+            head.start_data(last_line + 1)
+        raise head.error("the file holds no frequency points (no lines of numbers)", last_line)
+
+    n = head.ports
+    per_point = head.numbers_per_point()
+    what = f"{n}-port"
+    rows: list[list[float]] = []
+    starts: list[int] = []
+    current: list[float] = []
+    current_start = 0
+    freq_scale = FREQ_UNITS[head.unit]
+    last_freq = -math.inf
+    noise_from: int | None = None
+    noise_rows = 0
+    noise_last = -math.inf
+    end_line: int | None = None
+    ended = False
+
+    def body() -> Iterator[tuple[int, str]]:
+        yield first
+        yield from lines
+
+    for number, text in body():
+        last_line = number
+        text = split_comment(text, head, number)
+        stripped = text.strip()
+        if not stripped:
+            continue
+        if ended:
+            raise head.error("text after [End]; [End] must be the last line", number)
+        if noise_from is not None and head.version == 1:
+            noise_last = _noise_row(stripped, number, head, noise_last)
+            continue
+        if stripped.startswith("#"):
+            raise head.error("an option line (#) after the data has begun; the option line "
+                             "must come before the numbers", number)
+        if stripped.startswith("["):
+            if head.version != 2:
+                head.keyword(stripped, number)  # raises: 2.0 keyword in a 1.x file
+            close = stripped.find("]")
+            key = " ".join(stripped[1:close].split()).lower() if close > 0 else ""
+            if current:
+                raise _short_point(head, what, per_point, current, current_start, number)
+            if key == "noise data" and noise_from is None and end_line is None:
+                if head.n_noise is None:
+                    raise head.error("[Noise Data] needs [Number of Noise Frequencies] before "
+                                     "[Network Data]", number)
+                noise_from = number
+                continue
+            if key == "end":
+                end_line = number
+                ended = True
+                continue
+            shown = show_token(stripped[:close + 1] if close > 0 else stripped, 40)
+            if noise_from is not None and head.version == 2:
+                raise head.error(f"unexpected keyword {shown} inside [Noise Data]; only [End] "
+                                 "may follow", number)
+            head.keyword(stripped, number)  # raises for unknown keywords
+            raise head.error(f"the keyword {shown} cannot appear inside [Network Data]", number)
+        if noise_from is not None:
+            noise_last = _noise_row(stripped, number, head, noise_last)
+            noise_rows += 1
+            continue
+        values = _parse_numbers(stripped, number, head)
+        if not current:
+            current_start = number
+            freq = values[0] * freq_scale
+            # A 1.x two-port file may end with a noise block: its first frequency is not
+            # above the last network frequency and its rows hold 5 numbers.
+            if (head.version == 1 and n == 2 and rows and len(values) == 5
+                    and freq <= last_freq):
+                noise_from = number
+                noise_last = _noise_row(stripped, number, head, noise_last)
+                continue
+        if len(current) + len(values) > per_point:
+            if current:
+                raise _short_point(head, what, per_point, current, current_start, number)
+            raise head.error(_count_reason(head, what, per_point, len(values), n), number)
+        current.extend(values)
+        if len(current) == per_point:
+            freq = current[0] * freq_scale
+            if freq <= last_freq:
+                raise head.error(
+                    f"the frequency {current[0]:g} {UNIT_NAMES[head.unit]} does not increase "
+                    f"(the point before it was at {last_freq / freq_scale:g} "
+                    f"{UNIT_NAMES[head.unit]}); frequencies must increase strictly",
+                    current_start)
+            if freq < 0:
+                raise head.error("frequencies must not be negative", current_start)
+            last_freq = freq
+            rows.append(current)
+            starts.append(current_start)
+            current = []
+        elif n <= 2:
+            # One- and two-port points are single lines.
+            raise head.error(_count_reason(head, what, per_point, len(current), n), current_start)
+    if current:
+        raise _short_point(head, what, per_point, current, current_start, None)
+    if head.version == 2:
+        if end_line is None:
+            head.missing_end = True  # otherwise complete: read, with a warning
+        if noise_from is not None and noise_rows != head.n_noise:
+            raise head.error(
+                f"[Number of Noise Frequencies] says {head.n_noise}, but [Noise Data] holds "
+                f"{noise_rows} row(s)", noise_from)
+        if len(rows) != head.n_freq:
+            raise head.error(
+                f"[Number of Frequencies] says {head.n_freq}, but [Network Data] holds "
+                f"{len(rows)} frequency point(s)", head.n_freq_line)
+    if not rows:
+        raise head.error("the file holds no frequency points", None)
+    values = np.asarray(rows, dtype=np.float64)
+    with np.errstate(over="ignore"):
+        freq_hz = values[:, 0] * freq_scale
+    if not np.all(np.isfinite(freq_hz)):
+        k = int(np.argmax(~np.isfinite(freq_hz)))
+        raise head.error(f"the frequency {values[k, 0]:g} {UNIT_NAMES[head.unit]} is too large",
+                         starts[k])
+    if not np.all(np.diff(freq_hz) > 0):  # two text values can scale to one double
+        k = int(np.argmax(~(np.diff(freq_hz) > 0))) + 1
+        raise head.error("frequencies must increase strictly", starts[k])
+    s = to_s(head, values)
+    bad = bad_point(s)
+    if bad is not None:
+        raise head.error("this point's values are too large: the S-parameters overflow "
+                         "(is a dB value far too high?)", starts[bad])
+    return head, freq_hz, s
+
+
+def _parse_numbers(text: str, number: int, head: Header) -> list[float]:
+    out = []
+    for tok in text.split():
+        if not tok.isascii() or not NUMBER.fullmatch(tok.encode("ascii")):
+            low = tok.lower()
+            if low.lstrip("+-") in ("nan", "inf", "infinity"):
+                raise head.error(f"{show_token(tok)} is not a finite number", number)
+            raise head.error(f"{show_token(tok)} is not a number", number)
+        value = float(tok)
+        if not math.isfinite(value):
+            raise head.error(f"{show_token(tok)} is too large to be a finite number", number)
+        out.append(value)
+    return out
+
+
+def _noise_row(text: str, number: int, head: Header, last_hz: float) -> float:
+    """Check one noise-parameter row; returns its frequency in Hz.
+
+    Touchstone gives five numbers per row: frequency, minimum noise figure (dB), the
+    magnitude and angle of the optimum source reflection coefficient, and the effective
+    noise resistance (normalised in version 1). The rows' frequencies increase.
+    """
+    values = _parse_numbers(text, number, head)
+    if len(values) != 5:
+        raise head.error("a noise-parameter row needs 5 numbers (frequency, minimum noise "
+                         f"figure, |Γopt|, angle, Rn), found {len(values)}", number)
+    freq = values[0] * FREQ_UNITS[head.unit]
+    if not (math.isfinite(freq) and freq >= 0):
+        raise head.error("a noise-parameter frequency must be a finite, non-negative number",
+                         number)
+    if freq <= last_hz:
+        raise head.error("noise-parameter frequencies must increase strictly", number)
+    if values[2] < 0 or values[4] < 0:
+        raise head.error("|Γopt| and the noise resistance of a noise-parameter row must not "
+                         "be negative", number)
+    return freq
+
+
+def _count_reason(head: Header, what: str, per_point: int, found: int, n: int) -> str:
+    reason = f"a {what} row needs {per_point} numbers, found {found}"
+    for m in range(1, 9):
+        if m != n and found == 1 + 2 * m * m:
+            source = "the file name" if head.version == 1 else "[Number of Ports]"
+            reason += (f"; the rows look like those of a {m}-port file, but {source} says "
+                       f"{n} ports")
+            break
+    return reason
+
+
+def _short_point(head: Header, what: str, per_point: int, current: list[float], start: int,
+                 next_line: int | None) -> SweepFileError:
+    if next_line is None:
+        tail = " before the file ends"
+    else:
+        tail = f" before line {next_line}"
+    if head.ports <= 2:
+        return head.error(_count_reason(head, what, per_point, len(current), head.ports), start)
+    return head.error(f"a {what} point needs {per_point} numbers, found {len(current)}{tail}",
+                      start)
+
