@@ -7,7 +7,7 @@ import os
 #: Longest file name and reason shown whole; longer ones are shortened with an ellipsis
 #: so a message stays one readable line (about 200 characters at most).
 _FILE_CHARS = 80
-_REASON_CHARS = 150
+_REASON_CHARS = 220
 
 
 def printable(text: str) -> str:

@@ -233,3 +233,196 @@ def _json_int(text: str):
 
 def _json_constant(text: str):
     raise _JsonValueError(f"{text} is not a finite number")
+
+
+# --------------------------------------------------------------------------------------
+# A small declared-schema check for Refplane's own JSON files (calibration, standards)
+# --------------------------------------------------------------------------------------
+#
+# Each file declares its layout once as nested schema values; ``validate`` walks the parsed
+# document along the schema (never deeper than the schema goes) and stops at the first
+# fault with one message: the file, the key path (``terms.directivity.re[3]``) and the
+# reason. Plain typed Python: the layouts are small and fixed, and a validation library
+# would add a start-up import for the command line without saving code.
+
+
+class SchemaError(Exception):
+    """A fault at one key path of a JSON document."""
+
+    def __init__(self, path: str, reason: str):
+        super().__init__(f"{path}: {reason}" if path else reason)
+        self.path, self.reason = path, reason
+
+
+def _shown(value) -> str:
+    from refplane.analysis.errors import show_token
+
+    if isinstance(value, bool):
+        return "true" if value else "false"
+    if value is None:
+        return "null"
+    if isinstance(value, dict):
+        return "an object"
+    if isinstance(value, list):
+        return "a list"
+    if isinstance(value, str):
+        return "text " + show_token(value)
+    text = str(value)
+    return text if len(text) <= 24 else show_token(text)[1:].replace("'", "", 1)
+
+
+class Number:
+    """A finite JSON number (never a boolean), optionally bounded; ``null`` if allowed."""
+
+    def __init__(self, *, minimum: float | None = None, above: float | None = None,
+                 nullable: bool = False):
+        self.minimum, self.above, self.nullable = minimum, above, nullable
+
+    def check(self, value, path: str):
+        if value is None and self.nullable:
+            return None
+        if isinstance(value, bool) or not isinstance(value, (int, float)):
+            raise SchemaError(path, f"must be a finite number, not {_shown(value)}")
+        try:
+            number = float(value)
+        except OverflowError:
+            raise SchemaError(path, "the number is far too large") from None
+        if number != number or number in (float("inf"), float("-inf")):
+            raise SchemaError(path, "must be a finite number")
+        if self.minimum is not None and number < self.minimum:
+            if self.minimum == 0:
+                raise SchemaError(path, f"must not be negative (found {number:g})")
+            raise SchemaError(path, f"must not be below {self.minimum:g}, not {number:g}")
+        if self.above is not None and number <= self.above:
+            raise SchemaError(path, f"must be above {self.above:g}, not {number:g}")
+        return number
+
+
+class Text:
+    """A JSON string (non-empty if asked)."""
+
+    def __init__(self, *, nonempty: bool = False, choices: tuple[str, ...] | None = None):
+        self.nonempty, self.choices = nonempty, choices
+
+    def check(self, value, path: str):
+        if not isinstance(value, str):
+            raise SchemaError(path, f"must be text, not {_shown(value)}")
+        if self.nonempty and not value:
+            raise SchemaError(path, "must not be empty")
+        if self.choices is not None and value not in self.choices:
+            raise SchemaError(path, f"must be one of {', '.join(self.choices)}, not {_shown(value)}")
+        return value
+
+
+class Const:
+    """Exactly this value (a format name or version)."""
+
+    def __init__(self, value, reason: str):
+        self.value, self.reason = value, reason
+
+    def check(self, value, path: str):
+        if type(value) is not type(self.value) or value != self.value:
+            raise SchemaError(path, self.reason.format(_shown(value)))
+        return value
+
+
+class ListOf:
+    """A JSON list of items of one schema, with an optional length (int or callable)."""
+
+    def __init__(self, item, *, nonempty: bool = False, max_items: int = 10_000_000,
+                 length: int | None = None, what: str = "", increasing: bool = False):
+        self.item, self.nonempty, self.max_items = item, nonempty, max_items
+        self.length, self.what, self.increasing = length, what, increasing
+
+    def check(self, value, path: str):
+        if not isinstance(value, list):
+            raise SchemaError(path, f"must be a list, not {_shown(value)}")
+        if self.nonempty and not value:
+            raise SchemaError(path, "must not be an empty list")
+        if len(value) > self.max_items:
+            raise SchemaError(path, f"holds {len(value):,} items, more than {self.max_items:,}")
+        if self.length is not None and len(value) != self.length:
+            raise SchemaError(path, f"needs {self.length} {self.what or 'values'}, found "
+                                    f"{len(value)}")
+        out = [self.item.check(v, f"{path}[{i}]") for i, v in enumerate(value)]
+        if self.increasing:
+            for i in range(1, len(out)):
+                if not out[i] > out[i - 1]:
+                    raise SchemaError(f"{path}[{i}]", "the values must be increasing")
+        return out
+
+
+class Either:
+    """One of several schemas (the first that fits); the last one's message otherwise."""
+
+    def __init__(self, *options):
+        self.options = options
+
+    def check(self, value, path: str):
+        for option in self.options[:-1]:
+            try:
+                return option.check(value, path)
+            except SchemaError:
+                continue
+        return self.options[-1].check(value, path)
+
+
+class Obj:
+    """A JSON object with known keys (each optional unless listed in ``required``).
+
+    ``keys`` may be a callable of the object (keys that depend on, say, its 'kind');
+    ``values`` checks every value of an object of free names instead.
+    """
+
+    def __init__(self, keys=None, *, required: tuple[str, ...] = (), values=None):
+        self.keys, self.required, self.values = keys, required, values
+
+    def check(self, value, path: str):
+        if not isinstance(value, dict):
+            raise SchemaError(path, f"must be an object, not {_shown(value)}")
+        if self.values is not None:
+            return {k: self.values.check(v, _join(path, k)) for k, v in value.items()}
+        keys = self.keys(value, path) if callable(self.keys) else self.keys
+        for key in value:
+            if key not in keys:
+                plain = sorted(k for k in keys if not (k.endswith("_u") and k[:-2] in keys))
+                companions = len(plain) != len(keys)
+                known = ", ".join(plain) + ("; a number may have a <key>_u uncertainty"
+                                            if companions else "")
+                from refplane.analysis.errors import show_token
+
+                raise SchemaError(path, f"unknown key {show_token(key, 40)} (known: {known})")
+        out = {}
+        for key, item in keys.items():  # in the declared order: format and version first
+            if key in value:
+                out[key] = item.check(value[key], _join(path, key))
+            elif key in self.required:
+                raise SchemaError(path, f"the key {key!r} is missing")
+        return out
+
+
+def _join(path: str, key: str) -> str:
+    from refplane.analysis.errors import printable
+
+    shown = key if key.isidentifier() else repr(printable(key))
+    if len(shown) > 40:
+        shown = shown[:39] + "…"
+    if not key.isidentifier():
+        return f"{path}[{shown}]" if path else f"[{shown}]"
+    return f"{path}.{shown}" if path else shown
+
+
+def validate(document, schema, file: str | os.PathLike):
+    """Check ``document`` against ``schema``; returns it with numbers as floats.
+
+    Raises
+    ------
+    SweepFileError
+        One line: the file, the key path and the reason.
+    """
+    try:
+        return schema.check(document, "")
+    except SchemaError as exc:
+        raise SweepFileError(str(exc), file=file) from None
+    except RecursionError:
+        raise SweepFileError("the document is nested too deeply", file=file) from None
