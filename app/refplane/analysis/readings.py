@@ -61,6 +61,15 @@ def series_part(r: Readout) -> tuple[str, str]:
     return "L/C", "—"
 
 
+#: Shown where a reading is not defined because the load reflects more than it receives.
+NOT_PASSIVE = "n/a (|Γ| > 1)"
+
+
+def _passive_only(r: Readout, value: float, unit: str, decimals: int) -> str:
+    # VSWR and mismatch loss are defined for passive loads only (|Γ| ≤ 1).
+    return NOT_PASSIVE if r.gamma_mag > 1 else _num(value, unit, decimals)
+
+
 def readout_cells(r: Readout) -> dict[str, str]:
     """A single-point readout as ordered display cells, label → text with scaled units."""
     kind, value = series_part(r)
@@ -72,7 +81,7 @@ def readout_cells(r: Readout) -> dict[str, str]:
         "|Z|": _num(r.z_mag_ohm, "Ω"),
         "|Γ|": _num(r.gamma_mag, "", 4),
         "∠Γ": _num(r.gamma_deg, "°", 1),
-        "VSWR": _num(r.vswr, "", 3),
+        "VSWR": _passive_only(r, r.vswr, "", 3),
         "Return loss": _num(r.return_loss_db, "dB"),
         "Q": _num(r.q, "", 3),
         "Parallel R": _num(r.parallel_r_ohm, "Ω"),
@@ -89,4 +98,4 @@ def summary_line(r: Readout) -> str:
         sign = "+" if r.x_ohm >= 0 else "−"
         z = f"{_num(r.r_ohm, 'Ω')} {sign} j{_num(abs(r.x_ohm), 'Ω')}"
     series = f" ({kind} {value})" if value != "—" else ""
-    return f"{format_frequency(r.freq_hz)}: {z}{series}, VSWR {_num(r.vswr, '', 2)}"
+    return f"{format_frequency(r.freq_hz)}: {z}{series}, VSWR {_passive_only(r, r.vswr, '', 2)}"
