@@ -21,6 +21,40 @@ def _mode_for(target: Path) -> int:
         return 0o666 & ~umask
 
 
+def check_output(path: str | os.PathLike, *, overwrite: bool = False) -> Path:
+    """Check, before any work, that ``path`` can be written: not an existing file unless
+    ``overwrite``, its folder present and writable. Raises :class:`SweepFileError` naming
+    ``path`` with a short reason; returns it as a Path."""
+    target = Path(path)
+    try:
+        exists = target.exists()
+    except (OSError, ValueError) as exc:
+        raise SweepFileError(f"cannot write here: {path_problem(exc)}", file=target) from None
+    if target.is_dir():
+        raise SweepFileError("this is a folder; name a file to write", file=target)
+    if exists and not overwrite:
+        raise SweepFileError("the file exists already; refusing to overwrite it", file=target)
+    folder = target.parent if str(target.parent) else Path(".")
+    if not folder.is_dir():
+        raise SweepFileError(f"the folder {folder} does not exist", file=target)
+    if not os.access(folder, os.W_OK):
+        raise SweepFileError(f"the folder {folder} is read-only (no permission to write)",
+                             file=target)
+    return target
+
+
+def _write_problem(exc: BaseException | None, folder: Path) -> str:
+    """Why a write failed, in a few words (never a library's own text)."""
+    if isinstance(exc, OSError) and exc.errno is not None:
+        return path_problem(exc)
+    try:
+        if os.statvfs(folder).f_bavail == 0:
+            return "the disk is full"
+    except (OSError, AttributeError):
+        pass
+    return "the file could not be written"
+
+
 def write_atomic(path: str | os.PathLike, write: Callable[[str], object], *,
                  overwrite: bool = False, suffix: str = ".part") -> Path:
     """Write a file through a temporary file in the same folder, then rename it into place.
@@ -42,28 +76,43 @@ def write_atomic(path: str | os.PathLike, write: Callable[[str], object], *,
     -------
     Path
         The path written.
+
+    Notes
+    -----
+    Whatever happens — a full disk, a read-only folder, an exception, SIGINT, or SIGTERM
+    once the command line has turned it into an exception — the temporary file is removed
+    and the destination keeps its old content or gets the complete new one. Errors name
+    the destination, never the temporary file.
     """
-    target = Path(path)
-    if target.exists() and not overwrite:
-        raise SweepFileError("the file exists already; refusing to overwrite it", file=target)
+    target = check_output(path, overwrite=overwrite)
     folder = target.parent if str(target.parent) else Path(".")
-    if not folder.is_dir():
-        raise SweepFileError(f"the folder {folder} does not exist", file=target)
-    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=suffix, dir=folder)
-    os.close(fd)
+    tmp = None
     try:
-        # mkstemp makes the file private (0600) and os.replace keeps that mode; give the
-        # result the mode of the file it replaces, or the usual mode for a new file.
-        os.chmod(tmp, _mode_for(target))
-        if write(tmp) is False:
-            raise SweepFileError("the file could not be written", file=target)
-        os.replace(tmp, target)
-    except BaseException:
         try:
-            os.unlink(tmp)
-        except OSError:
-            pass
-        raise
+            fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=suffix, dir=folder)
+            os.close(fd)
+            # mkstemp makes the file private (0600) and os.replace keeps that mode; give the
+            # result the mode of the file it replaces, or the usual mode for a new file.
+            os.chmod(tmp, _mode_for(target))
+            ok = write(tmp) is not False
+        except OSError as exc:
+            raise SweepFileError(f"cannot write the file: {_write_problem(exc, folder)}",
+                                 file=target) from None
+        if not ok:
+            raise SweepFileError(f"cannot write the file: {_write_problem(None, folder)}",
+                                 file=target)
+        try:
+            os.replace(tmp, target)
+        except OSError as exc:
+            raise SweepFileError(f"cannot write the file: {_write_problem(exc, folder)}",
+                                 file=target) from None
+        tmp = None
+    finally:
+        if tmp is not None:
+            try:
+                os.unlink(tmp)
+            except OSError:
+                pass
     return target
 
 
