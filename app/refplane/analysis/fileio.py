@@ -264,24 +264,21 @@ def read_json(path: str | os.PathLike, what: str):
         raise SweepFileError(f"not valid JSON: {exc.msg}", file=fname, line=exc.lineno) from None
     except RecursionError:
         raise SweepFileError("the JSON is nested too deeply", file=fname) from None
-    except _JsonValueError as exc:
-        raise SweepFileError(str(exc), file=fname) from None
-
-
-class _JsonValueError(ValueError):
-    pass
 
 
 def _json_int(text: str):
-    # A whole number with hundreds of digits is no measurement; Python would also refuse
-    # to convert one of more than 4300 digits with its own, unhelpful, message.
+    # A whole number with hundreds of digits is no measurement, and Python refuses to convert
+    # one of more than 4300 digits with its own, unhelpful, message: it becomes ∞ here, and
+    # the file's schema names the key that holds it.
     if len(text.lstrip("-")) > 30:
-        raise _JsonValueError(f"a whole number of {len(text):,} digits is not a usable value")
+        return float("-inf") if text.startswith("-") else float("inf")
     return int(text)
 
 
 def _json_constant(text: str):
-    raise _JsonValueError(f"{text} is not a finite number")
+    # NaN and Infinity are not JSON; read them as the numbers they spell so that the schema
+    # check names their key ("must be a finite number").
+    return {"NaN": float("nan"), "Infinity": float("inf"), "-Infinity": float("-inf")}[text]
 
 
 # --------------------------------------------------------------------------------------

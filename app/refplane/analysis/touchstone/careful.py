@@ -8,6 +8,7 @@ and reason, or to read the rare legal irregularity (a 1.x noise block, a 2.0 fil
 from __future__ import annotations
 
 import math
+import re
 from typing import Iterator
 
 import numpy as np
@@ -25,8 +26,8 @@ def _lines(src: Source) -> Iterator[tuple[int, str]]:
         try:
             raw = src.readline()
         except LineTooLong:
-            raise SweepFileError(f"line {number + 1} is longer than {MAX_LINE >> 20} MiB; this "
-                                 "is not a Touchstone file", file=src.name) from None
+            raise SweepFileError(f"the line is longer than {MAX_LINE >> 20} MiB; this is not a "
+                                 "Touchstone file", file=src.name, line=number + 1) from None
         if not raw:
             return
         number += 1
@@ -193,7 +194,13 @@ def _careful(src: Source, name: str, ext_ports: int | None):
     return head, freq_hz, s
 
 
+_CONTROL = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f]")
+
+
 def _parse_numbers(text: str, number: int, head: Header) -> list[float]:
+    control = _CONTROL.search(text)
+    if control:
+        raise head.error(f"a control character ({control.group()!r}) among the numbers", number)
     out = []
     for tok in text.split():
         if not tok.isascii() or not NUMBER.fullmatch(tok.encode("ascii")):
