@@ -105,6 +105,11 @@ def _output_paths(duts, sweeps, output: str) -> list[Path]:
     return paths
 
 
+def _several(args, paths) -> bool:
+    """Whether -o names a folder of outputs (made if missing) rather than one file."""
+    return len(paths) > 1 or Path(args.output).is_dir() or args.output.endswith(("/", os.sep))
+
+
 def _check_can_make(folder: Path) -> None:
     """The nearest existing folder above ``folder`` must be writable (it will be made)."""
     from refplane.analysis.errors import AnalysisError
@@ -160,10 +165,10 @@ def run(args: argparse.Namespace) -> int:
             return _fail(f"the output {p} is one of the inputs; refusing to overwrite it")
         if p.exists() and not args.force:
             return _fail(f"{p} exists already; use --force to replace it")
-        if p.parent.is_dir():
-            check_output(p, overwrite=True)  # writable? checked before any work, not after
+        if _several(args, paths):
+            _check_can_make(p.parent)  # the output folder is made if need be
         else:
-            _check_can_make(p.parent)
+            check_output(p, overwrite=True)  # writable? checked before any work, not after
 
     if args.cal:
         from refplane.analysis.calfile import load_calibration
@@ -185,8 +190,7 @@ def run(args: argparse.Namespace) -> int:
         save_calibration(cal, args.save_cal, overwrite=args.force)
         print(f"saved error terms: {args.save_cal}")
     if paths:
-        multi = len(paths) > 1 or Path(args.output).is_dir() or args.output.endswith(("/", os.sep))
-        if multi:
+        if _several(args, paths):
             try:
                 Path(args.output).mkdir(parents=True, exist_ok=True)
             except OSError as exc:
