@@ -115,6 +115,8 @@ def _careful(src: Source, name: str, ext_ports: int | None):
                 noise_from = number
                 continue
             if key == "end":
+                if stripped[close + 1:].strip():
+                    raise head.error("text after [End]; [End] must be the last line", number)
                 end_line = number
                 ended = True
                 continue

@@ -59,6 +59,7 @@ class Header:
     keyword_values: dict = field(default_factory=dict)
     port_impedance_line: int | None = None
     missing_end: bool = False
+    data_line: int | None = None
 
     # -- helpers -------------------------------------------------------------------------
     def error(self, reason: str, line: int | None) -> SweepFileError:
@@ -159,7 +160,7 @@ class Header:
         if name == "version":
             if self.version == 2:
                 raise self.error("[Version] is given twice", line)
-            if self.keyword_seen or self.option_line is not None:
+            if self.keyword_seen or self.data_line is not None or self.option_line is not None:
                 raise self.error("[Version] must come before every other keyword and the "
                                  "option line", line)
             self.keyword_seen = True
@@ -258,6 +259,7 @@ class Header:
 
     def start_data(self, line: int) -> None:
         """Checks made when the numbers begin."""
+        self.data_line = line
         if self.version == 1:
             if self.ext_ports is None:
                 raise self.error(

@@ -173,9 +173,19 @@ def _layout(template: bytes) -> _Layout | None:
 
 def _mantissa(digits: np.ndarray) -> np.ndarray:
     """The integer each run of decimal digits spells (last axis: digits, most significant
-    first; at most 19 of them, so the result is exact in uint64)."""
-    m = digits[..., 0].astype(np.uint64)
-    for j in range(1, digits.shape[-1]):
+    first; at most 19 of them, so the result is exact in uint64).
+
+    The first 15 digits are joined in float64 (exact: below 2**53), where multiply-add is
+    vectorised; 64-bit integer multiplication is not, so only the last few digits use it.
+    """
+    nd = digits.shape[-1]
+    head = min(nd, 15)
+    m = digits[..., 0].astype(np.float64)
+    for j in range(1, head):
+        m *= 10.0
+        m += digits[..., j]
+    m = m.astype(np.uint64)
+    for j in range(head, nd):
         m *= np.uint64(10)
         m += digits[..., j]
     return m
