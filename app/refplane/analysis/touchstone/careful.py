@@ -17,21 +17,60 @@ from refplane.analysis.errors import SweepFileError, show_token
 from refplane.analysis.touchstone.convert import bad_point, to_s
 from refplane.analysis.touchstone.header import (
     FREQ_UNITS, MAX_LINE, NUMBER, UNIT_NAMES, Header, decode_line, header_line, split_comment)
+from refplane.analysis.touchstone.numbers import any_width, fixed_width
 from refplane.analysis.touchstone.source import LineTooLong, Source
 
 
 def _lines(src: Source) -> Iterator[tuple[int, str]]:
-    number = 0
     while True:
         try:
             raw = src.readline()
         except LineTooLong:
-            raise SweepFileError(f"the line is longer than {MAX_LINE >> 20} MiB; this is not a "
-                                 "Touchstone file", file=src.name, line=number + 1) from None
+            raise _too_long(src) from None
         if not raw:
             return
-        number += 1
+        number = src.lines_before
         yield number, decode_line(raw, src.name, number)
+
+
+def _too_long(src: Source) -> SweepFileError:
+    return SweepFileError(f"the line is longer than {MAX_LINE >> 20} MiB; this is not a "
+                          "Touchstone file", file=src.name, line=src.lines_before + 1)
+
+
+def _bulk(block: bytes, per_point: int, freq_scale: float, last_freq: float):
+    """A block of plain one-line points read in bulk, or None to read it line by line.
+
+    The careful pass uses this between the unusual lines it must look at one by one, so
+    that one odd line in a big file does not send millions of lines through Python.
+    Returns (values, last frequency in Hz, lines in the block).
+    """
+    if b"!" in block or b"#" in block or b"[" in block:
+        return None
+    values = fixed_width(block)
+    if values is not None:
+        lines = len(block) // (block.find(b"\n") + 1)
+        if values.size != lines * per_point:
+            return None
+    else:
+        found = any_width(block)
+        if found is None:
+            return None
+        values, first = found
+        lines = block.count(b"\n") + (0 if block.endswith(b"\n") else 1)
+        # Every line exactly one point: as many line starts as lines, each a point's start.
+        if values.size != lines * per_point or int(first.sum()) != lines \
+                or not first[::per_point].all():
+            return None
+    values = values.reshape(-1, per_point)
+    if not np.isfinite(values).all():
+        return None
+    with np.errstate(over="ignore"):
+        freq = values[:, 0] * freq_scale
+    if not (np.isfinite(freq).all() and freq[0] > last_freq and freq[0] >= 0
+            and np.all(freq[1:] > freq[:-1])):
+        return None
+    return values, float(freq[-1]), lines
 
 
 def careful(name: str, ext_ports: int | None):
@@ -83,9 +122,60 @@ def _careful(src: Source, name: str, ext_ports: int | None):
     end_line: int | None = None
     ended = False
 
+    chunks: list[np.ndarray] = []  # points read so far, as (points × numbers) arrays
+    chunk_starts: list[np.ndarray] = []  # the line of each of those points
+
+    def flush() -> None:
+        nonlocal rows, starts
+        if rows:
+            chunks.append(np.asarray(rows, dtype=np.float64))
+            chunk_starts.append(np.asarray(starts))
+            rows, starts = [], []
+
     def body() -> Iterator[tuple[int, str]]:
+        """The lines to look at one by one; plain stretches of one-line points between them
+        are read in bulk (exactly as the bulk pass would) and never yielded."""
+        nonlocal last_freq
         yield first
-        yield from lines
+        while True:
+            if n <= 2 and not current and noise_from is None and not ended:
+                start = src.lines_before + 1
+                try:
+                    block = src.block()
+                except LineTooLong:
+                    raise _too_long(src) from None
+                if not block:
+                    return
+                # Halve a block that cannot be read in bulk until the odd line sits in a
+                # piece of a few dozen lines; only those are read one by one.
+                pending = [(start, block)]
+                while pending:
+                    start, piece = pending.pop()
+                    clean = not current and noise_from is None and not ended
+                    if clean:
+                        got = _bulk(piece, per_point, freq_scale, last_freq)
+                        if got is not None:
+                            values, last_freq, count = got
+                            flush()
+                            chunks.append(values)
+                            chunk_starts.append(np.arange(start, start + count))
+                            continue
+                        cut = piece.find(b"\n", len(piece) // 2) + 1
+                        if piece.count(b"\n", 0, cut) > 32 and 0 < cut < len(piece):
+                            head_part, tail_part = piece[:cut], piece[cut:]
+                            pending.append((start + head_part.count(b"\n"), tail_part))
+                            pending.append((start, head_part))
+                            continue
+                    parts = piece.split(b"\n")
+                    if piece.endswith(b"\n"):
+                        parts.pop()
+                    for i, raw in enumerate(parts):
+                        yield start + i, decode_line(raw, name, start + i)
+            else:
+                try:
+                    yield next(lines)
+                except StopIteration:
+                    return
 
     for number, text in body():
         last_line = number
@@ -136,7 +226,7 @@ def _careful(src: Source, name: str, ext_ports: int | None):
             freq = values[0] * freq_scale
             # A 1.x two-port file may end with a noise block: its first frequency is not
             # above the last network frequency and its rows hold 5 numbers.
-            if (head.version == 1 and n == 2 and rows and len(values) == 5
+            if (head.version == 1 and n == 2 and (rows or chunks) and len(values) == 5
                     and freq <= last_freq):
                 noise_from = number
                 noise_last = _noise_row(stripped, number, head, noise_last)
@@ -165,6 +255,8 @@ def _careful(src: Source, name: str, ext_ports: int | None):
             raise head.error(_count_reason(head, what, per_point, len(current), n), current_start)
     if current:
         raise _short_point(head, what, per_point, current, current_start, None)
+    flush()
+    total = sum(len(c) for c in chunks)
     if head.version == 2:
         if end_line is None:
             head.missing_end = True  # otherwise complete: read, with a warning
@@ -172,27 +264,29 @@ def _careful(src: Source, name: str, ext_ports: int | None):
             raise head.error(
                 f"[Number of Noise Frequencies] says {head.n_noise}, but [Noise Data] holds "
                 f"{noise_rows} row(s)", noise_from)
-        if len(rows) != head.n_freq:
+        if total != head.n_freq:
             raise head.error(
                 f"[Number of Frequencies] says {head.n_freq}, but [Network Data] holds "
-                f"{len(rows)} frequency point(s)", head.n_freq_line)
-    if not rows:
+                f"{total} frequency point(s)", head.n_freq_line)
+    if not total:
         raise head.error("the file holds no frequency points", None)
-    values = np.asarray(rows, dtype=np.float64)
+    values = chunks[0] if len(chunks) == 1 else np.concatenate(chunks)
+    del chunks
+    starts = chunk_starts[0] if len(chunk_starts) == 1 else np.concatenate(chunk_starts)
     with np.errstate(over="ignore"):
         freq_hz = values[:, 0] * freq_scale
     if not np.all(np.isfinite(freq_hz)):
         k = int(np.argmax(~np.isfinite(freq_hz)))
         raise head.error(f"the frequency {values[k, 0]:g} {UNIT_NAMES[head.unit]} is too large",
-                         starts[k])
+                         int(starts[k]))
     if not np.all(np.diff(freq_hz) > 0):  # two text values can scale to one double
         k = int(np.argmax(~(np.diff(freq_hz) > 0))) + 1
-        raise head.error("frequencies must increase strictly", starts[k])
+        raise head.error("frequencies must increase strictly", int(starts[k]))
     s = to_s(head, values)
     bad = bad_point(s)
     if bad is not None:
         raise head.error("this point's values are too large: the S-parameters overflow "
-                         "(is a dB value far too high?)", starts[bad])
+                         "(is a dB value far too high?)", int(starts[bad]))
     return head, freq_hz, s
 
 
