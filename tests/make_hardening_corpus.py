@@ -186,7 +186,7 @@ def large_cases(folder: pathlib.Path) -> list[tuple[pathlib.Path, dict]]:
     made = []
     path = folder / "huge_token.s1p"
     path.write_bytes(b"# GHz S RI R 50\n1 0.1 0.2\n" + b"7" * 2_000_000 + b" 0.1 0.2\n")
-    made.append((path, _error(3, "'777777777777…' (2,000,000 characters) is too large")))
+    made.append((path, _error(3, "'777777777777…' (2,000,000 characters) is too long to be a number")))
     path = folder / "long_line.s1p"
     with open(path, "wb") as handle:
         handle.write(b"# GHz S RI R 50\n")

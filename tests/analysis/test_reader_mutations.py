@@ -157,7 +157,8 @@ def reference_read(name: str, data: bytes):
         data = data[3:]
     m = re.search(r"\.s(\d+)p$", name, re.IGNORECASE)
     ext_ports = int(m.group(1)) if m else None
-    lines = re.split(rb"\r\n|\r|\n", data)
+    # Line ends: LF or CR LF; bare CR only in a file without any LF (old Macintosh text).
+    lines = re.split(rb"\r?\n", data) if b"\n" in data else data.split(b"\r")
     version, unit, param, fmt, r = 1, "ghz", "s", "ma", 50.0
     seen_option = False
     kw: dict[str, str] = {}
@@ -282,6 +283,8 @@ def reference_read(name: str, data: bytes):
             per_point = 1 + (ports * (ports + 1) if matrix != "full" else 2 * ports * ports)
         nums = []
         for tok in text.split():
+            if len(tok) > 100:
+                raise Refused("too long")
             if not (tok.isascii() and NUMBER.fullmatch(tok)):
                 raise Refused("not a number")
             v = float(tok)
@@ -296,7 +299,7 @@ def reference_read(name: str, data: bytes):
                 and nums[0] * UNITS[unit] <= last_f:
             noise = True
             continue
-        if any(ord(c) < 32 and c not in "\t" for c in text):
+        if any(ord(c) < 32 and c not in "\t\r" for c in text):
             raise Refused("control")
         if ports <= 2 and len(nums) != per_point:
             raise Refused("count")

@@ -136,7 +136,7 @@ def read(path: str | os.PathLike) -> Sweep:
                                  file=name, line=number)
         values = []
         for cell, col in zip(cells, header):
-            if not (cell.isascii() and _NUMBER.fullmatch(cell)):
+            if len(cell) > 100 or not (cell.isascii() and _NUMBER.fullmatch(cell)):
                 raise SweepFileError(f"{show_token(cell)} in column {show_token(col, 30)} is "
                                      "not a number", file=name, line=number)
             value = float(cell)

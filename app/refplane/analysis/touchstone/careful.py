@@ -290,6 +290,9 @@ def _careful(src: Source, name: str, ext_ports: int | None):
     return head, freq_hz, s
 
 
+#: Longest token taken as a number (a double needs at most 17 significant digits; allow
+#: generous zero padding and exponent).
+_LONGEST_NUMBER = 100
 _CONTROL = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f]")
 
 
@@ -299,6 +302,9 @@ def _parse_numbers(text: str, number: int, head: Header) -> list[float]:
         raise head.error(f"a control character ({control.group()!r}) among the numbers", number)
     out = []
     for tok in text.split():
+        if len(tok) > _LONGEST_NUMBER:
+            # Python's float() of thousands of digits takes time quadratic in their count.
+            raise head.error(f"{show_token(tok)} is too long to be a number", number)
         if not tok.isascii() or not NUMBER.fullmatch(tok.encode("ascii")):
             low = tok.lower()
             if low.lstrip("+-") in ("nan", "inf", "infinity"):
