@@ -184,6 +184,9 @@ def read(path: str | os.PathLike) -> Sweep:
     z0 = 50.0
     for c in comments:
         found = _Z0_COMMENT.search(c)
+        if found and len(found.group(1)) > 100:
+            raise SweepFileError("the reference impedance z0 in a comment is not a usable number",
+                                 file=name)
         if found:
             z0 = float(found.group(1))
             if not (math.isfinite(z0) and z0 > 0):

@@ -191,6 +191,8 @@ class Header:
             n = self._count(value, "[Number of Ports]", line)
             if n < 1:
                 raise self.error("[Number of Ports] must be at least 1", line)
+            if n > 999:
+                raise self.error(f"[Number of Ports] {n} is more than Refplane reads (999)", line)
             if self.ext_ports is not None and n != self.ext_ports:
                 raise self.error(
                     f"[Number of Ports] says {n}, but the file name (.s{self.ext_ports}p) says "
@@ -296,6 +298,10 @@ _ONCE = {"number of ports": "Number of Ports", "two-port data order": "Two-Port 
 
 
 def is_number(text: str) -> bool:
+    """True for a plain decimal number of at most 100 characters (Python's float() of
+    thousands of digits takes time quadratic in their count)."""
+    if len(text) > 100:
+        return False
     return bool(NUMBER.fullmatch(text.encode("ascii", "replace")))
 
 
@@ -358,6 +364,8 @@ def split_comment(text: str, head: Header, line: int | None) -> str:
 def _same_impedance(comment: str, head: Header) -> bool:
     """True when a ``Port Impedance re im …`` comment repeats the reference (harmless)."""
     words = comment.split()[2:]
+    if len(words) > 2000 or any(len(w) > 100 for w in words):
+        return False
     try:
         values = [float(w) for w in words]
     except ValueError:
