@@ -15,9 +15,9 @@ from refplane.analysis.errors import SweepFileError
 from refplane.analysis.fileio import MAX_INPUT_BYTES, open_input, path_problem, too_big
 from refplane.analysis.touchstone.header import MAX_LINE
 
-#: Bytes read at a time (4 MiB): large enough for numpy to work in bulk, small enough that
+#: Bytes read at a time (2 MiB): large enough for numpy to work in bulk, small enough that
 #: the text is never held whole.
-CHUNK = 1 << 22
+CHUNK = 1 << 21
 
 
 class LineTooLong(Exception):
