@@ -96,7 +96,9 @@ def _fast(src: Source, name: str, ext_ports: int | None):
     if n_points > 1 and not np.all(freq[1:] > freq[:-1]):
         return None
     s = to_s(head, values)
-    if bad_point(s) is not None:
+    # Finite RI and MA numbers give finite S; dB magnitudes and Y/Z/G/H conversions can
+    # overflow.
+    if (head.fmt == "db" or head.param != "s") and bad_point(s) is not None:
         return None
     return head, freq, s
 
@@ -115,12 +117,17 @@ def _numbers(body: bytes, parts: list, count: int, per_point: int, one_line: boo
             raise _Irregular
         values, first = found
     if values.size:
-        starts_point = (np.arange(count, count + values.size) % per_point) == 0
         if one_line:  # one- and two-port files: one point per line, exactly
-            if not np.array_equal(first, starts_point):
+            # Blocks hold whole lines, so here every block starts with a point.
+            if count % per_point or values.size % per_point:
                 raise _Irregular
-        elif not first[starts_point].all():
-            raise _Irregular
+            grid = first.reshape(-1, per_point)
+            if not grid[:, 0].all() or grid[:, 1:].any():
+                raise _Irregular
+        else:
+            offset = (-count) % per_point  # the first point that starts in this block
+            if not first[offset::per_point].all():
+                raise _Irregular
         parts.append(values)
     return count + values.size
 
