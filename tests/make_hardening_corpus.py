@@ -82,6 +82,9 @@ def cases() -> list[tuple[str, bytes, dict]]:
     add("huge_count.ts", V2_1PORT.replace("[Number of Frequencies] 2",
                                           "[Number of Frequencies] " + "9" * 5000),
         _error(4, "far too large"))
+    add("zero_padded_count.ts", V2_1PORT.replace("[Number of Frequencies] 2",
+                                                  "[Number of Frequencies] " + "0" * 4400 + "2")
+        + "[Network Data]\n1 0 0\n2 0 0\n[End]\n", _ok(n_points=2))
     add("huge_db.s1p", "# GHz S DB R 50\n1 99999 0\n", _error(2, "overflow"))
     add("huge_db_late.s2p", "# GHz S DB R 50\n" + "".join(
         f"{k} -1 0 -2 0 -3 0 -4 0\n" for k in range(1, 6)) + "6 -1 0 -2 0 99999 0 -4 0\n",
@@ -193,6 +196,18 @@ def large_cases(folder: pathlib.Path) -> list[tuple[pathlib.Path, dict]]:
         handle.write(b" " * (40 << 20))
         handle.write(b"\n1 0 0\n")
     made.append((path, _error(2, "longer than 8 MiB")))
+    return made
+
+
+def name_cases(folder: pathlib.Path) -> list[tuple[pathlib.Path, dict]]:
+    """Files whose names are the fault (made at test time: some file systems limit names)."""
+    folder = pathlib.Path(folder)
+    path = folder / ("a.s" + "0" * 200 + "2p")
+    path.write_text("# GHz S RI R 50\n" + ROW9)
+    made = [(path, _ok(n_points=1))]
+    path = folder / ("b.s" + "9" * 200 + "p")
+    path.write_text("# GHz S RI R 50\n1 0 0\n")
+    made.append((path, _error(None, "more ports than Refplane reads")))
     return made
 
 

@@ -211,6 +211,16 @@ def test_large_generated_cases(tmp_path):
         assert exc.line == expect["line"]
 
 
+def test_port_counts_in_absurd_file_names(tmp_path):
+    # .s0…02p is a two-port; .s99…9p (200 digits) is refused in one line, not by Python's
+    # integer-conversion limit.
+    for path, expect in _generator().name_cases(tmp_path):
+        if expect["expect"] == "ok":
+            assert read_sweep(path).n_ports == 2
+        else:
+            _refused_quickly(path, expect["contains"])
+
+
 def test_folder_missing_file_and_long_path(tmp_path):
     _refused_quickly(tmp_path, "folder")
     _refused_quickly(tmp_path / "absent.s1p", "no such file")

@@ -257,7 +257,7 @@ class Header:
         digits = value.lstrip("+0")
         if len(digits) > 12:
             raise self.error(f"{what} {show_token(value)} is far too large", line)
-        return int(value)
+        return int(digits or "0")  # not int(value): thousands of leading zeros are refused there
 
     def start_data(self, line: int) -> None:
         """Checks made when the numbers begin."""
@@ -289,6 +289,16 @@ class Header:
             raise self.error(
                 f"{self.param.upper()} (hybrid) parameters exist for two-ports only, but this "
                 f"is a {self.ports}-port file", self.option_line)
+
+
+def ports_in_name(name: str) -> int | None:
+    """The port count a ``.sNp`` file name gives, or None; 10**6 stands for an absurd N
+    (thousands of digits are not converted)."""
+    match = EXT.search(name)
+    if not match:
+        return None
+    digits = match.group(1).lstrip("0")
+    return int(digits or "0") if len(digits) <= 6 else 10 ** 6
 
 
 _ONCE = {"number of ports": "Number of Ports", "two-port data order": "Two-Port Data Order",

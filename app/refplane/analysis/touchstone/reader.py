@@ -10,7 +10,7 @@ from refplane.analysis.errors import AnalysisError, SweepFileError
 from refplane.analysis.sweep import Sweep
 from refplane.analysis.touchstone.careful import careful
 from refplane.analysis.touchstone.fast import fast
-from refplane.analysis.touchstone.header import EXT, TouchstoneWarning, warn_port_impedance
+from refplane.analysis.touchstone.header import TouchstoneWarning, ports_in_name, warn_port_impedance
 from refplane.analysis.touchstone.source import Source
 
 
@@ -52,12 +52,11 @@ def read(path: str | os.PathLike) -> Sweep:
         name = os.fspath(path)
     except TypeError:
         raise SweepFileError(f"not a file path: {path!r}") from None
-    match = EXT.search(name)
-    ext_ports = int(match.group(1)) if match else None
+    ext_ports = ports_in_name(name)
     if ext_ports == 0:
         raise SweepFileError("a .s0p file cannot hold network data (0 ports)", file=name)
     if ext_ports is not None and ext_ports > 999:
-        raise SweepFileError(f"a .s{ext_ports}p file has more ports than Refplane reads (999)",
+        raise SweepFileError("the file name gives more ports than Refplane reads (999)",
                              file=name)
     with Source(name) as src:
         result = fast(src, name, ext_ports)

@@ -10,7 +10,7 @@ import numpy as np
 
 from refplane.analysis.errors import SweepFileError
 from refplane.analysis.sweep import Sweep
-from refplane.analysis.touchstone.header import EXT, FORMATS, FREQ_UNITS, UNIT_NAMES
+from refplane.analysis.touchstone.header import FORMATS, FREQ_UNITS, UNIT_NAMES, ports_in_name
 
 #: Numbers per line the writer puts in a matrix row of three or more ports (1.x allows at most 4 pairs).
 _PAIRS_PER_LINE = 4
@@ -66,16 +66,16 @@ def write(sweep: Sweep, path: str | os.PathLike, *, fmt: str = "RI", freq_unit: 
     if np.any(z0.imag != 0):
         raise SweepFileError("Touchstone files hold real reference impedances only; this sweep "
                              "has a complex one", file=path)
-    match = EXT.search(os.fspath(path))
+    named = ports_in_name(os.fspath(path))
     if version == "1.1":
-        if not match or int(match.group(1)) != n:
+        if named != n:
             raise SweepFileError(f"a {n}-port Touchstone 1.1 file must be named .s{n}p",
                                  file=path)
         if np.any(z0.real != z0.real[0]):
             raise SweepFileError("Touchstone 1.1 holds one reference impedance for all ports; "
                                  "this sweep's differ, so write version 2.0", file=path)
-    elif match and int(match.group(1)) != n:
-        raise SweepFileError(f"a {n}-port file cannot be named .s{match.group(1)}p", file=path)
+    elif named is not None and named != n:
+        raise SweepFileError(f"a {n}-port file cannot be named .s{named}p", file=path)
 
     lines: list[str] = []
     for text in comments:
