@@ -104,7 +104,11 @@ def offset_from_args(args: argparse.Namespace):
     if line_z0 is not None:
         kw["line_z0_ohm"] = line_z0
     if length is not None:
-        return LineOffset.from_length(length, vf, **kw)
+        try:
+            return LineOffset.from_length(length, vf, **kw)
+        except AnalysisError as exc:  # name the options the user gave, not the derived delay
+            raise AnalysisError(f"--length {length:g} m with --vf {vf:g} gives no usable line "
+                                f"({exc.reason})") from None
     return LineOffset(delay_s=delay or 0.0, **kw)
 
 
