@@ -47,3 +47,18 @@ def pytest_collection_modifyitems(config, items):
     for item in items:
         if "needs_qt" in item.keywords:
             item.add_marker(skip)
+
+
+# Hypothesis profiles: a modest default for every run, and "long" on demand for the
+# mutation test of the readers (``pytest --hypothesis-profile=long``: at least 20,000 inputs).
+try:
+    from hypothesis import HealthCheck, settings
+except ImportError:  # pragma: no cover - hypothesis is a test dependency
+    pass
+else:
+    settings.register_profile("default", max_examples=150, deadline=None,
+                              suppress_health_check=[HealthCheck.too_slow])
+    settings.register_profile("long", max_examples=25_000, deadline=None,
+                              suppress_health_check=[HealthCheck.too_slow,
+                                                     HealthCheck.filter_too_much])
+    settings.load_profile(os.environ.get("REFPLANE_HYPOTHESIS_PROFILE", "default"))

@@ -155,6 +155,24 @@ def test_short_limit():
     assert math.isnan(r.series_l_h) and math.isnan(r.series_c_f)
 
 
+def test_active_load_has_no_vswr_or_mismatch_loss():
+    # Pozar ch. 2: VSWR = (1 + |Γ|)/(1 − |Γ|) and mismatch loss −10·log10(1 − |Γ|²) describe
+    # a passive load (|Γ| ≤ 1); for |Γ| > 1 (an active or mis-calibrated load) the formulas give
+    # a negative ratio and the log of a negative number. Return loss −20·log10|Γ| stays defined
+    # (negative). Issue 13: NaN in the analysis, "n/a (|Γ| > 1)" in the table, null in JSON.
+    from refplane.session.present import NOT_DEFINED_ACTIVE as NOT_PASSIVE, readout_cells, summary_line
+
+    r = readout(1e9, 1.25 + 0j, 50.0)
+    assert math.isnan(r.vswr) and math.isnan(r.mismatch_loss_db)
+    assert r.return_loss_db == pytest.approx(-20 * math.log10(1.25), rel=1e-14)
+    assert readout_cells(r)["VSWR"] == NOT_PASSIVE == "n/a (|Γ| > 1)"
+    assert NOT_PASSIVE in summary_line(r)
+    assert r.json_point()["vswr"] is None
+    assert "−1.94 dB" in readout_cells(r)["Return loss"]  # −20·log10(1.25) = −1.938 dB
+    # Just inside the rim VSWR is still a (large) number.
+    assert readout(1e9, 0.999, 50.0).vswr == pytest.approx(1999.0, rel=1e-9)
+
+
 def test_matched_limit():
     # Pozar: a matched load (Γ = 0) has VSWR 1, infinite return loss and no mismatch loss.
     r = readout(1e6, 0.0, 50.0)
@@ -326,7 +344,8 @@ def _compare_with_skrf(net, port_index):
     with np.errstate(all="ignore"):
         skrf_z, skrf_y = sub.z[:, 0, 0], sub.y[:, 0, 0]
         skrf_vswr, skrf_db = net.s_vswr[:, port_index, port_index], net.s_db[:, port_index, port_index]
-    # skrf's s_vswr is negative for |S| > 1; Refplane reports ∞ there (documented), so compare inside.
+    # skrf's s_vswr is negative for |S| > 1, where VSWR is not defined: Refplane gives NaN
+    # there ("n/a (|Γ| > 1)" in tables, null in JSON; issue 13) and ∞ at |Γ| = 1 exactly.
     inside = np.abs(g) < 1 - 1e-9
     # Ideal shorts and delay-shorts sit on the rim (|Γ| = 1): Z and Y still compare away from Γ = ±1.
     away_from_open = np.abs(g - 1) > 1e-6
@@ -336,7 +355,8 @@ def _compare_with_skrf(net, port_index):
     np.testing.assert_allclose(gamma_to_y(g[away_from_short], z0), skrf_y[away_from_short],
                                rtol=1e-9, atol=1e-12)
     np.testing.assert_allclose(vswr(g[inside]), skrf_vswr[inside], rtol=1e-9)
-    assert np.all(np.isinf(vswr(g[np.abs(g) >= 1])))
+    assert np.all(np.isinf(vswr(g[np.abs(g) == 1])))
+    assert np.all(np.isnan(vswr(g[np.abs(g) > 1])))
     nonzero = np.abs(g) > 0
     np.testing.assert_allclose(return_loss_db(g[nonzero]), -skrf_db[nonzero], rtol=1e-12, atol=1e-12)
 

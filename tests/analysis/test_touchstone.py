@@ -230,13 +230,17 @@ def test_version_1_noise_block_is_skipped(tmp_path):
 
 
 def test_only_the_first_option_line_counts(tmp_path):
-    # Source: Touchstone specification — later option lines are ignored.
+    # Source: Touchstone specification — only the first option line counts; one written
+    # after the data has begun is refused at its own line (issue 13).
     path = tmp_path / "o.s1p"
-    path.write_text("# MHz S RI R 50\n100 0.1 0.2\n# GHz S MA R 75\n200 0.3 0.4\n")
+    path.write_text("# MHz S RI R 50\n# GHz S MA R 75\n100 0.1 0.2\n200 0.3 0.4\n")
     sweep = touchstone.read(path)
     np.testing.assert_array_equal(sweep.freq_hz, [100e6, 200e6])
     np.testing.assert_array_equal(sweep.s[:, 0, 0], [0.1 + 0.2j, 0.3 + 0.4j])
     assert sweep.z0_ohm[0] == 50
+    path.write_text("# MHz S RI R 50\n100 0.1 0.2\n# GHz S MA R 75\n200 0.3 0.4\n")
+    with pytest.raises(SweepFileError, match=r"line 3: an option line \(#\) after the data"):
+        touchstone.read(path)
 
 
 def test_defaults_without_option_tokens(tmp_path):

@@ -28,13 +28,48 @@ import numpy as np
 
 from refplane.analysis.calibration import Calibration, OnePortTerms, TransmissionTerms
 from refplane.analysis.errors import SweepFileError
-from refplane.analysis.fileio import read_json
+from refplane.analysis.fileio import Const, ListOf, Number, Obj, Text, read_json, validate
 
 FORMAT = "refplane-calibration"
 VERSION = 1
 _PORT1 = ("directivity", "source_match", "reflection_tracking")
 _TRANS = {"transmission_tracking": "transmission_tracking", "isolation": "isolation",
           "load_match_port2": "load_match"}
+
+
+def schema(n_points: int | None = None) -> Obj:
+    """The calibration file's layout, declared once; ``n_points`` (the length of freq_hz)
+    fixes the length of every per-frequency list."""
+    finite = Number()
+
+    def per_freq(item, what):
+        return ListOf(item, length=n_points, what=what)
+
+    term = Obj({"re": per_freq(finite, "real values, one per frequency"),
+                "im": per_freq(finite, "imaginary values, one per frequency")},
+               required=("re", "im"))
+    lines = ListOf(Text())
+    return Obj({
+        "format": Const(FORMAT, f"must be {FORMAT!r}, not {{}}: this is not a calibration file"),
+        "version": Const(VERSION, f"calibration file version {{}} is not supported (this "
+                         f"Refplane reads version {VERSION})"),
+        "reference_z0_ohm": Number(above=0),
+        "freq_hz": ListOf(Number(minimum=0), nonempty=True, increasing=True),
+        "terms": Obj({k: term for k in (*_PORT1, *_TRANS)}, required=_PORT1),
+        "residual": per_freq(Number(minimum=0), "values, one per frequency"),
+        "quality": Text(choices=("good", "fair", "poor")),
+        "verdict": Text(),
+        "warnings": lines, "description": lines, "checks": lines,
+        # The propagated uncertainty, checked in full by uncertainty.calprop.from_json.
+        "uncertainty": Obj(values=_Anything()),
+    }, required=("format", "version", "reference_z0_ohm", "freq_hz", "terms"))
+
+
+class _Anything:
+    """A value checked later by the code that reads it (keeps the key known to the schema)."""
+
+    def check(self, value, path):
+        return value
 
 
 def _pack(values: np.ndarray) -> dict[str, list[float]]:
@@ -84,68 +119,45 @@ def save_calibration(cal: Calibration, path: str | os.PathLike, *, overwrite: bo
     return write_text_atomic(path, json.dumps(obj, allow_nan=False) + "\n", overwrite=overwrite)
 
 
-def _unpack(obj, key: str, n: int, fname: str) -> np.ndarray:
-    entry = obj.get(key)
-    if not isinstance(entry, dict) or set(entry) != {"re", "im"}:
-        raise SweepFileError(f"term {key!r} must be an object with 're' and 'im' lists", file=fname)
-    try:
-        re = np.asarray(entry["re"], dtype=np.float64)
-        im = np.asarray(entry["im"], dtype=np.float64)
-    except (TypeError, ValueError):
-        raise SweepFileError(f"term {key!r} holds something other than numbers", file=fname) from None
+def _unpack(terms: dict, key: str, n: int, fname: str) -> np.ndarray:
+    entry = terms[key]
+    re = np.asarray(entry["re"], dtype=np.float64)
+    im = np.asarray(entry["im"], dtype=np.float64)
     if re.shape != (n,) or im.shape != (n,):
-        raise SweepFileError(f"term {key!r} needs {n} real and {n} imaginary values, one per frequency",
-                             file=fname)
-    if not (np.all(np.isfinite(re)) and np.all(np.isfinite(im))):
-        raise SweepFileError(f"term {key!r} has non-finite values", file=fname)
+        raise SweepFileError(f"terms.{key}: needs {n} real and {n} imaginary values, one per "
+                             "frequency", file=fname)
     return re + 1j * im
 
 
 def calibration_from_json(obj, *, file: str | os.PathLike | None = None) -> Calibration:
-    """Build a :class:`Calibration` from the parsed JSON of a calibration file."""
+    """Build a :class:`Calibration` from the parsed JSON of a calibration file.
+
+    The document is first checked against :func:`schema`; every fault is one line naming
+    the file, the key path and the reason.
+    """
     fname = os.fspath(file) if file is not None else "calibration"
-    if not isinstance(obj, dict) or obj.get("format") != FORMAT:
+    if isinstance(obj, dict) and "format" in obj and obj.get("format") != FORMAT:
         raise SweepFileError(f"not a calibration file: 'format' must be {FORMAT!r}", file=fname)
-    if obj.get("version") != VERSION:
-        raise SweepFileError(f"calibration file version {obj.get('version')!r} is not supported "
-                             f"(this Refplane reads version {VERSION})", file=fname)
-    try:
-        freq = np.asarray(obj.get("freq_hz"), dtype=np.float64)
-    except (TypeError, ValueError):
-        raise SweepFileError("'freq_hz' must be a list of numbers", file=fname) from None
-    if freq.ndim != 1 or freq.size == 0 or not np.all(np.isfinite(freq)) or np.any(np.diff(freq) <= 0):
-        raise SweepFileError("'freq_hz' must be a non-empty list of increasing frequencies", file=fname)
-    z0 = obj.get("reference_z0_ohm")
-    if not isinstance(z0, (int, float)) or isinstance(z0, bool) or not (math.isfinite(z0) and z0 > 0):
-        raise SweepFileError("'reference_z0_ohm' must be a positive number", file=fname)
-    terms = obj.get("terms")
-    if not isinstance(terms, dict):
-        raise SweepFileError("'terms' is missing", file=fname)
-    unknown = sorted(set(terms) - set(_PORT1) - set(_TRANS))
-    if unknown:
-        raise SweepFileError(f"unknown error term(s): {', '.join(unknown)}", file=fname)
+    freq_list = obj.get("freq_hz") if isinstance(obj, dict) else None
+    obj = validate(obj, schema(len(freq_list) if isinstance(freq_list, list) else None), fname)
+    freq = np.asarray(obj["freq_hz"], dtype=np.float64)
+    z0 = obj["reference_z0_ohm"]
+    terms = obj["terms"]
     n = freq.size
     port1 = OnePortTerms(freq, *(_unpack(terms, k, n, fname) for k in _PORT1))
     present = [k for k in _TRANS if k in terms]
     trans = None
     if present:
         if len(present) != len(_TRANS):
-            raise SweepFileError(f"transmission terms need all of {', '.join(_TRANS)}", file=fname)
+            raise SweepFileError(f"terms: transmission terms need all of {', '.join(_TRANS)}",
+                                 file=fname)
         trans = TransmissionTerms(*(_unpack(terms, k, n, fname) for k in _TRANS))
-    residual = np.asarray(obj.get("residual", np.zeros(n)), dtype=float)
+    residual = np.asarray(obj.get("residual", [0.0] * n), dtype=float)
     if residual.shape != (n,):
-        raise SweepFileError("'residual' needs one value per frequency", file=fname)
-
-    def strings(key: str) -> tuple[str, ...]:
-        value = obj.get(key, [])
-        if not isinstance(value, list) or not all(isinstance(v, str) for v in value):
-            raise SweepFileError(f"'{key}' must be a list of text lines", file=fname)
-        return tuple(value)
-
+        raise SweepFileError(f"residual: needs one value per frequency ({n})", file=fname)
     quality = obj.get("quality", "good")
-    if quality not in ("good", "fair", "poor"):
-        raise SweepFileError("'quality' must be good, fair or poor", file=fname)
-    description = strings("description") + tuple(f"check result: {c}" for c in strings("checks"))
+    description = tuple(obj.get("description", ())) + tuple(
+        f"check result: {c}" for c in obj.get("checks", ()))
     if file is not None:
         description = (f"calibration file: {fname}",) + description
     uncertainty = None
@@ -153,8 +165,8 @@ def calibration_from_json(obj, *, file: str | os.PathLike | None = None) -> Cali
         from refplane.analysis.uncertainty.calprop import from_json
 
         uncertainty = from_json(obj["uncertainty"], freq, file=fname)
-    return Calibration(freq, float(z0), port1, trans, residual, strings("warnings"), quality,
-                       str(obj.get("verdict", "")), description, uncertainty=uncertainty)
+    return Calibration(freq, float(z0), port1, trans, residual, tuple(obj.get("warnings", ())),
+                       quality, str(obj.get("verdict", "")), description, uncertainty=uncertainty)
 
 
 def load_calibration(path: str | os.PathLike) -> Calibration:

@@ -28,7 +28,7 @@ from pathlib import Path
 
 import numpy as np
 
-from refplane.analysis.errors import SweepFileError
+from refplane.analysis.errors import SweepFileError, show_token
 from refplane.analysis.sweep import Sweep
 
 _UNITS = {"hz": 1.0, "khz": 1e3, "mhz": 1e6, "ghz": 1e9, "thz": 1e12}
@@ -94,15 +94,10 @@ def read(path: str | os.PathLike) -> Sweep:
     SweepFileError
         With the file, line and reason when the file cannot be understood.
     """
+    from refplane.analysis.fileio import read_limited
+
     name = os.fspath(path)
-    try:
-        raw = Path(name).read_bytes()
-    except FileNotFoundError:
-        raise SweepFileError("no such file", file=name) from None
-    except IsADirectoryError:
-        raise SweepFileError("this is a folder, not a CSV file", file=name) from None
-    except OSError as exc:
-        raise SweepFileError(f"cannot read the file ({exc.strerror or exc})", file=name) from None
+    raw = read_limited(name, "a CSV file")
     if not raw.strip():
         raise SweepFileError("the file is empty", file=name)
     if b"\x00" in raw:
@@ -111,10 +106,10 @@ def read(path: str | os.PathLike) -> Sweep:
                              file=name, line=line)
     try:
         text = raw.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        line = raw.count(b"\n", 0, exc.start) + 1
-        raise SweepFileError(f"byte 0x{raw[exc.start]:02x} is not text (UTF-8); is this a "
-                             "binary file?", file=name, line=line) from None
+    except UnicodeDecodeError:
+        # Comments and column names saved by instruments are often Windows-1252 ("°C");
+        # numbers are ASCII and are checked cell by cell.
+        text = raw.decode("cp1252", errors="strict") if _cp1252_ok(raw) else raw.decode("latin-1")
 
     comments: list[str] = []
     header: list[str] | None = None
@@ -141,13 +136,13 @@ def read(path: str | os.PathLike) -> Sweep:
                                  file=name, line=number)
         values = []
         for cell, col in zip(cells, header):
-            if not _NUMBER.fullmatch(cell):
-                raise SweepFileError(f"{cell!r} in column {col!r} is not a number",
-                                     file=name, line=number)
+            if len(cell) > 100 or not (cell.isascii() and _NUMBER.fullmatch(cell)):
+                raise SweepFileError(f"{show_token(cell)} in column {show_token(col, 30)} is "
+                                     "not a number", file=name, line=number)
             value = float(cell)
             if not math.isfinite(value):
-                raise SweepFileError(f"{cell!r} in column {col!r} is not a finite number",
-                                     file=name, line=number)
+                raise SweepFileError(f"{show_token(cell)} in column {show_token(col, 30)} is "
+                                     "too large to be a finite number", file=name, line=number)
             values.append(value)
         rows.append(values)
         row_lines.append(number)
@@ -160,7 +155,12 @@ def read(path: str | os.PathLike) -> Sweep:
     layout = _layout(header, name, header_line)
     table = np.asarray(rows, dtype=np.float64)
     freq_col, scale = layout["freq"]
-    freq_hz = table[:, freq_col] * scale
+    with np.errstate(over="ignore"):
+        freq_hz = table[:, freq_col] * scale
+    if not np.isfinite(freq_hz).all():
+        k = int(np.argmin(np.isfinite(freq_hz)))
+        raise SweepFileError(f"the frequency {table[k, freq_col]:g} is too large", file=name,
+                             line=row_lines[k])
     for k in range(1, freq_hz.size):
         if not freq_hz[k] > freq_hz[k - 1]:
             raise SweepFileError(
@@ -173,11 +173,20 @@ def read(path: str | os.PathLike) -> Sweep:
     params = layout["params"]
     n = 2 if len(params) == 4 else 1
     s = np.empty((freq_hz.size, n, n), dtype=np.complex128)
-    for (i, j), cols in params.items():
-        s[:, i, j] = _complex(table, cols)
+    with np.errstate(over="ignore", invalid="ignore"):
+        for (i, j), cols in params.items():
+            s[:, i, j] = _complex(table, cols)
+    finite = np.isfinite(s.view(np.float64).reshape(s.shape[0], -1)).all(axis=1)
+    if not finite.all():
+        k = int(np.argmin(finite))
+        raise SweepFileError("this row's values are too large: the S-parameters overflow (is a "
+                             "dB value far too high?)", file=name, line=row_lines[k])
     z0 = 50.0
     for c in comments:
         found = _Z0_COMMENT.search(c)
+        if found and len(found.group(1)) > 100:
+            raise SweepFileError("the reference impedance z0 in a comment is not a usable number",
+                                 file=name)
         if found:
             z0 = float(found.group(1))
             if not (math.isfinite(z0) and z0 > 0):
@@ -186,6 +195,14 @@ def read(path: str | os.PathLike) -> Sweep:
             break
     return Sweep(freq_hz=freq_hz, s=s, z0_ohm=z0, name=Path(name).stem, source=name,
                  comments=tuple(comments))
+
+
+def _cp1252_ok(raw: bytes) -> bool:
+    try:
+        raw.decode("cp1252")
+    except UnicodeDecodeError:
+        return False
+    return True
 
 
 def _complex(table: np.ndarray, cols: dict[str, int]) -> np.ndarray:
@@ -214,7 +231,7 @@ def _layout(header: list[str], name: str, line: int) -> dict:
         kind = _column_kind(title)
         if kind is None:
             raise SweepFileError(
-                f"column {title!r} is neither a frequency nor a real/imaginary or "
+                f"column {show_token(title, 40)} is neither a frequency nor a real/imaginary or "
                 "magnitude/phase column", file=name, line=line)
         found = _PARAM.search(title)
         key = (int(found.group(1)) - 1, int(found.group(2)) - 1) if found else (0, 0)

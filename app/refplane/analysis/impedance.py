@@ -59,11 +59,15 @@ def gamma_to_y(gamma: ArrayLike, z0_ohm: ArrayLike = 50.0) -> np.ndarray:
 
 
 def vswr(gamma: ArrayLike) -> np.ndarray:
-    """Voltage standing-wave ratio (1 + |Γ|)/(1 − |Γ|); ∞ for |Γ| ≥ 1."""
+    """Voltage standing-wave ratio (1 + |Γ|)/(1 − |Γ|).
+
+    ∞ for |Γ| = 1 (total reflection). NaN for |Γ| > 1: an active or mis-calibrated load
+    has no standing-wave ratio (the formula would give a negative number).
+    """
     mag = np.abs(np.asarray(gamma, dtype=np.complex128))
     with np.errstate(divide="ignore", invalid="ignore"):
         out = (1 + mag) / (1 - mag)
-    return np.where(mag >= 1, np.inf, out)
+    return np.where(mag > 1, np.nan, np.where(mag == 1, np.inf, out))
 
 
 def return_loss_db(gamma: ArrayLike) -> np.ndarray:
@@ -75,11 +79,11 @@ def return_loss_db(gamma: ArrayLike) -> np.ndarray:
 
 
 def mismatch_loss_db(gamma: ArrayLike) -> np.ndarray:
-    """Mismatch loss −10·log10(1 − |Γ|²) in dB; ∞ for |Γ| ≥ 1."""
+    """Mismatch loss −10·log10(1 − |Γ|²) in dB; ∞ for |Γ| = 1, NaN (not defined) for |Γ| > 1."""
     mag = np.abs(np.asarray(gamma, dtype=np.complex128))
     with np.errstate(divide="ignore", invalid="ignore"):
         out = -10.0 * np.log10(1 - mag**2)
-    return np.where(mag >= 1, np.inf, out)
+    return np.where(mag > 1, np.nan, np.where(mag == 1, np.inf, out))
 
 
 def series_equivalent(z_ohm: ArrayLike, freq_hz: ArrayLike) -> tuple[np.ndarray, np.ndarray]:

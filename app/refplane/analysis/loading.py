@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import os
 import re
-from pathlib import Path
 
 from refplane.analysis.errors import SweepFileError
 from refplane.analysis.sweep import Sweep
@@ -30,12 +29,10 @@ def read_sweep(path: str | os.PathLike) -> Sweep:
         When the file is missing, unreadable, of an unknown kind, or malformed
         (the message names the file, the line, and the reason).
     """
-    name = os.fspath(path)
-    p = Path(name)
-    if not p.exists():
-        raise SweepFileError("no such file", file=name)
-    if p.is_dir():
-        raise SweepFileError("this is a folder, not a sweep file", file=name)
+    try:
+        name = os.fspath(path)
+    except TypeError:
+        raise SweepFileError(f"not a file path: {path!r}") from None
     if name.lower().endswith(".csv"):
         from refplane.analysis import csvfile
 
@@ -44,5 +41,9 @@ def read_sweep(path: str | os.PathLike) -> Sweep:
         from refplane.analysis import touchstone
 
         return touchstone.read(name)
+    # Say first what is wrong with the path itself (missing, a folder, a pipe …).
+    from refplane.analysis.fileio import open_input
+
+    open_input(name, "a sweep file").close()
     raise SweepFileError(
         "unknown kind of file; Refplane reads Touchstone (.s1p, .s2p, …, .ts) and .csv", file=name)

@@ -56,7 +56,7 @@ from typing import Iterable, Mapping
 import numpy as np
 
 from refplane.analysis.errors import AnalysisError, SweepFileError
-from refplane.analysis.fileio import read_json
+from refplane.analysis.fileio import Const, Number, Obj, SchemaError, Text, read_json, validate
 from refplane.analysis.sweep import Sweep
 
 FORMAT = "refplane-standards"
@@ -79,6 +79,10 @@ _KIND_KEYS = {
     "load": {"r_ohm": "r_ohm", "series_l_h": "series_l_h"},
     "through": {},
 }
+
+
+#: Fields of a Standard that are not numbers of its definition.
+_NOT_NUMERIC = frozenset({"kind", "data", "file", "uncertainties"})
 
 
 @dataclass(frozen=True, eq=False)
@@ -105,6 +109,11 @@ class Standard:
         A known response read from a file, used instead of the model when given.
     file : str or None
         Where ``data`` came from.
+    uncertainties : mapping of str to float
+        Standard uncertainties (k = 1, same SI unit as the value) of some of the numeric
+        fields above, keyed by field name (``"offset_delay_s"``). The standards file gives
+        them as ``<key>_u`` beside a value (``"offset_delay_s_u": 0.5e-12``). Empty by
+        default; kept for uncertainty propagation.
     """
 
     kind: str
@@ -123,15 +132,25 @@ class Standard:
     series_l_h: float = 0.0
     data: Sweep | None = None
     file: str | None = None
-    #: Standard uncertainties of numeric fields, field name → value (SI), from ``<key>_u``.
     uncertainties: Mapping[str, float] = field(default_factory=dict)
 
     def __post_init__(self) -> None:
         if self.kind not in KINDS:
             raise AnalysisError(f"unknown kind of standard {self.kind!r} (use one of {', '.join(KINDS)})")
+        numeric = {f.name for f in dataclasses.fields(self)} - _NOT_NUMERIC
+        checked = {}
+        for key, u in dict(self.uncertainties).items():
+            if key not in numeric:
+                raise AnalysisError(f"{self.kind}: an uncertainty is given for {key!r}, which is "
+                                    "not a numeric field of a standard")
+            if not isinstance(u, (int, float)) or isinstance(u, bool) or not (math.isfinite(u) and u >= 0):
+                raise AnalysisError(f"{self.kind}: the uncertainty of {key} must be a finite "
+                                    f"number ≥ 0, not {u!r}")
+            checked[key] = float(u)
+        object.__setattr__(self, "uncertainties", checked)
         for f in dataclasses.fields(self):
             value = getattr(self, f.name)
-            if f.name in ("kind", "data", "file", "uncertainties") or value is None:
+            if f.name in _NOT_NUMERIC or value is None:
                 continue
             if not isinstance(value, (int, float)) or isinstance(value, bool) or not math.isfinite(value):
                 raise AnalysisError(f"{self.kind}: {f.name} must be a finite number, not {value!r}")
@@ -155,7 +174,7 @@ class Standard:
             return False
         defaults = Standard(self.kind)
         return all(getattr(self, f.name) == getattr(defaults, f.name)
-                   for f in dataclasses.fields(self) if f.name not in ("data", "file", "uncertainties"))
+                   for f in dataclasses.fields(self) if f.name not in _NOT_NUMERIC)
 
     def describe(self) -> str:
         """A short plain description, for file headers and the window."""
@@ -375,46 +394,81 @@ def grids_match(a_hz: np.ndarray, b_hz: np.ndarray) -> bool:
 
 # --------------------------------------------------------------------------- the JSON file
 
-def _standard_from_json(entry, kind: str | None, label: str, base: Path, file: str) -> Standard:
-    if not isinstance(entry, Mapping):
-        raise SweepFileError(f"{label}: expected an object of definition values", file=file)
-    entry = dict(entry)
-    given_kind = entry.pop("kind", kind)
-    if kind is not None and given_kind != kind:
-        raise SweepFileError(f"{label}: the entry says kind {given_kind!r}; it must be {kind!r}", file=file)
-    if given_kind not in KINDS:
-        raise SweepFileError(f"{label}: 'kind' must be one of {', '.join(KINDS)}", file=file)
-    allowed = {**_OFFSET_KEYS, **{k: (v, 1.0) for k, v in _KIND_KEYS[given_kind].items()}}
+def _definition_keys(kind: str) -> dict[str, tuple[str, float]]:
+    """File key → (Standard field, scale from the file's unit to SI) for a kind."""
+    return {**_OFFSET_KEYS, **{k: (v, 1.0) for k, v in _KIND_KEYS[kind].items()}}
+
+
+def _value_schema(field_name: str) -> Number:
+    if field_name == "offset_loss_ohm_per_s":
+        return Number(minimum=0)
+    if field_name == "offset_z0_ohm":
+        return Number(above=0, nullable=True)
+    if field_name == "r_ohm":
+        return Number(minimum=0, nullable=True)
+    return Number()
+
+
+def definition_schema(kind: str | None) -> Obj:
+    """The layout of one standard's definition (``kind`` fixed by its section, or None for
+    a named entry that says its own 'kind'). Every numeric key may have a ``<key>_u``
+    companion: its standard uncertainty, a finite number ≥ 0, in the same unit."""
+
+    def keys(entry: dict, path: str) -> dict:
+        given = entry.get("kind", kind)
+        if kind is not None and given != kind:
+            raise SchemaError(_path(path, "kind"), f"must be {kind!r} in the {kind!r} section, "
+                                                   f"not {given!r}")
+        if given not in KINDS:
+            raise SchemaError(_path(path, "kind") if "kind" in entry else path,
+                              f"say which kind of standard it is: one of {', '.join(KINDS)}")
+        out: dict = {"kind": Text(choices=KINDS), "file": Text(nonempty=True), "note": Text()}
+        for key, (name, _scale) in _definition_keys(given).items():
+            out[key] = _value_schema(name)
+            out[key + "_u"] = Number(minimum=0)
+        return out
+
+    return Obj(keys, required=() if kind is not None else ("kind",))
+
+
+def _path(path: str, key: str) -> str:
+    return f"{path}.{key}" if path else key
+
+
+def schema() -> Obj:
+    """The standards file's layout, declared once (checked by :func:`fileio.validate`)."""
+    named = Obj(values=definition_schema(None))
+    return Obj({
+        "format": Const(FORMAT, f"must be {FORMAT!r}, not {{}}: this is not a standards file"),
+        "version": Const(VERSION, f"standards file version {{}} is not supported (this "
+                         f"Refplane reads version {VERSION})"),
+        "name": Text(), "note": Text(),
+        "reference_z0_ohm": Number(above=0),
+        **{kind: definition_schema(kind) for kind in KINDS},
+        "additional": named, "checks": named,
+    }, required=("format", "version"))
+
+
+def _standard_from_json(entry: dict, kind: str | None, label: str, base: Path, file: str) -> Standard:
+    """A Standard from a definition already checked against :func:`definition_schema`."""
+    given_kind = entry.get("kind", kind)
+    allowed = _definition_keys(given_kind)
     values: dict[str, object] = {}
     uncertainties: dict[str, float] = {}
-    data_file = entry.pop("file", None)
-    entry.pop("note", None)
+    data_file = entry.get("file")
     for key, value in entry.items():
+        if key in ("kind", "file", "note"):
+            continue
         if key.endswith("_u") and key[:-2] in allowed:
-            # A standard uncertainty of a numeric field, in the field's own unit.
             name, scale = allowed[key[:-2]]
-            if not isinstance(value, (int, float)) or isinstance(value, bool) or not math.isfinite(value) \
-                    or value < 0:
-                raise SweepFileError(f"{label}: {key} must be a number of at least 0, not {value!r}", file=file)
-            uncertainties[name] = float(value) * scale
+            uncertainties[name] = value * scale
             continue
-        if key not in allowed:
-            raise SweepFileError(
-                f"{label}: unknown key {key!r} for a {given_kind} (known: {', '.join(sorted(allowed))}, "
-                "file, note)", file=file)
         name, scale = allowed[key]
-        if value is None and name in ("offset_z0_ohm", "r_ohm"):
-            values[name] = None
-            continue
-        if not isinstance(value, (int, float)) or isinstance(value, bool) or not math.isfinite(value):
-            raise SweepFileError(f"{label}: {key} must be a finite number, not {value!r}", file=file)
-        values[name] = float(value) * scale
+        values[name] = None if value is None else value * scale
     data = None
     if data_file is not None:
         if values:
             raise SweepFileError(f"{label}: give either a data file or model values, not both", file=file)
-        if not isinstance(data_file, str) or not data_file:
-            raise SweepFileError(f"{label}: 'file' must be a file name", file=file)
         path = Path(data_file)
         if not path.is_absolute():
             path = base / path
@@ -423,7 +477,8 @@ def _standard_from_json(entry, kind: str | None, label: str, base: Path, file: s
         data = read_sweep(path)
         data_file = str(path)
     try:
-        return Standard(given_kind, data=data, file=data_file, uncertainties=uncertainties, **values)
+        return Standard(given_kind, data=data, file=data_file, uncertainties=uncertainties,
+                        **values)
     except SweepFileError:
         raise
     except AnalysisError as exc:
@@ -433,39 +488,25 @@ def _standard_from_json(entry, kind: str | None, label: str, base: Path, file: s
 def standards_from_json(obj, *, file: str | os.PathLike | None = None) -> StandardSet:
     """Build a :class:`StandardSet` from the parsed JSON of a standards file.
 
-    Data-file definitions are resolved relative to ``file``'s folder (or the working folder).
+    The document is checked against :func:`schema` first: every fault is one line naming
+    the file, the key path and the reason. Data-file definitions are resolved relative to
+    ``file``'s folder (or the working folder).
     """
     fname = os.fspath(file) if file is not None else "standards"
     base = Path(fname).parent if file is not None else Path(".")
     if not isinstance(obj, Mapping):
         raise SweepFileError("a standards file holds one JSON object", file=fname)
-    if obj.get("format") != FORMAT:
-        raise SweepFileError(f"not a standards file: 'format' must be {FORMAT!r}", file=fname)
-    if obj.get("version") != VERSION:
-        raise SweepFileError(f"standards file version {obj.get('version')!r} is not supported "
-                             f"(this Refplane reads version {VERSION})", file=fname)
-    known = {"format", "version", "name", "note", "reference_z0_ohm", "additional", "checks", *KINDS}
-    unknown = sorted(set(obj) - known)
-    if unknown:
-        raise SweepFileError(f"unknown key(s) {', '.join(map(repr, unknown))} "
-                             f"(known: {', '.join(sorted(known))})", file=fname)
+    obj = validate(dict(obj), schema(), fname)
     kw: dict[str, object] = {}
     for kind in KINDS:
         if kind in obj:
             kw[kind] = _standard_from_json(obj[kind], kind, kind, base, fname)
     for group in ("additional", "checks"):
         entries = obj.get(group, {})
-        if not isinstance(entries, Mapping):
-            raise SweepFileError(f"'{group}' must be an object of named standards", file=fname)
-        pairs = []
-        for name, entry in entries.items():
-            if not isinstance(entry, Mapping) or "kind" not in entry:
-                raise SweepFileError(f"{group} {name!r}: say which kind of standard it is ('kind')", file=fname)
-            pairs.append((str(name), _standard_from_json(entry, None, f"{group} {name!r}", base, fname)))
-        kw[group] = tuple(pairs)
+        kw[group] = tuple((str(name), _standard_from_json(entry, None, f"{group}[{name!r}]",
+                                                          base, fname))
+                          for name, entry in entries.items())
     z0 = obj.get("reference_z0_ohm", 50.0)
-    if not isinstance(z0, (int, float)) or isinstance(z0, bool) or not (math.isfinite(z0) and z0 > 0):
-        raise SweepFileError("reference_z0_ohm must be a positive number", file=fname)
     name = obj.get("name", Path(fname).stem if file is not None else "standards")
     try:
         return StandardSet(reference_z0_ohm=float(z0), name=str(name),
@@ -501,10 +542,12 @@ def _standard_to_json(std: Standard, base: Path | None, with_kind: bool) -> dict
         out["file"] = path.as_posix()
         return out
     defaults = Standard(std.kind)
-    for key, (name, scale) in {**_OFFSET_KEYS, **{k: (v, 1.0) for k, v in _KIND_KEYS[std.kind].items()}}.items():
+    for key, (name, scale) in _definition_keys(std.kind).items():
         value = getattr(std, name)
         if value != getattr(defaults, name):
-            out[key] = value / scale
+            out[key] = None if value is None else value / scale
+        if name in std.uncertainties:
+            out[key + "_u"] = std.uncertainties[name] / scale
     return out
 
 

@@ -97,6 +97,34 @@ def _open_window(files: list[str]) -> int:
     return run_window(files)
 
 
+def _install_signal_handlers():
+    """Turn SIGTERM into an exception, as SIGINT already is, so that writes in progress
+    remove their temporary file (the target keeps its old content). Returns the handler
+    it replaced (or None)."""
+    import signal
+
+    def stop(signum, frame):
+        raise KeyboardInterrupt
+
+    try:
+        return signal.signal(signal.SIGTERM, stop)
+    except (ValueError, OSError, AttributeError):  # not the main thread, or no SIGTERM
+        return None
+
+
+def _show_warnings(command: str):
+    """Print warnings (a file read with a caution) as one plain line each; returns the
+    previous ``warnings.showwarning``."""
+    import warnings
+
+    def show(message, category, filename, lineno, file=None, line=None):
+        print(f"refplane {command}: warning: {message}", file=sys.stderr)
+
+    before = warnings.showwarning
+    warnings.showwarning = show
+    return before
+
+
 def main(argv: list[str] | None = None) -> int:
     """Run the command line; returns the process exit status."""
     from refplane.analysis.errors import AnalysisError
@@ -114,14 +142,33 @@ def main(argv: list[str] | None = None) -> int:
     if not getattr(args, "command", None):
         parser.print_help()
         return 0
+    import signal
+    import warnings
+
+    old_handler = _install_signal_handlers()
+    old_show = _show_warnings(args.command)
     try:
         return int(args.run(args) or 0)
     except AnalysisError as exc:
         print(f"refplane {args.command}: {exc}", file=sys.stderr)
         return 2
     except OSError as exc:
-        where = f"{exc.filename}: " if getattr(exc, "filename", None) else ""
-        print(f"refplane {args.command}: {where}{exc.strerror or exc}", file=sys.stderr)
+        from refplane.analysis.errors import printable, shorten
+        from refplane.analysis.fileio import path_problem
+
+        name = getattr(exc, "filename", None)
+        where = f"{shorten(printable(str(name)), 80, keep_end=True)}: " if name else ""
+        print(f"refplane {args.command}: {where}{path_problem(exc)}", file=sys.stderr)
+        return 2
+    except MemoryError:
+        print(f"refplane {args.command}: out of memory", file=sys.stderr)
         return 2
     except KeyboardInterrupt:
         return 130
+    finally:
+        warnings.showwarning = old_show
+        if old_handler is not None:
+            try:
+                signal.signal(signal.SIGTERM, old_handler)
+            except (ValueError, OSError):
+                pass

@@ -128,8 +128,28 @@ def _output_paths(duts, sweeps, output: str) -> list[Path]:
     return paths
 
 
+def _several(args, paths) -> bool:
+    """Whether -o names a folder of outputs (made if missing) rather than one file."""
+    return len(paths) > 1 or Path(args.output).is_dir() or args.output.endswith(("/", os.sep))
+
+
+def _check_can_make(folder: Path) -> None:
+    """The nearest existing folder above ``folder`` must be writable (it will be made)."""
+    from refplane.analysis.errors import AnalysisError
+
+    above = folder
+    while not above.exists() and above != above.parent:
+        above = above.parent
+    if not above.is_dir():
+        raise AnalysisError(f"cannot make the folder: {above} is a file", file=folder)
+    if not os.access(above, os.W_OK):
+        raise AnalysisError(f"cannot make the folder: {above} is read-only", file=folder)
+
+
 def run(args: argparse.Namespace) -> int:
     from refplane.analysis.calibration import calibrate, correct
+    from refplane.analysis.errors import AnalysisError
+    from refplane.analysis.fileio import check_output
     from refplane.analysis.loading import read_sweep
 
     standards_given = [n for n in ("short", "open", "load", "through", "isolation")
@@ -161,6 +181,7 @@ def run(args: argparse.Namespace) -> int:
             return _fail(f"{args.save_cal} is one of the inputs; refusing to overwrite it")
         if Path(args.save_cal).exists() and not args.force:
             return _fail(f"{args.save_cal} exists already; use --force to replace it")
+        check_output(args.save_cal, overwrite=True)  # writable? before any work
 
     # Read every device first: a bad one stops the run before anything is written.
     duts = [read_sweep(d) for d in args.duts]
@@ -171,6 +192,10 @@ def run(args: argparse.Namespace) -> int:
             return _fail(f"the output {p} is one of the inputs; refusing to overwrite it")
         if p.exists() and not args.force:
             return _fail(f"{p} exists already; use --force to replace it")
+        if _several(args, paths):
+            _check_can_make(p.parent)  # the output folder is made if need be
+        else:
+            check_output(p, overwrite=True)  # writable? checked before any work, not after
 
     from refplane.analysis.uncertainty.doctor import diagnose
 
@@ -217,9 +242,14 @@ def run(args: argparse.Namespace) -> int:
         if not args.json:
             print(f"saved error terms: {args.save_cal}")
     if paths:
-        multi = len(paths) > 1 or Path(args.output).is_dir() or args.output.endswith(("/", os.sep))
-        if multi:
-            Path(args.output).mkdir(parents=True, exist_ok=True)
+        if _several(args, paths):
+            try:
+                Path(args.output).mkdir(parents=True, exist_ok=True)
+            except OSError as exc:
+                from refplane.analysis.fileio import path_problem
+
+                raise AnalysisError(f"cannot make the folder: {path_problem(exc)}",
+                                    file=args.output) from None
     from refplane.analysis import touchstone
 
     for i, (src, result, path) in enumerate(zip(args.duts, corrected, paths)):

@@ -135,7 +135,11 @@ def offset_from_args(args: argparse.Namespace):
     if line_z0 is not None:
         kw["line_z0_ohm"] = line_z0
     if length is not None:
-        return LineOffset.from_length(length, vf, **kw)
+        try:
+            return LineOffset.from_length(length, vf, **kw)
+        except AnalysisError as exc:  # name the options the user gave, not the derived delay
+            raise AnalysisError(f"--length {length:g} m with --vf {vf:g} gives no usable line "
+                                f"({exc.reason})") from None
     return LineOffset(delay_s=delay or 0.0, **kw)
 
 
@@ -176,11 +180,52 @@ def apply_offsets(args: argparse.Namespace, sweep):
     offsets = offsets_from_args(args, sweep)
     if offsets is None:
         return sweep, ()
+    _check_reasonable(args, offsets, sweep)
     vf = getattr(args, "offset_vf", None)
     notes = tuple(f"port {port}: line removed: {o.describe(vf)}"
                   for port, o in enumerate(offsets, start=1) if o is not None)
-    corrected = remove_offsets(sweep, offsets)
+    import numpy as np
+
+    with np.errstate(all="ignore"):
+        try:
+            corrected = remove_offsets(sweep, offsets)
+        except AnalysisError as exc:
+            if "not finite" not in exc.reason:
+                raise
+            raise AnalysisError("the line options give numbers too large to compute with "
+                                "(check --delay, --length and --loss)") from None
     return corrected.replace(comments=sweep.comments + describe_offsets(offsets)), notes
+
+
+#: Largest one-way line loss accepted at the sweep's top frequency; far beyond any cable,
+#: and small enough that removing it (a gain of twice as many dB) stays a finite number.
+MAX_LOSS_DB = 300.0
+#: Largest phase (radians) of the line at the top frequency: beyond this a double no longer
+#: resolves a turn of phase, so the result would be noise.
+MAX_PHASE_RAD = 1e12
+
+
+def _check_reasonable(args: argparse.Namespace, offsets, sweep) -> None:
+    """Refuse line options whose effect at the sweep's top frequency cannot be computed,
+    naming the option (not the sweep)."""
+    import math
+
+    top_hz = float(sweep.freq_hz[-1])
+    for o in offsets:
+        if o is None:
+            continue
+        phase = 2 * math.pi * top_hz * abs(o.delay_s)
+        if not math.isfinite(phase) or phase > MAX_PHASE_RAD:
+            which = "--length" if getattr(args, "offset_length_m", None) is not None else "--delay"
+            raise AnalysisError(f"{which}: a line delay of {o.delay_s:.3g} s is far too long for "
+                                f"a sweep up to {top_hz:.4g} Hz (more than {MAX_PHASE_RAD:.0e} "
+                                "radians of phase)")
+        if o.loss_db:
+            at_top = o.loss_db * math.sqrt(top_hz / o.loss_ref_hz) if o.loss_ref_hz > 0 else math.inf
+            if not math.isfinite(at_top) or at_top > MAX_LOSS_DB:
+                raise AnalysisError(f"--loss: {o.loss_db:.3g} dB at {o.loss_ref_hz:.4g} Hz is "
+                                    f"more than {MAX_LOSS_DB:g} dB at the sweep's top frequency; "
+                                    "no cable loses that much")
 
 
 def offsets_json(args: argparse.Namespace, sweep) -> list[dict]:

@@ -67,7 +67,9 @@ class ChartPicture(QWidget):
         return "<br>".join(rows)
 
 
-_QUIET = ("propagateSizeHints",)
+#: Qt notices kept off the terminal: harmless offscreen ones, and the image library's own
+#: wording of a failed save (the save step says why in its own short words).
+_QUIET = ("propagateSizeHints", "libpng", "QImageWriter")
 
 
 def quiet_platform_messages() -> None:

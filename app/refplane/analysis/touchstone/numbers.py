@@ -1,0 +1,410 @@
+"""Exact, vectorised conversion of the numbers of a Touchstone body.
+
+Two paths, both bit-for-bit equal to Python's correctly rounded ``float(text)``:
+
+* :func:`fixed_width` — lines that all share one layout (fixed-width E-notation, as
+  instruments and Refplane's writer produce): the digits are gathered column-wise.
+* :func:`any_width` — numbers of varying width, as scikit-rf, spreadsheets and many scripts
+  write them (shortest round-trip text, tabs, runs of spaces). Every number is located
+  with a few whole-block byte operations, the numbers are sorted by their *shape* (width,
+  sign, position of the point and of the exponent letter) with a radix sort, and each
+  shape is converted as one fixed-layout block by the same exact machinery. A typical
+  body has a few dozen shapes, so the work is a handful of numpy passes over the bytes,
+  with no Python object per number. numpy's own text parsers (``np.fromstring``,
+  ``np.loadtxt``) convert number by number and are 3–5× slower on the same bytes; pandas'
+  C tokenizer is about as fast but takes a few tenths of a second to import on every
+  ``refplane read`` and is not correctly rounded in every case.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from refplane.analysis.touchstone.header import NUMBER
+
+_MAX_FIXUPS = 2000
+_NUMBER_BYTES = frozenset(b"0123456789+-.eE")
+_POW10_LD: list = []
+
+
+def _pow10_extended() -> np.ndarray | None:
+    """10**0 … 10**27 as x86 80-bit extended floats (exact), or None where there are none."""
+    if not _POW10_LD:
+        ok = np.finfo(np.longdouble).nmant == 63 and np.dtype(np.longdouble).itemsize == 16
+        _POW10_LD.append(np.array([10 ** k for k in range(28)], dtype=np.longdouble) if ok else None)
+    return _POW10_LD[0]
+
+
+def _template_token(tok: bytes, a: int):
+    """Parse one number of the first line of a block, starting at column ``a``.
+
+    Returns (sign column, mantissa digit columns, digits after the point, exponent sign
+    column, exponent digit columns, {column: required byte}) or None if it is no number.
+    """
+    i = 0
+    n = len(tok)
+    sign = None
+    fixed = {}
+    if tok[:1] in (b"+", b"-"):
+        sign = a
+        i = 1
+    mant = []
+    nfrac = 0
+    seen_dot = False
+    while i < n and (tok[i:i + 1].isdigit() or tok[i:i + 1] == b"."):
+        if tok[i:i + 1] == b".":
+            if seen_dot:
+                return None
+            seen_dot = True
+            fixed[a + i] = 46
+        else:
+            mant.append(a + i)
+            if seen_dot:
+                nfrac += 1
+        i += 1
+    if not mant:
+        return None
+    esign = None
+    exp = []
+    if i < n:
+        if tok[i:i + 1] not in (b"e", b"E"):
+            return None
+        fixed[a + i] = tok[i]
+        i += 1
+        if tok[i:i + 1] in (b"+", b"-"):
+            esign = a + i
+            i += 1
+        while i < n and tok[i:i + 1].isdigit():
+            exp.append(a + i)
+            i += 1
+        if not exp or i != n or len(exp) > 3:
+            return None
+    return sign, mant, nfrac, esign, exp, fixed
+
+
+@dataclass(frozen=True)
+class _Group:
+    """Numbers of a line with the same count of mantissa and exponent digits."""
+
+    ks: list
+    nd: int
+    ne: int
+    cols: np.ndarray
+    ecols_by_digit: list
+    nfrac: np.ndarray
+    sign_pos: np.ndarray
+    sign_cols: np.ndarray
+    esign_pos: np.ndarray
+    esign_cols: np.ndarray
+
+
+@dataclass(frozen=True)
+class _Layout:
+    """Where the numbers of a fixed-layout line sit (see :func:`_fixed_width`)."""
+
+    spans: list
+    tokens: list
+    groups: list
+    fixed_cols: np.ndarray
+    fixed_bytes: np.ndarray
+    sign_cols: np.ndarray
+
+
+_LAYOUTS: dict[bytes, _Layout | None] = {}
+_SHAPE = bytes.maketrans(b"0123456789-", b"0000000000+")
+_SPACE_BYTES = frozenset(b" \t\r\n")
+
+
+def _layout(template: bytes) -> _Layout | None:
+    """The layout of a first line (cached by its shape: digits and signs blanked)."""
+    key = template.translate(_SHAPE)
+    if key in _LAYOUTS:
+        return _LAYOUTS[key]
+    layout = None
+    if all(c in _SPACE_BYTES or c in _NUMBER_BYTES for c in template):
+        space = [c in _SPACE_BYTES for c in template]
+        spans, tokens, start = [], [], None
+        for i, sp in enumerate(space + [True]):
+            if not sp and start is None:
+                start = i
+            elif sp and start is not None:
+                spans.append((start, i))
+                start = None
+        for a, b in spans:
+            t = _template_token(template[a:b], a)
+            if t is None or len(t[1]) > 19:
+                tokens = None
+                break
+            tokens.append(t)
+        if tokens:
+            by_shape: dict = {}
+            for k, t in enumerate(tokens):
+                by_shape.setdefault((len(t[1]), len(t[4])), []).append(k)
+            groups = []
+            for (nd, ne), ks in by_shape.items():
+                msign = [(g, tokens[k][0]) for g, k in enumerate(ks) if tokens[k][0] is not None]
+                esign = [(g, tokens[k][3]) for g, k in enumerate(ks) if tokens[k][3] is not None]
+                groups.append(_Group(
+                    ks=ks, nd=nd, ne=ne,
+                    cols=np.array([c for k in ks for c in tokens[k][1]], dtype=np.intp),
+                    ecols_by_digit=[np.array([tokens[k][4][j] for k in ks], dtype=np.intp)
+                                    for j in range(ne)],
+                    nfrac=np.array([tokens[k][2] for k in ks], dtype=np.int64),
+                    sign_pos=np.array([g for g, _ in msign], dtype=np.intp),
+                    sign_cols=np.array([c for _, c in msign], dtype=np.intp),
+                    esign_pos=np.array([g for g, _ in esign], dtype=np.intp),
+                    esign_cols=np.array([c for _, c in esign], dtype=np.intp)))
+            fixed = {i: template[i] for i, sp in enumerate(space) if sp}
+            for t in tokens:
+                fixed.update(t[5])
+            cols = sorted(fixed)
+            layout = _Layout(spans=spans, tokens=tokens, groups=groups,
+                             fixed_cols=np.array(cols, dtype=np.intp),
+                             fixed_bytes=np.array([fixed[c] for c in cols], dtype=np.uint8),
+                             sign_cols=np.array([c for t in tokens for c in (t[0], t[3])
+                                                 if c is not None], dtype=np.intp))
+    if len(_LAYOUTS) > 64:
+        _LAYOUTS.clear()
+    _LAYOUTS[key] = layout
+    return layout
+
+
+def _mantissa(digits: np.ndarray) -> np.ndarray:
+    """The integer each run of decimal digits spells (last axis: digits, most significant
+    first; at most 19 of them, so the result is exact in uint64).
+
+    The first 15 digits are joined in float64 (exact: below 2**53), where multiply-add is
+    vectorised; 64-bit integer multiplication is not, so only the last few digits use it.
+    """
+    nd = digits.shape[-1]
+    head = min(nd, 15)
+    m = digits[..., 0].astype(np.float64)
+    for j in range(1, head):
+        m *= 10.0
+        m += digits[..., j]
+    m = m.astype(np.uint64)
+    for j in range(head, nd):
+        m *= np.uint64(10)
+        m += digits[..., j]
+    return m
+
+
+def fixed_width(body: bytes) -> np.ndarray | None:
+    """Numbers of a block of lines that all share one layout, converted exactly; else None.
+
+    Every line must have the same length, with digits, signs, points and exponent letters
+    in the same columns (the usual fixed-width E-notation of instruments and of
+    :func:`write`). The digits are then gathered column-wise and each number is built as an
+    integer mantissa M (≤ 19 digits, exact in uint64) times 10**E. M·10**E (or M/10**−E) for
+    |E| ≤ 27 is computed in x86 extended precision, where both operands are exact and the
+    single operation rounds once to 64 bits; the cast to float64 then rounds again. That
+    double rounding can differ from a correctly rounded conversion only when the 64-bit
+    result lies exactly half-way between two doubles (its 11 extra bits read 10000000000),
+    so exactly those numbers, and any with |E| > 27, are converted one by one with
+    Python's correctly rounded ``float``. The result is bit-for-bit what ``float(text)``
+    gives for each number. Platforms without 80-bit extended floats use numpy's parser.
+    """
+    width = body.find(b"\n") + 1
+    if width <= 1 or len(body) % width:
+        return None
+    rows = np.frombuffer(body, dtype=np.uint8).reshape(-1, width)
+    values = _fixed_rows(rows, body[:width])
+    return None if values is None else values.reshape(-1)
+
+
+def _fixed_rows(rows: np.ndarray, template: bytes) -> np.ndarray | None:
+    """The numbers of rows of bytes that share the layout of ``template`` (see
+    :func:`fixed_width`), as a (rows × numbers per row) array; None when a row differs."""
+    p10 = _pow10_extended()
+    if p10 is None:
+        return None
+    layout = _layout(template)
+    if layout is None:
+        return None
+    # Every column of every line must be of the template's kind: the same white space, the
+    # same points and exponent letters, a sign where it has one, and digits where it has them.
+    if not (rows[:, layout.fixed_cols] == layout.fixed_bytes).all():
+        return None
+    if layout.sign_cols.size:
+        s = rows[:, layout.sign_cols]
+        if not ((s == 43) | (s == 45)).all():
+            return None
+    spans = layout.spans
+    n_lines = rows.shape[0]
+    out = np.empty((n_lines, len(layout.tokens)), dtype=np.float64)
+    for grp in layout.groups:
+        width_g = len(grp.ks)
+        digits = rows[:, grp.cols]
+        digits -= np.uint8(48)
+        if digits.max() >= 10:  # a byte below '0' wraps round to a large value
+            return None
+        m = _mantissa(digits.reshape(n_lines, width_g, grp.nd))
+        if grp.ne:
+            e = np.zeros((n_lines, width_g), dtype=np.int16)
+            for cols_j in grp.ecols_by_digit:
+                d = rows[:, cols_j]
+                d -= np.uint8(48)
+                if d.max() >= 10:
+                    return None
+                e *= 10
+                e += d
+            if grp.esign_pos.size == width_g:
+                # '+' is 43 and '-' is 45: 44 − byte is the sign itself.
+                e *= np.int16(44) - rows[:, grp.esign_cols]
+            elif grp.esign_pos.size:
+                e[:, grp.esign_pos] *= np.int16(44) - rows[:, grp.esign_cols]
+            e = e - grp.nfrac
+        else:
+            e = np.broadcast_to(-grp.nfrac, (n_lines, width_g))
+        low_e, high_e = int(e.min()), int(e.max())
+        big = None
+        if low_e < -27 or high_e > 27:
+            big = np.abs(e) > 27
+            e = np.where(big, 0, e)
+            low_e, high_e = int(e.min()), int(e.max())
+        ld = m.astype(np.longdouble)
+        if low_e == high_e:  # one exponent for all (no exponent digits): a scalar power
+            value = ld / p10[-low_e] if low_e <= 0 else ld * p10[low_e]
+        elif high_e <= 0:
+            value = ld / p10[-e]
+        elif low_e >= 0:
+            value = ld * p10[e]
+        else:
+            up = e >= 0
+            value = np.where(up, ld * p10[np.where(up, e, 0)], ld / p10[np.where(up, 0, -e)])
+        low = value.reshape(-1).view(np.uint64)[::2].reshape(n_lines, width_g)
+        # Rounding first to 64 bits and then to 53 can err only when the 64-bit result sits
+        # exactly half-way between two doubles; those (about 1 in 2048) are redone exactly.
+        redo = (low & np.uint64(0x7FF)) == np.uint64(0x400)
+        if big is not None:
+            redo |= big
+        result = value.astype(np.float64)
+        if grp.sign_pos.size == width_g:
+            result *= np.int16(44) - rows[:, grp.sign_cols]
+        elif grp.sign_pos.size:
+            result[:, grp.sign_pos] *= np.int16(44) - rows[:, grp.sign_cols]
+        if redo.any():
+            where = np.argwhere(redo)
+            if len(where) > _MAX_FIXUPS:
+                return None
+            for r, g in where.tolist():
+                a, b = spans[grp.ks[g]]
+                result[r, g] = float(rows[r, a:b].tobytes())
+        out[:, grp.ks] = result
+    return out
+
+
+
+#: A number longer than this is no measurement; it is left to the careful pass.
+_LONGEST = 40
+
+
+def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
+    """Every whitespace-separated number of ``block``, exactly, and which ones begin a line.
+
+    ``block`` holds whole lines (comments already removed). Returns ``(values,
+    first_on_line)``, or None when something in it is not a plain decimal number (a word,
+    a control character, ``nan``, a huge token…); the caller then takes the careful path.
+    """
+    a = np.frombuffer(block, dtype=np.uint8)
+    ink = a > 32
+    edges = np.flatnonzero(ink[1:] != ink[:-1])
+    edges += 1
+    if a.size and ink[0]:
+        edges = np.concatenate(([0], edges))
+    if a.size and ink[-1]:
+        edges = np.concatenate((edges, [a.size]))
+    # Between numbers only spaces, tabs and line ends (no other control bytes).
+    control = int(np.count_nonzero(a < 32))
+    if control:
+        control -= int(np.count_nonzero(a == 10))
+        if control:
+            control -= int(np.count_nonzero(a == 9)) + int(np.count_nonzero(a == 13))
+            if control:
+                return None
+    starts, ends = edges[0::2], edges[1::2]
+    n = starts.size
+    if n == 0:
+        return np.empty(0), np.empty(0, dtype=bool)
+    widths = ends - starts
+    longest = int(widths.max())
+    if longest > _LONGEST:
+        return None
+    # A number begins a line when a line end lies between it and the one before.
+    first = np.empty(n, dtype=bool)
+    first[0] = True
+    first[1:] = a[starts[1:] - 1] == 10
+    long_gap = np.flatnonzero(starts[1:] - ends[:-1] > 1) + 1
+    if long_gap.size:
+        after = np.searchsorted(starts, np.flatnonzero(a == 10))
+        first[long_gap] = False
+        first[after[after < n]] = True
+    # Shape key: width, leading sign, and the offsets of the point and the exponent letter.
+    dot_at = _offsets(np.flatnonzero(a == 46), starts, ends)
+    if b"e" in block or b"E" in block:
+        e_at = _offsets(np.flatnonzero((a | 32) == 101), starts, ends)
+    else:
+        e_at = 0
+    if dot_at is None or e_at is None:
+        return None
+    lead = a[starts]
+    key = widths.astype(np.uint32)
+    key |= dot_at.astype(np.uint32) << 6
+    if isinstance(e_at, np.ndarray):
+        key |= e_at.astype(np.uint32) << 12
+    key |= (lead == 45).astype(np.uint32) << 18
+    key |= (lead == 43).astype(np.uint32) << 19
+    # Number the shapes present 0, 1, 2 … so that a 16-bit radix sort groups them.
+    present = np.flatnonzero(np.bincount(key))
+    if present.size > 65535:
+        return None
+    rank = np.zeros(int(present[-1]) + 1, dtype=np.uint16)
+    rank[present] = np.arange(present.size, dtype=np.uint16)
+    key = rank[key]
+    order = np.argsort(key, kind="stable")
+    key = key[order]
+    bounds = np.concatenate(([0], np.flatnonzero(np.diff(key)) + 1, [n])).tolist()
+    padded = np.concatenate((a, np.full(longest, 32, dtype=np.uint8)))
+    # Each number's bytes as one row: overlapping windows of the block, one per start.
+    windows = np.ndarray(shape=(a.size,), dtype=f"V{longest}", buffer=padded, strides=(1,))
+    tokens = windows[starts[order]].view(np.uint8).reshape(n, longest)
+    values = np.empty(n, dtype=np.float64)
+    for lo, hi in zip(bounds[:-1], bounds[1:]):
+        width = int(widths[order[lo]])
+        rows = tokens[lo:hi, :width]
+        part = _fixed_rows(rows, rows[0].tobytes())
+        if part is None:
+            part = _one_by_one(rows)
+            if part is None:
+                return None
+        values[order[lo:hi]] = part.reshape(-1)
+    return values, first
+
+
+def _offsets(found: np.ndarray, starts: np.ndarray, ends: np.ndarray) -> np.ndarray | None:
+    """1-based offset of at most one marked byte inside each number (0: none there)."""
+    n = starts.size
+    if found.size == n and bool(np.all((found >= starts) & (found < ends))):
+        return found - starts + 1  # the usual case: exactly one in every number
+    out = np.zeros(n, dtype=np.int64)
+    if found.size == 0:
+        return out
+    owner = np.searchsorted(starts, found, side="right") - 1
+    if owner[0] < 0 or np.any(np.diff(owner) == 0) or np.any(found >= ends[owner]):
+        return None  # two in one number, or one between numbers: not a plain number
+    out[owner] = found - starts[owner] + 1
+    return out
+
+
+def _one_by_one(rows: np.ndarray) -> np.ndarray | None:
+    """Python's ``float`` on each row's bytes (unusual shapes, long mantissas)."""
+    out = np.empty(rows.shape[0])
+    for i, raw in enumerate(rows):
+        text = raw.tobytes()
+        if not NUMBER.fullmatch(text):
+            return None
+        value = float(text)
+        out[i] = value
+    return out

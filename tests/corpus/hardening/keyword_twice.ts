@@ -1,0 +1,9 @@
+[Version] 2.0
+# GHz S RI R 50
+[Number of Ports] 1
+[Number of Frequencies] 2
+[Number of Frequencies] 3
+[Network Data]
+1 0 0
+2 0 0
+[End]
