@@ -115,6 +115,7 @@ def test_html_report_parses_holds_svg_and_the_numbers_of_refplane_read(resistor,
     assert f"Refplane {__version__}" in body and re.search(r"\d{4}-\d\d-\d\d \d\d:\d\d UTC", body)
 
 
+@pytest.mark.needs_qt
 def test_pdf_report_starts_with_pdf_and_has_a_page_per_sweep(resistor, tmp_path):
     other = tmp_path / "second.s1p"
     f = np.linspace(100e6, 1e9, 31)
