@@ -436,9 +436,9 @@ def quantise(s: np.ndarray) -> np.ndarray:
 
 def write_all(out_dir: str | Path, *, overwrite: bool = False) -> list[Path]:
     """Write every demo file (and the standards file) under ``out_dir``; returns the paths."""
-    from refplane.analysis.fileio import write_text_atomic
+    from refplane.analysis.files.fileio import write_text_atomic
     from refplane.analysis.sweep import Sweep
-    from refplane.analysis.touchstone import write
+    from refplane.analysis.files.touchstone import write
 
     out = Path(out_dir)
     written = []

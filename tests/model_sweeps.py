@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import numpy as np
-from refplane.analysis.impedance import z_to_gamma
+from refplane.analysis.readings.impedance import z_to_gamma
 from refplane.analysis.sweep import Sweep
 
 
@@ -36,6 +36,6 @@ def two_port_attenuator(n: int = 51, name: str = "pad") -> Sweep:
 
 def write_sweep(sweep: Sweep, path) -> str:
     """Write a sweep as Touchstone with Refplane's writer (RI, GHz, version 1.1)."""
-    from refplane.analysis.touchstone import write
+    from refplane.analysis.files.touchstone import write
 
     return str(write(sweep, path, fmt="RI", comments=("test sweep made from a closed-form model",)))

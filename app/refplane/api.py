@@ -72,7 +72,7 @@ def read(path: str | os.PathLike) -> Sweep:
         Frozen: ``freq_hz`` (n,), ``s`` (n, ports, ports), ``z0_ohm`` (ports,), ``name``,
         ``source``, ``comments``.
     """
-    from refplane.analysis.loading import read_sweep
+    from refplane.analysis.files.loading import read_sweep
 
     return read_sweep(path)
 
@@ -82,7 +82,7 @@ def write(sweep: Sweep, path: str | os.PathLike, *, overwrite: bool = False) -> 
 
     Refuses to replace an existing file unless ``overwrite``; writes atomically.
     """
-    from refplane.analysis import touchstone
+    from refplane.analysis.files import touchstone
 
     return os.fspath(touchstone.write(sweep, path, comments=sweep.comments, overwrite=overwrite))
 
@@ -116,7 +116,7 @@ def readings(sweep: Sweep | str | os.PathLike, *, at, port: int = 1) -> list[dic
 
 
 def _line(delay, length, vf, loss, line_z0):
-    from refplane.analysis.deembed import LineOffset
+    from refplane.analysis.lines.deembed import LineOffset
     from refplane.analysis.units import parse_length, parse_loss, parse_time
 
     if (delay is None) == (length is None):
@@ -157,7 +157,7 @@ def remove_offsets(sweep: Sweep, *, delay=None, length=None, vf: float | None = 
     port : int or "all"
         Where the line is.
     """
-    from refplane.analysis import deembed
+    from refplane.analysis.lines import deembed
 
     return deembed.remove_offsets(sweep, _per_port(sweep, _line(delay, length, vf, loss, line_z0), port))
 
@@ -165,7 +165,7 @@ def remove_offsets(sweep: Sweep, *, delay=None, length=None, vf: float | None = 
 def add_offsets(sweep: Sweep, *, delay=None, length=None, vf: float | None = None, loss=None,
                 line_z0: float | None = None, port: int | str = 1) -> Sweep:
     """The sweep as it would read through an added length of line (arguments as :func:`remove_offsets`)."""
-    from refplane.analysis import deembed
+    from refplane.analysis.lines import deembed
 
     return deembed.add_offsets(sweep, _per_port(sweep, _line(delay, length, vf, loss, line_z0), port))
 
@@ -179,7 +179,7 @@ def estimate_plane(sweep: Sweep, *, standard: str = "open", port: int = 1, band=
     PlaneEstimate
         ``delay_s``, ``loss_db`` at ``loss_ref_hz``, ``length_m`` (with ``vf``), ``residual``.
     """
-    from refplane.analysis.plane import estimate_plane as _estimate
+    from refplane.analysis.lines.plane import estimate_plane as _estimate
 
     return _estimate(_sweep(sweep), standard=standard, port=port, band_hz=_band(band), velocity_factor=vf)
 
@@ -202,8 +202,8 @@ def calibrate(*, short, open, load, through=None, isolation=None, standards=None
     Calibration
         With ``quality``, ``verdict`` and ``warnings`` saying how good it is.
     """
-    from refplane.analysis.calibration import calibrate as _calibrate
-    from refplane.analysis.standards import StandardSet, load_standards
+    from refplane.analysis.calibration.solve import calibrate as _calibrate
+    from refplane.analysis.calibration.standards import StandardSet, load_standards
 
     if isinstance(standards, (str, os.PathLike)):
         standards = load_standards(standards)
@@ -216,21 +216,21 @@ def calibrate(*, short, open, load, through=None, isolation=None, standards=None
 
 def load_calibration(path: str | os.PathLike):
     """Read error terms saved by ``refplane correct --save-cal`` or :func:`save_calibration`."""
-    from refplane.analysis.calfile import load_calibration as _load
+    from refplane.analysis.calibration.calfile import load_calibration as _load
 
     return _load(path)
 
 
 def save_calibration(calibration, path: str | os.PathLike, *, overwrite: bool = False) -> str:
     """Save error terms as JSON (atomically; an existing file only with ``overwrite``)."""
-    from refplane.analysis.calfile import save_calibration as _save
+    from refplane.analysis.calibration.calfile import save_calibration as _save
 
     return os.fspath(_save(calibration, path, overwrite=overwrite))
 
 
 def correct(sweep: Sweep, calibration, *, interpolate: bool = False) -> Sweep:
     """Apply a calibration to a device sweep; the result's comments say what was corrected."""
-    from refplane.analysis.calibration import correct as _correct
+    from refplane.analysis.calibration.solve import correct as _correct
 
     return _correct(calibration, _sweep(sweep), interpolate=interpolate).sweep
 
@@ -244,7 +244,7 @@ def fit(sweep: Sweep, *, model: str = "auto", band=None, port: int | None = None
         ``params`` and ``stderr`` (SI, keyed like ``r_ohm``, ``l_h``, ``c_f``), ``derived``
         (e.g. ``srf_hz``), and ``sentence()`` in plain words.
     """
-    from refplane.analysis.fitting import fit_sweep
+    from refplane.analysis.circuits.fitting import fit_sweep
 
     return fit_sweep(_sweep(sweep), model=model, band_hz=_band(band), port=port, through=through)
 

@@ -69,7 +69,7 @@ class Preparation:
         notes: list[str] = []
         warnings: list[str] = []
         if self.calibration is not None:
-            from refplane.analysis.calibration import correct
+            from refplane.analysis.calibration.solve import correct
 
             corrected = correct(self.calibration, sweep, interpolate=self.interpolate)
             notes.append(f"calibration applied ({self.calibration.quality}): "
@@ -77,7 +77,7 @@ class Preparation:
             warnings.extend(corrected.warnings)
             sweep = corrected.sweep
         if self.offset is not None:
-            from refplane.analysis.deembed import remove_offsets
+            from refplane.analysis.lines.deembed import remove_offsets
 
             target = self.offset_port if self.offset_port is not None else self.port
             if target == "all":
@@ -164,7 +164,7 @@ def collect_files(paths: Iterable[str | os.PathLike]) -> list[str]:
     AnalysisError
         For a path that does not exist, or when no file is found at all.
     """
-    from refplane.analysis.loading import is_sweep_file
+    from refplane.analysis.files.loading import is_sweep_file
 
     out: list[str] = []
     for raw in paths:
@@ -206,7 +206,7 @@ def _one_line(exc: BaseException, path: str) -> str:
 
 def check_file(path: str, limits: Sequence[Limit], prep: Preparation = Preparation()) -> FileCheck:
     """Read, prepare and check one file; never raises for a bad file (it is "unreadable")."""
-    from refplane.analysis.loading import read_sweep
+    from refplane.analysis.files.loading import read_sweep
 
     try:
         sweep, _, _ = prep.apply(read_sweep(path))
@@ -353,6 +353,6 @@ def csv_number(value) -> str:
 
 def write_check_csv(batch: BatchResult, path: str | os.PathLike, *, overwrite: bool = False) -> Path:
     """Write :func:`check_csv` atomically (refusing to replace a file unless ``overwrite``)."""
-    from refplane.analysis.fileio import write_text_atomic
+    from refplane.analysis.files.fileio import write_text_atomic
 
     return write_text_atomic(path, check_csv(batch), overwrite=overwrite)

@@ -19,7 +19,7 @@ import numpy as np
 import pytest
 
 from refplane.analysis.antenna.feedline import handbook_total_loss_db, toward_antenna, toward_radio
-from refplane.analysis.deembed import SPEED_OF_LIGHT_M_S, LineOffset
+from refplane.analysis.lines.deembed import SPEED_OF_LIGHT_M_S, LineOffset
 from refplane.analysis.errors import AnalysisError
 
 

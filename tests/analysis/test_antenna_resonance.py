@@ -20,8 +20,8 @@ import pytest
 from refplane.analysis.antenna.resonance import (
     analyse, best_match, find_resonances, max_impedance, vswr_bands)
 from refplane.analysis.errors import AnalysisError
-from refplane.analysis.impedance import vswr, z_to_gamma
-from refplane.analysis.markers import gamma_at
+from refplane.analysis.readings.impedance import vswr, z_to_gamma
+from refplane.analysis.readings.markers import gamma_at
 from refplane.analysis.sweep import Sweep
 
 

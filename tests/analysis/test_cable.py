@@ -8,7 +8,7 @@ import math
 import numpy as np
 import pytest
 
-from refplane.analysis.deembed import DB_PER_NEPER, SPEED_OF_LIGHT_M_S, LineOffset, remove_offsets
+from refplane.analysis.lines.deembed import DB_PER_NEPER, SPEED_OF_LIGHT_M_S, LineOffset, remove_offsets
 from refplane.analysis.errors import AnalysisError
 from refplane.analysis.lines.cable import characterise_cable
 from refplane.analysis.sweep import Sweep

@@ -7,12 +7,12 @@ import warnings
 import numpy as np
 import pytest
 
-from refplane.analysis.calfile import load_calibration, save_calibration
-from refplane.analysis.calibration import (
+from refplane.analysis.calibration.calfile import load_calibration, save_calibration
+from refplane.analysis.calibration.solve import (
     POOR_DIRECTIVITY, Calibration, calibrate, correct, correct_many, solve_one_port, terms_db,
 )
 from refplane.analysis.errors import AnalysisError, SweepFileError
-from refplane.analysis.standards import Standard, StandardSet, reflection
+from refplane.analysis.calibration.standards import Standard, StandardSet, reflection
 from refplane.analysis.sweep import Sweep
 
 N = 301
@@ -408,7 +408,7 @@ def test_swapped_short_and_open_are_noticed():
 
 def test_shipped_waveguide_band_is_not_judged_by_its_phase_at_0_hz():
     # skrf.data one_port_cal spans 500–750 GHz: too far from 0 Hz for the swap check.
-    from refplane.analysis.calibration import tracking_phase_at_dc_deg
+    from refplane.analysis.calibration.solve import tracking_phase_at_dc_deg
 
     f, names, meas, ideal = _shipped_one_port()
     terms, _ = solve_one_port(f, np.stack(meas, 1), np.stack(ideal, 1))

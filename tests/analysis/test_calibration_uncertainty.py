@@ -8,9 +8,9 @@ import warnings
 import numpy as np
 import pytest
 
-from refplane.analysis.calfile import calibration_from_json, calibration_to_json
-from refplane.analysis.calibration import calibrate
-from refplane.analysis.standards import Standard, StandardSet, reflection, standards_from_json
+from refplane.analysis.calibration.calfile import calibration_from_json, calibration_to_json
+from refplane.analysis.calibration.solve import calibrate
+from refplane.analysis.calibration.standards import Standard, StandardSet, reflection, standards_from_json
 from refplane.analysis.sweep import Sweep
 from refplane.analysis.uncertainty.calprop import calibration_uncertainty, definition_uncertainties
 

@@ -7,7 +7,7 @@ import math
 import numpy as np
 import pytest
 
-from refplane.analysis.circuits import CIRCUITS, MODEL_CHOICES, MODELS, get_model, reading_for, rename, unit_of
+from refplane.analysis.circuits.models import CIRCUITS, MODEL_CHOICES, MODELS, get_model, reading_for, rename, unit_of
 from refplane.analysis.errors import AnalysisError
 
 skrf = pytest.importorskip("skrf")

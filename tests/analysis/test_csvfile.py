@@ -11,8 +11,8 @@ import warnings
 import numpy as np
 import pytest
 
-from refplane.analysis import csvfile
-from refplane.analysis.loading import read_sweep
+from refplane.analysis.files import csvfile
+from refplane.analysis.files.loading import read_sweep
 
 skrf = pytest.importorskip("skrf")
 DATA = pathlib.Path(skrf.__file__).parent / "data"

@@ -9,10 +9,10 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from refplane.analysis.deembed import (DB_PER_NEPER, SPEED_OF_LIGHT_M_S, LineOffset, add_offsets,
+from refplane.analysis.lines.deembed import (DB_PER_NEPER, SPEED_OF_LIGHT_M_S, LineOffset, add_offsets,
                                        describe_offsets, line_s, remove_offsets, with_port_offset)
 from refplane.analysis.errors import AnalysisError
-from refplane.analysis.impedance import gamma_to_z, z_to_gamma
+from refplane.analysis.readings.impedance import gamma_to_z, z_to_gamma
 from refplane.analysis.sweep import Sweep
 
 skrf = pytest.importorskip("skrf")

@@ -23,7 +23,7 @@ import sys
 import numpy as np
 import pytest
 
-from refplane.analysis.loading import read_sweep
+from refplane.analysis.files.loading import read_sweep
 
 ROOT = pathlib.Path(__file__).resolve().parents[2]
 DEMO = ROOT / "sample_sweeps"
@@ -164,7 +164,7 @@ def test_resistor_reads_77_ohm_and_9_nh_at_470_mhz():
 def test_quarter_wave_of_20_cm_coax_near_247_mhz():
     # references.md (common practice): 20 cm of vf 0.66 coax is a quarter wave near c·0.66/(4·0.2) = 247 MHz,
     # where an open at its end reads as a short; below about 1 MHz it hardly moves the reading.
-    from refplane.analysis.markers import gamma_at, zero_reactance_frequencies
+    from refplane.analysis.readings.markers import gamma_at, zero_reactance_frequencies
 
     sweep = read_sweep(DEMO / "coax_20cm_open_end.s1p")
     quarter = C_M_PER_S * 0.66 / (4 * 0.2)
@@ -178,7 +178,7 @@ def test_quarter_wave_of_20_cm_coax_near_247_mhz():
 
 def test_self_resonances_of_the_parts():
     # Pozar: series ESL-C resonates at 1/(2π√(LC)); the inductor with winding capacitance at 1/(2π√(LC)).
-    from refplane.analysis.markers import zero_reactance_frequencies
+    from refplane.analysis.readings.markers import zero_reactance_frequencies
 
     cap = zero_reactance_frequencies(read_sweep(DEMO / "chip_capacitor_100pf.s1p"), band_hz=(100e6, 1e9))
     assert cap == pytest.approx([1 / (2 * math.pi * math.sqrt(0.8e-9 * 100e-12))], rel=5e-3)
@@ -188,8 +188,8 @@ def test_self_resonances_of_the_parts():
 
 def test_antenna_seen_through_its_cable_and_without_it():
     # references.md: one-way delay of a line = length/(vf·c); 1.5 m at vf 0.66 is 7.581 ns.
-    from refplane.analysis.deembed import LineOffset, remove_offsets
-    from refplane.analysis.markers import zero_reactance_frequencies
+    from refplane.analysis.lines.deembed import LineOffset, remove_offsets
+    from refplane.analysis.readings.markers import zero_reactance_frequencies
 
     delay = 1.5 / (0.66 * C_M_PER_S)
     assert delay == pytest.approx(7.581e-9, rel=1e-4)
@@ -204,9 +204,9 @@ def test_antenna_seen_through_its_cable_and_without_it():
 def test_open_cable_gives_the_plane():
     # references.md: an open at the far end shows about twice the one-way loss as return loss;
     # the plane estimate of the open-ended 1.5 m cable finds 7.581 ns and 1.0 dB at 1 GHz.
-    plane = pytest.importorskip("refplane.analysis.plane")
-    from refplane.analysis.impedance import return_loss_db
-    from refplane.analysis.markers import gamma_at
+    plane = pytest.importorskip("refplane.analysis.lines.plane")
+    from refplane.analysis.readings.impedance import return_loss_db
+    from refplane.analysis.readings.markers import gamma_at
 
     sweep = read_sweep(DEMO / "coax_1m5_open_end.s1p")
     rl = float(return_loss_db(gamma_at(sweep, 144e6)))
@@ -263,8 +263,8 @@ def test_raw_calibration_sweeps_solve_with_skrf_to_the_resistor():
 def test_raw_calibration_sweeps_solve_with_refplane():
     # The same with Refplane's own solver and standards reader, plus the through and isolation:
     # the corrected filter's S21 matches its model (Pozar ABCD→S) up to the port-2 match left uncorrected.
-    standards = pytest.importorskip("refplane.analysis.standards")
-    calibration = pytest.importorskip("refplane.analysis.calibration")
+    standards = pytest.importorskip("refplane.analysis.calibration.standards")
+    calibration = pytest.importorskip("refplane.analysis.calibration.solve")
     gen = _generator()
     folder = DEMO / "calibration"
     std = standards.load_standards(folder / "bench_standards.json")

@@ -7,8 +7,8 @@ import dataclasses
 import numpy as np
 import pytest
 
-from refplane.analysis.calibration import calibrate, correct
-from refplane.analysis.standards import Standard, StandardSet, reflection, standards_from_json
+from refplane.analysis.calibration.solve import calibrate, correct
+from refplane.analysis.calibration.standards import Standard, StandardSet, reflection, standards_from_json
 from refplane.analysis.sweep import Sweep
 from refplane.analysis.uncertainty.calprop import calibration_uncertainty
 from refplane.analysis.uncertainty.doctor import diagnose

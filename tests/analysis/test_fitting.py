@@ -10,13 +10,13 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from refplane.analysis.circuits import MODELS
+from refplane.analysis.circuits.models import MODELS
 from refplane.analysis.errors import AnalysisError
-from refplane.analysis.fitting import (
+from refplane.analysis.circuits.fitting import (
     fit_impedance, fit_reflection, fit_sweep, format_percent, format_with_error, parameter_table, ranking_rows)
-from refplane.analysis.impedance import z_to_gamma
+from refplane.analysis.readings.impedance import z_to_gamma
 from refplane.analysis.sweep import Sweep
-from refplane.analysis.two_port_impedance import (
+from refplane.analysis.readings.two_port_impedance import (
     series_through_z, shunt_through_z, through_impedance, through_s21)
 
 # Generating circuits and bands: values a practitioner meets (parts of tens of ohms,
@@ -303,9 +303,9 @@ def test_demo_sweeps_are_named_correctly(name, expected):
     # Smoke check only: the demo sweeps are invented data (see sample_sweeps/README.md), so
     # they are no reference; this checks the automatic choice names each demo part.
     path = DEMO / name
-    if not path.exists() or importlib.util.find_spec("refplane.analysis.touchstone") is None:
+    if not path.exists() or importlib.util.find_spec("refplane.analysis.files.touchstone") is None:
         pytest.skip("demo sweeps or the Touchstone reader not present")
-    from refplane.analysis.loading import read_sweep
+    from refplane.analysis.files.loading import read_sweep
 
     assert fit_sweep(read_sweep(path)).model_id == expected
 

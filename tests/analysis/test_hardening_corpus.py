@@ -5,7 +5,7 @@ The corpus is made by ``tests/make_hardening_corpus.py`` (fixed seed); the expec
 the files that must be read come from the Touchstone 2.0 specification (matrix format and
 data order rules), the definition of RI/MA/DB data (Touchstone 1.1/2.0: MA is linear
 magnitude and angle in degrees, DB is 20·log10 of the magnitude), and the JSON layouts
-documented in ``refplane.analysis.calfile`` and ``refplane.analysis.standards``.
+documented in ``refplane.analysis.calibration.calfile`` and ``refplane.analysis.calibration.standards``.
 """
 
 from __future__ import annotations
@@ -23,9 +23,9 @@ import numpy as np
 import pytest
 
 from refplane.analysis.errors import AnalysisError, SweepFileError
-from refplane.analysis.fileio import MAX_INPUT_BYTES
-from refplane.analysis.loading import read_sweep
-from refplane.analysis.touchstone import TouchstoneWarning
+from refplane.analysis.files.fileio import MAX_INPUT_BYTES
+from refplane.analysis.files.loading import read_sweep
+from refplane.analysis.files.touchstone import TouchstoneWarning
 
 TESTS = pathlib.Path(__file__).resolve().parents[1]
 CORPUS = TESTS / "corpus" / "hardening"
@@ -45,11 +45,11 @@ def _generator():
 def _load(path: pathlib.Path):
     name = path.name
     if name.endswith(".standards.json"):
-        from refplane.analysis.standards import load_standards
+        from refplane.analysis.calibration.standards import load_standards
 
         return load_standards(path)
     if name.endswith(".cal.json"):
-        from refplane.analysis.calfile import load_calibration
+        from refplane.analysis.calibration.calfile import load_calibration
 
         return load_calibration(path)
     return read_sweep(path)
@@ -126,7 +126,7 @@ def test_lower_21_12_against_the_specification_example():
 def test_standard_uncertainties_round_trip(tmp_path):
     # A standards file's <key>_u companions come back on the Standard in SI (offset loss in
     # Ω/s: 0.1 GΩ/s = 1e8 Ω/s) and are written back in the file's units.
-    from refplane.analysis.standards import load_standards, save_standards
+    from refplane.analysis.calibration.standards import load_standards, save_standards
 
     kit = load_standards(CORPUS / "with_u.standards.json")
     assert kit.short.uncertainties == {"offset_delay_s": 0.5e-12, "offset_loss_ohm_per_s": 1e8}
@@ -140,7 +140,7 @@ def test_standard_uncertainties_round_trip(tmp_path):
 
 
 def test_standard_refuses_bad_uncertainty():
-    from refplane.analysis.standards import Standard
+    from refplane.analysis.calibration.standards import Standard
 
     with pytest.raises(AnalysisError, match="not a numeric field"):
         Standard("short", uncertainties={"colour": 1.0})
@@ -256,7 +256,7 @@ def test_control_characters_in_a_file_name_are_shown_escaped(tmp_path):
 
 
 def test_full_disk_and_read_only_folder_name_the_output_not_its_temporary(tmp_path, monkeypatch):
-    from refplane.analysis import fileio
+    from refplane.analysis.files import fileio
 
     target = tmp_path / "out.txt"
 
@@ -281,7 +281,7 @@ def test_full_disk_and_read_only_folder_name_the_output_not_its_temporary(tmp_pa
 
 
 def test_interrupted_write_keeps_the_old_file_and_leaves_no_temporary(tmp_path):
-    from refplane.analysis import fileio
+    from refplane.analysis.files import fileio
 
     target = tmp_path / "keep.txt"
     target.write_text("old content\n")

@@ -21,7 +21,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from refplane.analysis.errors import AnalysisError
-from refplane.analysis.impedance import (
+from refplane.analysis.readings.impedance import (
     Readout,
     gamma_to_y,
     gamma_to_z,

@@ -13,7 +13,7 @@ from refplane.analysis.limits import (
     QUANTITIES, conformance_probability, cpk_one_sided, evaluate_limit, evaluate_limits,
     limit_statistics, overall_decision, parse_limit, parse_limits_text, quantity_values, read_limits,
 )
-from refplane.analysis.impedance import Readout
+from refplane.analysis.readings.impedance import Readout
 from refplane.analysis.sweep import Sweep
 
 # --- grammar ---------------------------------------------------------------------------

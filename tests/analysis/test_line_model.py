@@ -7,10 +7,10 @@ import math
 import numpy as np
 import pytest
 
-from refplane.analysis.deembed import (DB_PER_NEPER, SPEED_OF_LIGHT_M_S, LineOffset, add_offsets,
+from refplane.analysis.lines.deembed import (DB_PER_NEPER, SPEED_OF_LIGHT_M_S, LineOffset, add_offsets,
                                        line_s, remove_offsets)
-from refplane.analysis.impedance import gamma_to_z, z_to_gamma
-from refplane.analysis.plane import estimate_plane
+from refplane.analysis.readings.impedance import gamma_to_z, z_to_gamma
+from refplane.analysis.lines.plane import estimate_plane
 from refplane.analysis.sweep import Sweep
 
 skrf = pytest.importorskip("skrf")

@@ -6,9 +6,10 @@ from __future__ import annotations
 
 import pytest
 
-from refplane.analysis import csvfile, touchstone
+from refplane.analysis.files import csvfile
+from refplane.analysis.files import touchstone
 from refplane.analysis.errors import SweepFileError
-from refplane.analysis.loading import read_sweep
+from refplane.analysis.files.loading import read_sweep
 
 GOOD_2PORT = "1 0.1 0.2 0.3 0.4 0.5 0.6 0.7 0.8\n"
 

@@ -17,8 +17,8 @@ import numpy as np
 import pytest
 
 from refplane.analysis.errors import AnalysisError
-from refplane.analysis.impedance import vswr, z_to_gamma
-from refplane.analysis.markers import (
+from refplane.analysis.readings.impedance import vswr, z_to_gamma
+from refplane.analysis.readings.markers import (
     check_inside,
     gamma_at,
     interpolate,

@@ -5,9 +5,9 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from refplane.analysis.deembed import SPEED_OF_LIGHT_M_S, LineOffset, add_offsets, remove_offsets
+from refplane.analysis.lines.deembed import SPEED_OF_LIGHT_M_S, LineOffset, add_offsets, remove_offsets
 from refplane.analysis.errors import AnalysisError
-from refplane.analysis.plane import estimate_plane
+from refplane.analysis.lines.plane import estimate_plane
 from refplane.analysis.sweep import Sweep
 
 skrf = pytest.importorskip("skrf")

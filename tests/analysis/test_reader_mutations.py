@@ -22,9 +22,9 @@ import warnings
 import numpy as np
 from hypothesis import given, strategies as st
 
-from refplane.analysis import touchstone
+from refplane.analysis.files import touchstone
 from refplane.analysis.errors import AnalysisError
-from refplane.analysis.touchstone import TouchstoneWarning
+from refplane.analysis.files.touchstone import TouchstoneWarning
 
 UNITS = {"hz": 1.0, "khz": 1e3, "mhz": 1e6, "ghz": 1e9}
 NUMBER = re.compile(r"[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?")

@@ -6,8 +6,8 @@ import numpy as np
 import pytest
 
 from refplane.analysis.errors import AnalysisError, SweepFileError
-from refplane.analysis.impedance import z_to_gamma
-from refplane.analysis.standards import (
+from refplane.analysis.readings.impedance import z_to_gamma
+from refplane.analysis.calibration.standards import (
     Standard, StandardSet, load_standards, reflection, save_standards, standards_from_json, through_s,
 )
 
@@ -160,7 +160,7 @@ def test_missing_sections_are_ideal():
 
 
 def test_data_file_definition(tmp_path):
-    pytest.importorskip("refplane.analysis.touchstone")
+    pytest.importorskip("refplane.analysis.files.touchstone")
     import skrf as rf
 
     # A known open response written by scikit-rf, read back as a data-file definition.

@@ -9,7 +9,7 @@ import warnings
 import numpy as np
 import pytest
 
-from refplane.analysis import touchstone
+from refplane.analysis.files import touchstone
 from refplane.analysis.errors import SweepFileError
 from refplane.analysis.sweep import Sweep
 

@@ -13,7 +13,7 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from refplane.analysis import touchstone
+from refplane.analysis.files import touchstone
 
 N = pytest.importorskip("skrf.network")
 

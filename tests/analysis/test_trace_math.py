@@ -16,9 +16,9 @@ import numpy as np
 import pytest
 
 from refplane.analysis.errors import AnalysisError
-from refplane.analysis.impedance import gamma_to_z, z_to_gamma
+from refplane.analysis.readings.impedance import gamma_to_z, z_to_gamma
 from refplane.analysis.sweep import Sweep
-from refplane.analysis.trace_math import chart_gamma, relative_to, renormalize
+from refplane.analysis.readings.trace_math import chart_gamma, relative_to, renormalize
 
 skrf = pytest.importorskip("skrf")
 DATA = pathlib.Path(skrf.__file__).parent / "data"

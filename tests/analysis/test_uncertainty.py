@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 
 from refplane.analysis.errors import AnalysisError
-from refplane.analysis.impedance import readout, z_to_gamma
+from refplane.analysis.readings.impedance import readout, z_to_gamma
 from refplane.analysis.sweep import Sweep
 from refplane.analysis.uncertainty.noise import interpolation_bound, repeat_noise, trace_noise
 from refplane.analysis.uncertainty.propagate import (
@@ -185,7 +185,7 @@ def test_region_is_the_95_percent_ellipse():
 def test_offset_delay_uncertainty_rotates_gamma():
     # Removing a delay τ multiplies Γ by e^{+j2ωτ}; an uncertainty u(τ) gives u(∠Γ) = 2ω·u(τ)
     # (the textbook line phase; GUM law of propagation).
-    from refplane.analysis.deembed import LineOffset
+    from refplane.analysis.lines.deembed import LineOffset
 
     f = np.linspace(1e8, 1e9, 91)
     sw = Sweep(f, 0.5 * np.exp(-2j * np.pi * f * 1e-9), Z0)
@@ -223,7 +223,7 @@ def test_fit_systematic_part_matches_the_linear_sensitivity():
     # A 75 Ω resistor (Γ = 0.2) with one residual directivity D of unknown phase, the same at
     # every point: the fitted R moves by Re(dZ/dΓ · D e^{jφ}) with dZ/dΓ = 2·Z0/(1 − Γ)²
     # (differentiating Γ → Z, Pozar ch. 2), so its standard uncertainty is 2·Z0/(1 − Γ)²·D/√2.
-    from refplane.analysis.fitting import fit_reflection
+    from refplane.analysis.circuits.fitting import fit_reflection
     from refplane.analysis.uncertainty.fitunc import fit_uncertainty
 
     f = np.linspace(1e6, 1e8, 41)

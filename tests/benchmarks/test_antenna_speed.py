@@ -3,7 +3,7 @@
 Run on demand: ``pytest tests/benchmarks/test_antenna_speed.py -s -p no:randomly``. Ratios,
 measured in the same run, not absolute times.
 
-The reference is :func:`refplane.analysis.impedance.readout` over every point of the same
+The reference is :func:`refplane.analysis.readings.impedance.readout` over every point of the same
 sweep (Z, VSWR, return loss, Q … per point): the least the window or the command line does
 with a sweep. The resonance search (resonances, best match, the 2:1 and 1.5:1 bands, the
 largest |Z|) should cost about as much as that (within 1.25×, room for noise on a shared
@@ -21,7 +21,7 @@ import pytest
 
 from refplane.analysis.antenna.matching import match_sweep
 from refplane.analysis.antenna.resonance import analyse
-from refplane.analysis.impedance import readout
+from refplane.analysis.readings.impedance import readout
 from refplane.analysis.sweep import Sweep
 
 pytestmark = pytest.mark.benchmark

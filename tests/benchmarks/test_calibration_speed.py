@@ -8,7 +8,7 @@ import warnings
 import numpy as np
 import pytest
 
-from refplane.analysis.calibration import solve_one_port
+from refplane.analysis.calibration.solve import solve_one_port
 
 pytestmark = pytest.mark.benchmark
 

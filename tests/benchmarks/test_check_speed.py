@@ -36,7 +36,7 @@ import time
 import numpy as np
 import pytest
 
-from refplane.analysis import touchstone
+from refplane.analysis.files import touchstone
 from refplane.analysis.sweep import Sweep
 from refplane.batch import default_jobs
 

@@ -16,7 +16,7 @@ import time
 import numpy as np
 import pytest
 
-from refplane.analysis.deembed import LineOffset, remove_offsets
+from refplane.analysis.lines.deembed import LineOffset, remove_offsets
 from refplane.analysis.sweep import Sweep
 
 pytestmark = pytest.mark.benchmark

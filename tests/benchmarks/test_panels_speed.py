@@ -30,7 +30,7 @@ def _median_time(fn, runs: int = 25) -> float:
 
 def _cable_with_joint(n: int = 10_001):
     """Two reflections along a line (superposition, textbook): a joint at 1 m and a device at 3 m."""
-    from refplane.analysis.deembed import SPEED_OF_LIGHT_M_S as C
+    from refplane.analysis.lines.deembed import SPEED_OF_LIGHT_M_S as C
     from refplane.analysis.sweep import Sweep
 
     f = np.linspace(10e6, 6e9, n)

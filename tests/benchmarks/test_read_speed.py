@@ -37,7 +37,7 @@ import warnings
 import numpy as np
 import pytest
 
-from refplane.analysis import touchstone
+from refplane.analysis.files import touchstone
 from refplane.analysis.sweep import Sweep
 
 pytestmark = pytest.mark.benchmark

@@ -107,7 +107,7 @@ def _median_time(fn, runs: int = 25) -> float:
 
 
 def _big_sweep(n: int = 100_000, scale: float = 1.0):
-    from refplane.analysis.impedance import z_to_gamma
+    from refplane.analysis.readings.impedance import z_to_gamma
     from refplane.analysis.sweep import Sweep
 
     f = np.linspace(1e6, 1e9, n)
@@ -186,9 +186,9 @@ def test_marker_move_and_redraw_100k_points(qtbot, qapp):
 
 
 def _write_big_file(path) -> int:
-    from refplane.analysis.impedance import z_to_gamma
+    from refplane.analysis.readings.impedance import z_to_gamma
     from refplane.analysis.sweep import Sweep
-    from refplane.analysis.touchstone import write
+    from refplane.analysis.files.touchstone import write
 
     n = 170_000  # 2-port RI rows of about 200 bytes: about 34 MB
     f = np.linspace(1e6, 6e9, n)

@@ -18,7 +18,7 @@ import sys
 import numpy as np
 import pytest
 
-from refplane.analysis import touchstone
+from refplane.analysis.files import touchstone
 from refplane.analysis.sweep import Sweep
 from refplane.cli import main
 

@@ -17,7 +17,7 @@ import sys
 import numpy as np
 import pytest
 
-from refplane.analysis import touchstone
+from refplane.analysis.files import touchstone
 from refplane.analysis.sweep import Sweep
 from refplane.cli import main
 
@@ -205,8 +205,8 @@ def test_calibration_is_applied_before_the_limits(tmp_path, capsys):
     # One-port three-term error model (references: Γm = e00 + e10e01·Γ/(1 − e11·Γ), from
     # memory): the raw device reads |Γm| = 0.1 + 0.9·0.1/(1 − 0.005) = 0.1905 (VSWR 1.47), the
     # corrected one |Γ| = 0.1 (VSWR 1.222).
-    from refplane.analysis.calfile import save_calibration
-    from refplane.analysis.calibration import calibrate
+    from refplane.analysis.calibration.calfile import save_calibration
+    from refplane.analysis.calibration.solve import calibrate
 
     e00, e11, e10e01 = 0.1, 0.05, 0.9
 

@@ -15,7 +15,7 @@ import numpy as np
 import pytest
 
 import refplane.cli as cli
-from refplane.analysis import touchstone
+from refplane.analysis.files import touchstone
 from refplane.analysis.sweep import Sweep
 from refplane.cli import join_split_values, main
 

@@ -9,8 +9,8 @@ import json
 import numpy as np
 import pytest
 
-from refplane.analysis import touchstone
-from refplane.analysis.standards import Standard, reflection
+from refplane.analysis.files import touchstone
+from refplane.analysis.calibration.standards import Standard, reflection
 from refplane.analysis.sweep import Sweep
 from refplane.cli import main as _main
 

@@ -18,8 +18,8 @@ skrf = pytest.importorskip("skrf")
 @pytest.fixture
 def sweep_reader(monkeypatch):
     """Until Refplane's own Touchstone reader lands, read the files with scikit-rf instead."""
-    if importlib.util.find_spec("refplane.analysis.touchstone") is None:
-        import refplane.analysis.loading as loading
+    if importlib.util.find_spec("refplane.analysis.files.touchstone") is None:
+        import refplane.analysis.files.loading as loading
 
         def read_with_skrf(path):
             import os
@@ -132,7 +132,7 @@ def test_missing_file_exits_2(tmp_path, sweep_reader, capsys):
 def test_help_text_lists_exactly_the_models_the_analysis_layer_has():
     # The command line keeps the model list as text so `refplane --help` stays light; it must
     # never drift from the analysis layer's library.
-    from refplane.analysis.circuits import MODELS
+    from refplane.analysis.circuits.models import MODELS
     from refplane.cli import fit as fit_cli
 
     assert set(fit_cli._MODEL_IDS) == set(MODELS) | {"auto"}

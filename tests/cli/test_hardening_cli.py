@@ -14,7 +14,7 @@ import textwrap
 import numpy as np
 import pytest
 
-from refplane.analysis import touchstone
+from refplane.analysis.files import touchstone
 from refplane.analysis.sweep import Sweep
 from refplane.cli import main as _main
 
@@ -62,7 +62,7 @@ def test_every_refused_corpus_file_is_one_line_and_status_2(name, tmp_path, caps
 def test_missing_end_is_read_with_a_one_line_warning(capsys):
     import warnings
 
-    from refplane.analysis.touchstone import TouchstoneWarning
+    from refplane.analysis.files.touchstone import TouchstoneWarning
 
     with warnings.catch_warnings():
         warnings.simplefilter("always", TouchstoneWarning)  # as outside pytest's -W error
@@ -127,7 +127,7 @@ def test_named_pipe_as_a_process_does_not_hang(tmp_path):
 # removes its temporary file, and the old output stays as it was.
 _CHILD = textwrap.dedent("""
     import os, signal, sys
-    from refplane.analysis import fileio
+    from refplane.analysis.files import fileio
     real_chmod = os.chmod
     def chmod_then_term(path, mode):
         real_chmod(path, mode)

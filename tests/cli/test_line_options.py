@@ -10,7 +10,7 @@ import shlex
 import numpy as np
 import pytest
 
-from refplane.analysis.deembed import LineOffset
+from refplane.analysis.lines.deembed import LineOffset
 from refplane.cli import main
 from refplane.cli.offsets import add_offset_options, offset_from_args
 

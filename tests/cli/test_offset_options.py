@@ -8,7 +8,7 @@ import json
 import numpy as np
 import pytest
 
-from refplane.analysis.deembed import SPEED_OF_LIGHT_M_S, LineOffset, add_offsets
+from refplane.analysis.lines.deembed import SPEED_OF_LIGHT_M_S, LineOffset, add_offsets
 from refplane.analysis.errors import AnalysisError
 from refplane.analysis.sweep import Sweep
 from refplane.cli import main

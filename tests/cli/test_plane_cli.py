@@ -7,7 +7,7 @@ import json
 import numpy as np
 import pytest
 
-from refplane.analysis.deembed import SPEED_OF_LIGHT_M_S
+from refplane.analysis.lines.deembed import SPEED_OF_LIGHT_M_S
 from refplane.cli import main
 
 skrf = pytest.importorskip("skrf")

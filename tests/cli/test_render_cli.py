@@ -8,9 +8,9 @@ import sys
 
 import pytest
 
-from refplane.analysis.impedance import z_to_gamma
+from refplane.analysis.readings.impedance import z_to_gamma
 from refplane.analysis.sweep import Sweep
-from refplane.analysis.touchstone import write
+from refplane.analysis.files.touchstone import write
 from refplane.cli import main
 
 
@@ -53,7 +53,7 @@ def test_svg_output(sweep_file, tmp_path):
 
 @pytest.mark.needs_qt
 def test_legend_lines_come_from_summary_line(qapp, sweep_file):
-    from refplane.analysis.loading import read_sweep
+    from refplane.analysis.files.loading import read_sweep
     from refplane.analysis.readings import read_points
     from refplane.session.present import summary_line
     from refplane.views.render import ChartPicture
@@ -136,7 +136,7 @@ def test_input_is_checked_before_qt_is_touched(sweep_file, tmp_path, args, words
 
 
 def test_render_session_of_a_missing_sweep_is_one_line(tmp_path, sweep_file):
-    from refplane.analysis.loading import read_sweep
+    from refplane.analysis.files.loading import read_sweep
     from refplane.session.files import save_session
     from refplane.session.model import Session
 

@@ -15,7 +15,7 @@ from html.parser import HTMLParser
 import numpy as np
 import pytest
 
-from refplane.analysis import touchstone
+from refplane.analysis.files import touchstone
 from refplane.analysis.sweep import Sweep
 from refplane.cli import main
 

@@ -7,8 +7,8 @@ import json
 import numpy as np
 import pytest
 
-from refplane.analysis.deembed import SPEED_OF_LIGHT_M_S as C
-from refplane.analysis.loading import read_sweep
+from refplane.analysis.lines.deembed import SPEED_OF_LIGHT_M_S as C
+from refplane.analysis.files.loading import read_sweep
 from refplane.cli import main
 
 skrf = pytest.importorskip("skrf")

@@ -9,9 +9,9 @@ import math
 import numpy as np
 import pytest
 
-from refplane.analysis import touchstone
-from refplane.analysis.impedance import z_to_gamma
-from refplane.analysis.standards import reflection, standards_from_json
+from refplane.analysis.files import touchstone
+from refplane.analysis.readings.impedance import z_to_gamma
+from refplane.analysis.calibration.standards import reflection, standards_from_json
 from refplane.analysis.sweep import Sweep
 from refplane.analysis.uncertainty.propagate import U_KEYS
 from refplane.cli import main as _main

@@ -9,8 +9,8 @@ from pathlib import Path
 
 import pytest
 
-from refplane.analysis.deembed import LineOffset
-from refplane.analysis.loading import read_sweep
+from refplane.analysis.lines.deembed import LineOffset
+from refplane.analysis.files.loading import read_sweep
 from refplane.analysis.readings import read_points
 from refplane.cli import main
 from refplane.session.files import save_session

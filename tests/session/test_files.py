@@ -9,7 +9,7 @@ from pathlib import Path
 
 import pytest
 
-from refplane.analysis.deembed import LineOffset
+from refplane.analysis.lines.deembed import LineOffset
 from refplane.analysis.errors import AnalysisError
 from refplane.session import files as session_files
 from refplane.session.files import VERSION, open_session, read_session, save_session
@@ -23,7 +23,7 @@ def _work(folder):
     paths = [write_sweep(resistor_with_leads(), folder / "r75.s1p"),
              write_sweep(series_rc(), folder / "rc.s1p"),
              write_sweep(two_port_attenuator(), folder / "pad.s2p")]
-    from refplane.analysis.loading import read_sweep
+    from refplane.analysis.files.loading import read_sweep
 
     s = Session()
     ids = [s.add_sweep(read_sweep(p)) for p in paths]

@@ -7,8 +7,8 @@ import math
 import numpy as np
 import pytest
 
-from refplane.analysis.deembed import LineOffset
-from refplane.analysis.impedance import z_to_gamma
+from refplane.analysis.lines.deembed import LineOffset
+from refplane.analysis.readings.impedance import z_to_gamma
 from refplane.analysis.sweep import Sweep
 from refplane.session import searches
 from refplane.session.model import Session
@@ -125,7 +125,7 @@ def test_search_specs_are_checked():
 
 
 def test_following_markers_survive_a_session_file(tmp_path):
-    from refplane.analysis.loading import read_sweep
+    from refplane.analysis.files.loading import read_sweep
     from refplane.session.files import open_session, save_session
 
     from model_sweeps import write_sweep
@@ -145,7 +145,7 @@ def test_a_hand_edited_search_in_a_session_file_is_refused_clearly(tmp_path):
     import json
 
     from refplane.analysis.errors import AnalysisError
-    from refplane.analysis.loading import read_sweep
+    from refplane.analysis.files.loading import read_sweep
     from refplane.session.files import open_session, save_session
 
     from model_sweeps import write_sweep

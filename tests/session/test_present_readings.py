@@ -15,7 +15,7 @@ import numpy as np
 import pytest
 
 from refplane.analysis.errors import AnalysisError
-from refplane.analysis.impedance import readout, z_to_gamma
+from refplane.analysis.readings.impedance import readout, z_to_gamma
 from refplane.analysis.readings import read_points
 from refplane.session.present import readout_cells, series_part, summary_line
 from refplane.analysis.sweep import Sweep

@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from refplane.analysis.deembed import LineOffset
+from refplane.analysis.lines.deembed import LineOffset
 from refplane.analysis.readings import read_points
 from refplane.session import resolve as resolve_module
 from refplane.session.model import Session

@@ -6,8 +6,8 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from refplane.analysis.deembed import LineOffset
-from refplane.analysis.impedance import z_to_gamma
+from refplane.analysis.lines.deembed import LineOffset
+from refplane.analysis.readings.impedance import z_to_gamma
 from refplane.analysis.sweep import Sweep
 from refplane.session.model import Session
 
@@ -78,7 +78,7 @@ def test_a_trace_relative_to_its_stored_self_before_a_line_is_removed():
 
 
 def test_memory_and_chart_reference_survive_a_session_file(tmp_path):
-    from refplane.analysis.loading import read_sweep
+    from refplane.analysis.files.loading import read_sweep
     from refplane.session.files import open_session, save_session
 
     from model_sweeps import write_sweep

@@ -10,12 +10,12 @@ import math
 import numpy as np
 import pytest
 
-from refplane.analysis.calfile import save_calibration
-from refplane.analysis.calibration import calibrate
-from refplane.analysis.deembed import LineOffset
+from refplane.analysis.calibration.calfile import save_calibration
+from refplane.analysis.calibration.solve import calibrate
+from refplane.analysis.lines.deembed import LineOffset
 from refplane.analysis.errors import AnalysisError
-from refplane.analysis.impedance import z_to_gamma
-from refplane.analysis.standards import reflection, standards_from_json
+from refplane.analysis.readings.impedance import z_to_gamma
+from refplane.analysis.calibration.standards import reflection, standards_from_json
 from refplane.analysis.sweep import Sweep
 from refplane.analysis.uncertainty.calprop import calibration_uncertainty as propagate_calibration
 from refplane.analysis.uncertainty.reading import UncertaintyOptions, uncertain_points
@@ -86,7 +86,7 @@ def test_the_trace_path_carries_the_offsets_and_their_uncertainty():
     s = dataclasses.replace(ON, noise="none")
     u0 = uv.trace_uncertainty(s, trace, [469e6])
     # The reading's Γ is the displayed one (offset removed), at a swept point.
-    from refplane.analysis.markers import gamma_at
+    from refplane.analysis.readings.markers import gamma_at
 
     assert abs(u0.gamma[0] - gamma_at(trace.displayed, 469e6, 1)) < 1e-9
     # A ±5 ps delay moves the phase (GUM sensitivity: 2·2π·f·u(τ) rad on a round trip); |Γ| hardly.

@@ -10,8 +10,8 @@ import pytest
 
 from refplane.analysis.antenna.matching import match_sweep
 from refplane.analysis.antenna.resonance import analyse
-from refplane.analysis.deembed import LineOffset
-from refplane.analysis.impedance import z_to_gamma
+from refplane.analysis.lines.deembed import LineOffset
+from refplane.analysis.readings.impedance import z_to_gamma
 from refplane.analysis.sweep import Sweep
 from refplane.session import tool_text, tools
 from refplane.session.model import Session

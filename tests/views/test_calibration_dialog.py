@@ -12,9 +12,9 @@ import numpy as np
 import pytest
 from PySide6.QtCore import Qt
 
-from refplane.analysis import touchstone
-from refplane.analysis.impedance import z_to_gamma
-from refplane.analysis.standards import Standard, reflection
+from refplane.analysis.files import touchstone
+from refplane.analysis.readings.impedance import z_to_gamma
+from refplane.analysis.calibration.standards import Standard, reflection
 from refplane.analysis.sweep import Sweep
 from refplane.views.calibration_dialog import CalibrationDialog
 from refplane.session.model import Session
@@ -85,7 +85,7 @@ def test_solve_shows_terms_verdict_and_corrects_a_file_into_a_new_trace(dialog, 
 
 
 def test_open_trace_as_device(dialog, files):
-    from refplane.analysis.loading import read_sweep
+    from refplane.analysis.files.loading import read_sweep
 
     tid = dialog.state.add_sweep(read_sweep(files["dut"]), name="bench sweep")
     choose_standards(dialog, files)
@@ -303,7 +303,7 @@ def test_everything_is_in_view_on_laptop_screens_and_long_paths_widen_nothing(la
 
 @pytest.mark.parametrize("laptop_dialog", ["1024x768"], indirect=True)
 def test_every_row_of_every_standard_shows_at_the_default_size(laptop_dialog):
-    from refplane.analysis.standards import definition_keys
+    from refplane.analysis.calibration.standards import definition_keys
 
     d, table = laptop_dialog, laptop_dialog.definition_table
     for i in range(d.kind_combo.count()):

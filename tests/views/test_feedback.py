@@ -149,7 +149,7 @@ def test_the_faded_uncorrected_trace_stays_visible(theme):
 
 
 def test_the_chart_and_plots_draw_the_faded_trace_at_the_theme_opacity(window, qtbot):
-    from refplane.analysis.deembed import LineOffset
+    from refplane.analysis.lines.deembed import LineOffset
 
     tid = window.state.add_sweep(resistor_with_leads())
     window.state.set_offsets(tid, (LineOffset(delay_s=20e-12),))

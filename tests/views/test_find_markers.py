@@ -9,7 +9,7 @@ import numpy as np
 import pytest
 from PySide6.QtWidgets import QInputDialog
 
-from refplane.analysis.impedance import z_to_gamma
+from refplane.analysis.readings.impedance import z_to_gamma
 from refplane.analysis.sweep import Sweep
 from refplane.views.main_window import MainWindow
 
@@ -41,7 +41,7 @@ def _action(menu, text):
 
 
 def test_find_menu_places_markers_that_follow(window, qtbot, monkeypatch):
-    from refplane.analysis.deembed import LineOffset
+    from refplane.analysis.lines.deembed import LineOffset
 
     menu = window.find_menu
     _action(menu, "Resonances (X = 0)").trigger()

@@ -5,8 +5,8 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from refplane.analysis.circuits import MODELS
-from refplane.analysis.impedance import z_to_gamma
+from refplane.analysis.circuits.models import MODELS
+from refplane.analysis.readings.impedance import z_to_gamma
 from refplane.analysis.sweep import Sweep
 from refplane.views.panels.fit_panel import OVERLAY_NAME, FitPanel
 from refplane.session.model import Session
@@ -108,7 +108,7 @@ def test_closing_the_fitted_trace_clears_the_result(qtbot, panel):
 
 
 def test_changing_the_trace_after_a_fit_asks_for_a_refit(qtbot, panel):
-    from refplane.analysis.deembed import LineOffset
+    from refplane.analysis.lines.deembed import LineOffset
 
     tid = panel.state.add_sweep(resistor_with_leads())
     assert _fit(qtbot, panel)

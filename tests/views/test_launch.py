@@ -97,7 +97,7 @@ def test_demo_constant_is_one_name():
     assert demo.DEMO_SWEEP.endswith((".s1p", ".s2p"))
     path = demo.demo_path()
     if path is not None:
-        from refplane.analysis.loading import read_sweep
+        from refplane.analysis.files.loading import read_sweep
 
         assert read_sweep(path).n_points > 10
     else:

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from refplane.analysis.loading import read_sweep
+from refplane.analysis.files.loading import read_sweep
 from refplane.views import loader as loader_module
 from refplane.views.loader import SweepLoader
 

@@ -7,7 +7,7 @@ import pytest
 from PySide6.QtCore import QPoint, QPointF, Qt
 from PySide6.QtGui import QWheelEvent
 
-from refplane.analysis.deembed import SPEED_OF_LIGHT_M_S, LineOffset, add_offsets
+from refplane.analysis.lines.deembed import SPEED_OF_LIGHT_M_S, LineOffset, add_offsets
 from refplane.analysis.sweep import Sweep
 from refplane.views.panels.offsets_panel import OffsetsPanel
 from refplane.session.model import Session
@@ -191,7 +191,7 @@ def test_estimate_failure_is_a_message_not_a_crash(setup, qtbot):
 
 
 def test_save_corrected_sweep_records_offsets_and_protects_the_original(setup, qtbot, tmp_path):
-    from refplane.analysis import touchstone
+    from refplane.analysis.files import touchstone
 
     state, panel = setup
     source = tmp_path / "cable_open.s1p"

@@ -8,7 +8,7 @@ import math
 import numpy as np
 import pytest
 
-from refplane.analysis.impedance import z_to_gamma
+from refplane.analysis.readings.impedance import z_to_gamma
 from refplane.analysis.sweep import Sweep
 from refplane.session.model import Session
 from refplane.views.plots import CompanionPlots

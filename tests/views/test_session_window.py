@@ -7,7 +7,7 @@ import numpy as np
 import pytest
 from PySide6.QtGui import QImage
 
-from refplane.analysis.deembed import LineOffset
+from refplane.analysis.lines.deembed import LineOffset
 from refplane.views import loader as loader_module
 from refplane.views.main_window import MainWindow
 

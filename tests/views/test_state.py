@@ -73,7 +73,7 @@ def test_zero_offsets_are_identity_without_deembedding():
 
 
 def test_offsets_use_deembed_when_present():
-    deembed = pytest.importorskip("refplane.analysis.deembed")
+    deembed = pytest.importorskip("refplane.analysis.lines.deembed")
     state = Session()
     sweep = resistor_with_leads()
     tid = state.add_sweep(sweep)

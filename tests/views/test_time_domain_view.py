@@ -6,7 +6,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from refplane.analysis.deembed import DB_PER_NEPER, SPEED_OF_LIGHT_M_S
+from refplane.analysis.lines.deembed import DB_PER_NEPER, SPEED_OF_LIGHT_M_S
 from refplane.analysis.lines.time_domain import gate, time_response
 from refplane.analysis.sweep import Sweep
 from refplane.session import tool_text

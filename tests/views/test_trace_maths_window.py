@@ -6,8 +6,8 @@ import numpy as np
 import pytest
 from PySide6.QtWidgets import QInputDialog
 
-from refplane.analysis.deembed import LineOffset
-from refplane.analysis.impedance import z_to_gamma
+from refplane.analysis.lines.deembed import LineOffset
+from refplane.analysis.readings.impedance import z_to_gamma
 from refplane.analysis.sweep import Sweep
 from refplane.views.main_window import MainWindow
 

@@ -7,7 +7,7 @@ import pytest
 from PySide6.QtCore import QPointF, Qt
 from PySide6.QtGui import QImage
 
-from refplane.analysis.loading import read_sweep
+from refplane.analysis.files.loading import read_sweep
 from refplane.analysis.readings import read_points
 from refplane.session.present import readout_cells
 from refplane.views.main_window import MainWindow
@@ -235,7 +235,7 @@ def test_trace_list_hide_rename_recolour_close(qtbot, window, files):
 
 
 def test_offsets_show_raw_faded_and_corrected(qtbot, window, files):
-    from refplane.analysis.deembed import LineOffset, remove_offsets
+    from refplane.analysis.lines.deembed import LineOffset, remove_offsets
 
     _open(qtbot, window, [files["r75"]])
     tid = window.state.trace_ids()[0]
@@ -250,7 +250,7 @@ def test_offsets_show_raw_faded_and_corrected(qtbot, window, files):
 
 
 def test_hover_reads_impedance_under_cursor(qtbot, window, files):
-    from refplane.analysis.impedance import z_to_gamma
+    from refplane.analysis.readings.impedance import z_to_gamma
 
     _open(qtbot, window, [files["r75"]])
     # Γ of 100 + j50 Ω on 50 Ω: the hover line must read it back (bilinear map, textbook).
@@ -289,7 +289,7 @@ def test_plot_marker_line_drag_moves_marker(qtbot, window, files):
 
 
 def test_companion_plot_values_equal_analysis(qtbot, window, files):
-    from refplane.analysis.impedance import return_loss_db
+    from refplane.analysis.readings.impedance import return_loss_db
 
     _open(qtbot, window, [files["r75"]])
     sweep = read_sweep(files["r75"])

@@ -25,7 +25,7 @@ Evaluation
 ----------
 A limit is tested at every swept point inside the band and at the band edges themselves
 (values there are interpolated as everywhere else in Refplane: the complex S-parameter
-linearly between the neighbouring swept points, see :mod:`refplane.analysis.markers`). The
+linearly between the neighbouring swept points, see :mod:`refplane.analysis.readings.markers`). The
 band must lie inside the sweep; Refplane does not extrapolate. A point where the quantity has
 no value (series C while the part is inductive, say) does not conform.
 
@@ -440,7 +440,7 @@ def quantity_values(sweep: Sweep, quantity: str, freq_hz, *, port: int = 1) -> n
         For an unknown quantity, a transmission quantity of a one-port sweep, a port the
         sweep does not have, or a frequency outside the sweep.
     """
-    from refplane.analysis.markers import interpolate
+    from refplane.analysis.readings.markers import interpolate
 
     if quantity not in QUANTITIES:
         raise AnalysisError(f"{quantity!r} is not a quantity a limit can test{_closest(quantity, QUANTITIES)}")
@@ -454,7 +454,7 @@ def quantity_values(sweep: Sweep, quantity: str, freq_hz, *, port: int = 1) -> n
             with np.errstate(divide="ignore"):
                 return 20.0 * np.log10(np.abs(s21))
         return np.degrees(np.angle(s21))
-    from refplane.analysis import impedance
+    from refplane.analysis.readings import impedance
 
     sweep.check_port(port)
     gamma = np.atleast_1d(interpolate(sweep.freq_hz, sweep.reflection(port), at))
@@ -479,7 +479,7 @@ def band_frequencies(sweep: Sweep, band_hz: tuple[float, float]) -> np.ndarray:
     AnalysisError
         When the band reaches outside the sweep (Refplane does not extrapolate).
     """
-    from refplane.analysis.markers import check_inside
+    from refplane.analysis.readings.markers import check_inside
     from refplane.analysis.units import format_frequency
 
     low, high = band_hz
@@ -496,7 +496,7 @@ def band_frequencies(sweep: Sweep, band_hz: tuple[float, float]) -> np.ndarray:
 
 
 def _expanded_u(u, sweep: Sweep, freq_hz: np.ndarray) -> np.ndarray:
-    from refplane.analysis.markers import interpolate
+    from refplane.analysis.readings.markers import interpolate
 
     arr = np.asarray(u, dtype=np.float64)
     if arr.ndim == 0:

@@ -154,7 +154,7 @@ def main(argv: list[str] | None = None) -> int:
         return 2
     except OSError as exc:
         from refplane.analysis.errors import printable, shorten
-        from refplane.analysis.fileio import path_problem
+        from refplane.analysis.files.fileio import path_problem
 
         name = getattr(exc, "filename", None)
         where = f"{shorten(printable(str(name)), 80, keep_end=True)}: " if name else ""

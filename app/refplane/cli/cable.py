@@ -47,7 +47,7 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
 
 def run(args: argparse.Namespace) -> int:
     from refplane.analysis.lines.cable import characterise_cable
-    from refplane.analysis.loading import read_sweep
+    from refplane.analysis.files.loading import read_sweep
 
     cable = characterise_cable(read_sweep(args.open_file), read_sweep(args.short_file), port=args.port,
                                length_m=args.length, velocity_factor=args.vf, band_hz=args.band,

@@ -120,7 +120,7 @@ def preparation_from_args(args: argparse.Namespace):
 
     cal = None
     if getattr(args, "cal", None):
-        from refplane.analysis.calfile import load_calibration
+        from refplane.analysis.calibration.calfile import load_calibration
 
         cal = load_calibration(args.cal)
     return Preparation(port=args.port, calibration=cal, interpolate=getattr(args, "interpolate", False),

@@ -147,10 +147,10 @@ def _check_can_make(folder: Path) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from refplane.analysis.calibration import calibrate, correct
+    from refplane.analysis.calibration.solve import calibrate, correct
     from refplane.analysis.errors import AnalysisError
-    from refplane.analysis.fileio import check_output
-    from refplane.analysis.loading import read_sweep
+    from refplane.analysis.files.fileio import check_output
+    from refplane.analysis.files.loading import read_sweep
 
     standards_given = [n for n in ("short", "open", "load", "through", "isolation")
                        if getattr(args, n)] + (["extra"] if args.extra else []) + \
@@ -201,11 +201,11 @@ def run(args: argparse.Namespace) -> int:
 
     std = measured = checks = None
     if args.cal:
-        from refplane.analysis.calfile import load_calibration
+        from refplane.analysis.calibration.calfile import load_calibration
 
         cal = load_calibration(args.cal)
         if args.standards:
-            from refplane.analysis.standards import load_standards
+            from refplane.analysis.calibration.standards import load_standards
 
             std = load_standards(args.standards)
     else:
@@ -235,7 +235,7 @@ def run(args: argparse.Namespace) -> int:
             print("  (no propagated uncertainty: this calibration file was saved without one)", file=log)
     written: list[str] = []
     if args.save_cal:
-        from refplane.analysis.calfile import save_calibration
+        from refplane.analysis.calibration.calfile import save_calibration
 
         save_calibration(cal, args.save_cal, overwrite=args.force)
         written.append(args.save_cal)
@@ -246,11 +246,11 @@ def run(args: argparse.Namespace) -> int:
             try:
                 Path(args.output).mkdir(parents=True, exist_ok=True)
             except OSError as exc:
-                from refplane.analysis.fileio import path_problem
+                from refplane.analysis.files.fileio import path_problem
 
                 raise AnalysisError(f"cannot make the folder: {path_problem(exc)}",
                                     file=args.output) from None
-    from refplane.analysis import touchstone
+    from refplane.analysis.files import touchstone
 
     for i, (src, result, path) in enumerate(zip(args.duts, corrected, paths)):
         for w in result.warnings:
@@ -314,7 +314,7 @@ def _uncertainty_summary(cal) -> dict | None:
 def _calibrate_from_args(args, calibrate, read_sweep):
     import dataclasses
 
-    from refplane.analysis.standards import StandardSet, load_standards
+    from refplane.analysis.calibration.standards import StandardSet, load_standards
     from refplane.analysis.uncertainty.calprop import calibration_uncertainty
 
     std = load_standards(args.standards) if args.standards else StandardSet()

@@ -89,10 +89,10 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
 
 def run(args: argparse.Namespace) -> int:
     from refplane.analysis.antenna.feedline import toward_antenna, toward_radio
-    from refplane.analysis.deembed import LineOffset
-    from refplane.analysis.impedance import gamma_to_z
-    from refplane.analysis.loading import read_sweep
-    from refplane.analysis.markers import gamma_at
+    from refplane.analysis.lines.deembed import LineOffset
+    from refplane.analysis.readings.impedance import gamma_to_z
+    from refplane.analysis.files.loading import read_sweep
+    from refplane.analysis.readings.markers import gamma_at
     from refplane.analysis.units import format_frequency, format_si
 
     sweep = read_sweep(args.file)

@@ -63,8 +63,8 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from refplane.analysis.fitting import fit_sweep, ranking_rows
-    from refplane.analysis.loading import read_sweep
+    from refplane.analysis.circuits.fitting import fit_sweep, ranking_rows
+    from refplane.analysis.files.loading import read_sweep
     from refplane.analysis.units import format_frequency, format_si
 
     from refplane.analysis.uncertainty.fitunc import fit_uncertainty
@@ -72,8 +72,8 @@ def run(args: argparse.Namespace) -> int:
     sweep = read_sweep(args.file)
     cal_u = None
     if args.cal:
-        from refplane.analysis.calfile import load_calibration
-        from refplane.analysis.calibration import correct
+        from refplane.analysis.calibration.calfile import load_calibration
+        from refplane.analysis.calibration.solve import correct
 
         cal = load_calibration(args.cal)
         sweep = correct(cal, sweep, interpolate=True).sweep
@@ -102,8 +102,8 @@ def run(args: argparse.Namespace) -> int:
     print(result.sentence())
     print()
     if unc is not None and unc.draws:
-        from refplane.analysis.fitting import format_with_error
-        from refplane.analysis.circuits import unit_of
+        from refplane.analysis.circuits.fitting import format_with_error
+        from refplane.analysis.circuits.models import unit_of
 
         rows = [(k, v, e, format_with_error(result.params[k], unc.expanded[k], unit_of(k)).partition(" ± ")[2])
                 for k, v, e in result.table_rows()]
@@ -115,7 +115,7 @@ def run(args: argparse.Namespace) -> int:
         print(format_table(["parameter", "value", "std. error"], result.table_rows()))
     derived = []
     if "srf_hz" in result.derived:
-        from refplane.analysis.fitting import format_with_error
+        from refplane.analysis.circuits.fitting import format_with_error
 
         srf = result.derived["srf_hz"]
         derived.append(("self-resonance",

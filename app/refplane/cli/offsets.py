@@ -30,7 +30,7 @@ from refplane.cli.common import arg_type
 
 
 def _parse_vf(text: str) -> float:
-    from refplane.analysis.deembed import check_velocity_factor
+    from refplane.analysis.lines.deembed import check_velocity_factor
 
     return check_velocity_factor(text)
 
@@ -96,7 +96,7 @@ def offset_from_args(args: argparse.Namespace):
     AnalysisError
         For ``--vf`` without ``--length`` (or the reverse), or ``--line-z0`` with no line.
     """
-    from refplane.analysis.deembed import LineOffset
+    from refplane.analysis.lines.deembed import LineOffset
 
     delay = getattr(args, "offset_delay_s", None)
     length = getattr(args, "offset_length_m", None)
@@ -175,7 +175,7 @@ def apply_offsets(args: argparse.Namespace, sweep):
         The corrected sweep (the input itself when no line was given) and plain lines
         saying what was removed, one per port with a line.
     """
-    from refplane.analysis.deembed import describe_offsets, remove_offsets
+    from refplane.analysis.lines.deembed import describe_offsets, remove_offsets
 
     offsets = offsets_from_args(args, sweep)
     if offsets is None:

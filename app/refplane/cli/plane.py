@@ -41,8 +41,8 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from refplane.analysis.loading import read_sweep
-    from refplane.analysis.plane import estimate_plane
+    from refplane.analysis.files.loading import read_sweep
+    from refplane.analysis.lines.plane import estimate_plane
 
     sweep = read_sweep(args.file)
     est = estimate_plane(sweep, standard=args.standard, port=args.port, band_hz=args.band,

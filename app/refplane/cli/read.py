@@ -43,7 +43,7 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from refplane.analysis.loading import read_sweep
+    from refplane.analysis.files.loading import read_sweep
     from refplane.analysis.readings import read_points
 
     from refplane.cli.offsets import apply_offsets, offsets_from_args, offsets_json

@@ -66,7 +66,7 @@ def build_session(args: argparse.Namespace):
         have, or a marker frequency outside a sweep.
     """
     from refplane.analysis.errors import AnalysisError
-    from refplane.analysis.loading import read_sweep
+    from refplane.analysis.files.loading import read_sweep
     from refplane.cli.offsets import apply_offsets
     from refplane.session.model import Session
 

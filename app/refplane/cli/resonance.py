@@ -52,7 +52,7 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
 
 def run(args: argparse.Namespace) -> int:
     from refplane.analysis.antenna.resonance import analyse
-    from refplane.analysis.loading import read_sweep
+    from refplane.analysis.files.loading import read_sweep
     from refplane.analysis.units import format_frequency, format_si
     from refplane.cli.offsets import apply_offsets, offsets_json
 

@@ -71,7 +71,7 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
 
 
 def _cable(args):
-    from refplane.analysis.deembed import LineOffset
+    from refplane.analysis.lines.deembed import LineOffset
 
     if args.cable_loss is None and args.cable_dielectric_loss is None:
         return None
@@ -87,7 +87,7 @@ def _cable(args):
 def run(args: argparse.Namespace) -> int:
     from refplane.analysis.errors import AnalysisError
     from refplane.analysis.lines.time_domain import gate, time_response
-    from refplane.analysis.loading import read_sweep
+    from refplane.analysis.files.loading import read_sweep
 
     if args.output and not args.gate:
         raise AnalysisError("-o writes a gated sweep; give the span to keep with --gate D1:D2")
@@ -100,7 +100,7 @@ def run(args: argparse.Namespace) -> int:
     if args.gate:
         from pathlib import Path
 
-        from refplane.analysis import touchstone
+        from refplane.analysis.files import touchstone
 
         if Path(args.output).exists() and not args.force:
             raise AnalysisError(f"{args.output} exists already; use --force to replace it")

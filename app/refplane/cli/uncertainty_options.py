@@ -141,8 +141,8 @@ def prepare(args: argparse.Namespace, sweep):
     notes: list[str] = []
     calibration_u = cal = None
     if getattr(args, "cal", None):
-        from refplane.analysis.calfile import load_calibration
-        from refplane.analysis.calibration import correct
+        from refplane.analysis.calibration.calfile import load_calibration
+        from refplane.analysis.calibration.solve import correct
 
         cal = load_calibration(args.cal)
         result = correct(cal, sweep, interpolate=True)
@@ -157,8 +157,8 @@ def prepare(args: argparse.Namespace, sweep):
         return sweep, None, notes
     noise = args.noise or "auto"
     if args.repeat:
-        from refplane.analysis.loading import read_sweep
-        from refplane.analysis.standards import grids_match
+        from refplane.analysis.files.loading import read_sweep
+        from refplane.analysis.calibration.standards import grids_match
         from refplane.analysis.uncertainty.noise import repeat_noise
 
         port = getattr(args, "port", None) or 1
@@ -170,7 +170,7 @@ def prepare(args: argparse.Namespace, sweep):
         traces = [sweep.reflection(port)] + [o.reflection(port) for o in others]
         if cal is not None:
             # The noise that matters is the corrected sweeps' scatter: correct the repeats too.
-            from refplane.analysis.calibration import correct
+            from refplane.analysis.calibration.solve import correct
 
             traces = [sweep.reflection(port)] + [correct(cal, o, interpolate=True).sweep.reflection(port)
                                                  for o in others]

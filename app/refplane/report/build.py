@@ -140,7 +140,7 @@ def sweep_report(sweep: Sweep, *, file: str | None = None, sha256: str | None = 
     readings = read_points(sweep, list(at_hz), port=port) if len(at_hz) else None
     fit_sentence = None
     if fit_model:
-        from refplane.analysis.fitting import fit_sweep
+        from refplane.analysis.circuits.fitting import fit_sweep
 
         try:
             fit_sentence = fit_sweep(sweep, model=fit_model, port=port if sweep.n_ports > 1 else None).sentence()
@@ -171,7 +171,7 @@ def report_sections(paths: Sequence[str], *, at_hz: Sequence[float] = (), limits
     AnalysisError
         For a file that cannot be read or corrected, or a marker outside its sweep.
     """
-    from refplane.analysis.loading import read_sweep
+    from refplane.analysis.files.loading import read_sweep
     from refplane.batch import Preparation
 
     prep = prep or Preparation()
@@ -441,7 +441,7 @@ def write_report(sections: Sequence[SweepReport], path: str | os.PathLike, *, ov
     """
     name = os.fspath(path).lower()
     if name.endswith((".html", ".htm")):
-        from refplane.analysis.fileio import write_text_atomic
+        from refplane.analysis.files.fileio import write_text_atomic
 
         return write_text_atomic(path, build_html(sections, title=title, batch=batch, when=when),
                                  overwrite=overwrite)

@@ -9,7 +9,7 @@ from typing import Sequence
 def session_sections(session, *, limits: Sequence = ()) -> list:
     """One report section per open trace: its displayed (corrected) sweep, its markers, the
     offsets applied, the fit sentence where a fitted curve is drawn, and ``limits``."""
-    from refplane.analysis.deembed import describe_offsets
+    from refplane.analysis.lines.deembed import describe_offsets
     from refplane.report.build import sweep_report
 
     sections = []

@@ -140,7 +140,7 @@ def write_pdf(sections: Sequence[SweepReport], path: str | os.PathLike, *, overw
         When the file exists (without ``overwrite``), there is no sweep, or it cannot be written.
     """
     from refplane.analysis.errors import AnalysisError
-    from refplane.analysis.fileio import write_atomic
+    from refplane.analysis.files.fileio import write_atomic
 
     if not sections:
         raise AnalysisError("a report needs at least one sweep")

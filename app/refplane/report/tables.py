@@ -41,6 +41,6 @@ def markers_csv(sections: Sequence) -> str:
 
 def write_markers_csv(sections: Sequence, path: str | os.PathLike, *, overwrite: bool = False) -> Path:
     """Write :func:`markers_csv` atomically (an existing file only with ``overwrite``)."""
-    from refplane.analysis.fileio import write_text_atomic
+    from refplane.analysis.files.fileio import write_text_atomic
 
     return write_text_atomic(path, markers_csv(sections), overwrite=overwrite)

@@ -165,7 +165,7 @@ def _tools_json(value) -> dict:
 
 def save_session(session, path: str | os.PathLike, *, overwrite: bool = False) -> Path:
     """Write ``session`` to ``path`` atomically (refusing to replace a file unless ``overwrite``)."""
-    from refplane.analysis.fileio import write_text_atomic
+    from refplane.analysis.files.fileio import write_text_atomic
 
     doc = session_document(session, path)
     text = json.dumps(doc, indent=1, allow_nan=False, ensure_ascii=False)
@@ -494,7 +494,7 @@ def build_session(doc: SessionDocument, sweeps: Mapping[int, object], session=No
     """
     import numpy as np
 
-    from refplane.analysis.deembed import LineOffset
+    from refplane.analysis.lines.deembed import LineOffset
     from refplane.analysis.sweep import Sweep
     from refplane.session.model import Session
 
@@ -617,7 +617,7 @@ def open_session(path: str | os.PathLike, *, skip_missing: bool = False):
         As :func:`read_session`; for a sweep file that is missing (unless ``skip_missing``)
         or cannot be read.
     """
-    from refplane.analysis.loading import read_sweep
+    from refplane.analysis.files.loading import read_sweep
 
     doc = read_session(path)
     sweeps = {}

@@ -50,7 +50,7 @@ def guarded(work: Callable[[], object], *, what: str, file: str | None = None) -
 # ------------------------------------------------------------------------- read
 def read(path: str) -> JobResult:
     """Read one sweep file."""
-    from refplane.analysis.loading import read_sweep
+    from refplane.analysis.files.loading import read_sweep
 
     return guarded(lambda: read_sweep(path), what="read this file", file=path)
 
@@ -89,7 +89,7 @@ class FitRequest:
 def fit(request: FitRequest) -> JobResult:
     """Fit and build the model curve; the value is (FitResult, overlay sweep or None)."""
     def work():
-        from refplane.analysis.fitting import fit_sweep
+        from refplane.analysis.circuits.fitting import fit_sweep
 
         result = fit_sweep(request.sweep, model=request.model, band_hz=request.band_hz,
                            port=request.port, through=request.through)
@@ -124,7 +124,7 @@ class EstimateRequest:
 
 def estimate(request: EstimateRequest) -> JobResult:
     """Estimate the line from a bare line ended in an open or a short."""
-    from refplane.analysis.plane import estimate_plane
+    from refplane.analysis.lines.plane import estimate_plane
 
     return guarded(lambda: estimate_plane(request.sweep, standard=request.standard, port=request.port,
                                           velocity_factor=request.velocity_factor),
@@ -139,7 +139,7 @@ def calibrate(solve: Callable[[], object]) -> JobResult:
 
 def correct(calibration, sweeps: Sequence[Sweep], *, interpolate: bool = False) -> list[JobResult]:
     """Correct each sweep with ``calibration``; one result per sweep, in order."""
-    from refplane.analysis.calibration import correct as apply
+    from refplane.analysis.calibration.solve import correct as apply
 
     return [guarded(lambda s=s: apply(calibration, s, interpolate=interpolate), what="correct the sweep")
             for s in sweeps]

@@ -47,7 +47,7 @@ def _offsets_are_zero(offsets: Sequence[object]) -> bool:
 def _apply_offsets(raw: Sweep, offsets: tuple) -> Sweep:
     if _offsets_are_zero(offsets):
         return raw
-    from refplane.analysis.deembed import remove_offsets
+    from refplane.analysis.lines.deembed import remove_offsets
 
     return remove_offsets(raw, offsets)
 
@@ -61,7 +61,7 @@ class Trace:
     raw: Sweep
     """The sweep as read from its file (or as handed in), before any offsets."""
     offsets: tuple = ()
-    """Per-port reference-plane offsets (``refplane.analysis.deembed.LineOffset``); empty = none."""
+    """Per-port reference-plane offsets (``refplane.analysis.lines.deembed.LineOffset``); empty = none."""
     displayed: Sweep | None = None
     """The sweep drawn and read: ``raw`` with ``offsets`` removed (``raw`` itself when none apply)."""
     name: str = ""
@@ -423,7 +423,7 @@ class Session:
         hit = self._viewed.get(trace_id)
         if hit is not None and hit[0] is sweep and hit[1] == z0:
             return hit[2]
-        from refplane.analysis.trace_math import renormalize
+        from refplane.analysis.readings.trace_math import renormalize
 
         try:
             viewed = renormalize(sweep, z0)
@@ -496,7 +496,7 @@ class Session:
         old = self._get(trace_id)
         old.raw.check_port(port)
         if vf is not None:
-            from refplane.analysis.deembed import check_velocity_factor
+            from refplane.analysis.lines.deembed import check_velocity_factor
 
             vf = check_velocity_factor(vf)
         vfs = list(old.velocity_factors) + [None] * (old.raw.n_ports - len(old.velocity_factors))
@@ -700,7 +700,7 @@ class Session:
 
     # Readings, through the shared scene (so a view asking twice costs one computation).
     def marker_readout(self, marker_id: int):
-        """The marker's single-point :class:`~refplane.analysis.impedance.Readout`."""
+        """The marker's single-point :class:`~refplane.analysis.readings.impedance.Readout`."""
         return self.scene().marker(marker_id).readout
 
     def marker_cells(self, marker_id: int) -> dict[str, str]:
@@ -912,7 +912,7 @@ class Session:
             self._display = replace(self._display, delta_markers=None)
 
     def _check_inside(self, trace_id: int, freq_hz: float) -> None:
-        from refplane.analysis.markers import check_inside
+        from refplane.analysis.readings.markers import check_inside
 
         check_inside(self._get(trace_id).displayed.freq_hz, freq_hz)
 

@@ -1,7 +1,7 @@
 """What each companion plot shows, as arrays computed by the analysis layer (no Qt here).
 
 Each quantity maps a sweep and a reflection port to one or more named curves over
-frequency. The values come from :mod:`refplane.analysis.impedance`, the same functions the
+frequency. The values come from :mod:`refplane.analysis.readings.impedance`, the same functions the
 marker readouts use, so a plot and the marker table agree at every swept point.
 """
 
@@ -66,10 +66,10 @@ def curves(sweep: Sweep, port: int, key: str, *, memory: Sweep | None = None) ->
     """The curves of quantity ``key`` for ``sweep``'s reflection at ``port`` (empty if not applicable).
 
     The quantities relative to the memory need ``memory`` (a stored 1-port reflection); they
-    are computed by :func:`refplane.analysis.trace_math.relative_to` on the memory's
+    are computed by :func:`refplane.analysis.readings.trace_math.relative_to` on the memory's
     frequencies, inside the band both cover, and are empty without a memory or overlap.
     """
-    from refplane.analysis import impedance as imp
+    from refplane.analysis.readings import impedance as imp
 
     if BY_KEY[key].needs_memory:
         return _relative(sweep, port, key, memory)
@@ -100,7 +100,7 @@ def curves(sweep: Sweep, port: int, key: str, *, memory: Sweep | None = None) ->
 
 def _relative(sweep: Sweep, port: int, key: str, memory: Sweep | None) -> tuple[Curve, ...]:
     from refplane.analysis.errors import AnalysisError
-    from refplane.analysis.trace_math import relative_to
+    from refplane.analysis.readings.trace_math import relative_to
 
     if memory is None:
         return ()

@@ -18,7 +18,7 @@ from __future__ import annotations
 import math
 from typing import Mapping, Sequence
 
-from refplane.analysis.impedance import Readout
+from refplane.analysis.readings.impedance import Readout
 from refplane.analysis.units import format_frequency, format_si
 
 #: Text of a quantity that is not defined for this reading (VSWR of an active load).
@@ -276,7 +276,7 @@ def fit_parameter_rows(result, *, words: bool = True) -> list[tuple[str, str, st
 
 def fit_ranking_rows(result) -> list[tuple[str, str, str, str]]:
     """(model, parameters, ΔAICc, residual) rows of a fit's candidates, best first."""
-    from refplane.analysis.fitting import format_percent
+    from refplane.analysis.circuits.fitting import format_percent
 
     return [(r.model_id, str(r.n_params), f"{r.delta_aicc:.1f}", format_percent(r.residual_rel))
             for r in result.ranking]

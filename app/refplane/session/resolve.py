@@ -27,7 +27,7 @@ def _trace_view(t, previous: TraceView | None, session) -> TraceView:
     if t.corrected:
         raw = t.raw.reflection(t.port)
         if z0_chart is not None:
-            from refplane.analysis.trace_math import chart_gamma
+            from refplane.analysis.readings.trace_math import chart_gamma
 
             raw = chart_gamma(raw, float(t.raw.z0_ohm[t.port - 1].real), z0_chart)
     if previous is not None and previous.record is not None and previous.sweep is sweep \
@@ -46,7 +46,7 @@ def _on_chart(one_port, z0_chart):
     g = one_port.reflection(1)
     if z0_chart is None:
         return g
-    from refplane.analysis.trace_math import chart_gamma
+    from refplane.analysis.readings.trace_math import chart_gamma
 
     return chart_gamma(g, float(one_port.z0_ohm[0].real), z0_chart)
 
@@ -54,7 +54,7 @@ def _on_chart(one_port, z0_chart):
 def _as_viewed(one_port, z0_chart):
     if z0_chart is None:
         return one_port
-    from refplane.analysis.trace_math import renormalize
+    from refplane.analysis.readings.trace_math import renormalize
 
     return renormalize(one_port, z0_chart)
 
@@ -169,7 +169,7 @@ def _trace_curves(t, key: str, cache: dict, session) -> tuple[CurveView, ...]:
 def _as_viewed_n(sweep, z0_chart):
     if z0_chart is None:
         return sweep
-    from refplane.analysis.trace_math import renormalize
+    from refplane.analysis.readings.trace_math import renormalize
 
     return renormalize(sweep, z0_chart)
 

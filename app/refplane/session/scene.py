@@ -12,7 +12,7 @@ from typing import Mapping
 
 import numpy as np
 
-from refplane.analysis.impedance import Readout
+from refplane.analysis.readings.impedance import Readout
 
 
 @dataclass(frozen=True, eq=False)

@@ -48,7 +48,7 @@ class AntennaResults:
 
 def feedline_of(settings):
     """The ``LineOffset`` the antenna settings describe (AnalysisError when they cannot)."""
-    from refplane.analysis.deembed import LineOffset
+    from refplane.analysis.lines.deembed import LineOffset
 
     return LineOffset.from_length(settings.feed_length_m, settings.feed_vf, loss_db=settings.feed_loss_db,
                                   loss_ref_hz=settings.feed_loss_ref_hz, line_z0_ohm=settings.feed_line_z0_ohm)
@@ -61,7 +61,7 @@ def feedline_sweep(sweep: Sweep, port: int, settings) -> Sweep:
     impedance at the antenna.
     """
     from refplane.analysis.antenna.feedline import toward_antenna, toward_radio
-    from refplane.analysis.impedance import gamma_to_z, z_to_gamma
+    from refplane.analysis.readings.impedance import gamma_to_z, z_to_gamma
 
     sweep.check_port(port)
     z_port = complex(sweep.z0_ohm[port - 1])
@@ -84,8 +84,8 @@ def antenna(request: AntennaRequest, *, cancelled=lambda: False) -> JobResult:
     from refplane.analysis.antenna.matching import match_sweep
     from refplane.analysis.antenna.resonance import analyse
     from refplane.analysis.errors import AnalysisError
-    from refplane.analysis.impedance import gamma_to_z
-    from refplane.analysis.markers import gamma_at
+    from refplane.analysis.readings.impedance import gamma_to_z
+    from refplane.analysis.readings.markers import gamma_at
 
     s = request.settings
     sweep, port, f = request.sweep, request.port, request.freq_hz

@@ -44,7 +44,7 @@ def residual_terms(settings):
 @functools.lru_cache(maxsize=4)
 def _calibration_u(path: str, mtime_ns: int, size: int):
     # Keyed by the file's time and size: a calibration saved again is read again.
-    from refplane.analysis.calfile import load_calibration
+    from refplane.analysis.calibration.calfile import load_calibration
 
     cal = load_calibration(path)
     if cal.uncertainty is None:

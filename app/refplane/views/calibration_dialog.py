@@ -2,8 +2,8 @@
 then correct device sweeps into new traces.
 
 The dialog only gathers inputs and shows results; every calculation is done by
-:mod:`refplane.analysis.calibration` (solve, checks, correction), :mod:`~refplane.analysis.standards`
-(definitions and their file) and :mod:`~refplane.analysis.calfile` (saved error terms).
+:mod:`refplane.analysis.calibration.solve` (solve, checks, correction), :mod:`~refplane.analysis.calibration.standards`
+(definitions and their file) and :mod:`~refplane.analysis.calibration.calfile` (saved error terms).
 Problems are shown without closing the dialog: a line in the dialog and a non-blocking message.
 """
 
@@ -287,7 +287,7 @@ class CalibrationDialog(QDialog):
         return box
 
     def _build_definitions(self) -> QGroupBox:
-        from refplane.analysis.standards import KINDS, definition_keys
+        from refplane.analysis.calibration.standards import KINDS, definition_keys
 
         box = QGroupBox("2. What the standards are")
         v = QVBoxLayout(box)
@@ -416,7 +416,7 @@ class CalibrationDialog(QDialog):
 
     # ------------------------------------------------------------------ standards' files
     def _ask_standard_file(self, role: str) -> None:
-        from refplane.analysis.loading import SWEEP_PATTERNS
+        from refplane.analysis.files.loading import SWEEP_PATTERNS
 
         path, _ = QFileDialog.getOpenFileName(self, dict((r, l) for r, l, _ in ROLES)[role], last_folder("sweeps"),
                                               f"Sweeps ({' '.join(SWEEP_PATTERNS)});;All files (*)")
@@ -426,7 +426,7 @@ class CalibrationDialog(QDialog):
 
     def set_standard_file(self, role: str, path: str, *, quiet: bool = False) -> bool:
         """Read the sweep of one standard; on a problem, report it and keep what was there."""
-        from refplane.analysis.loading import read_sweep
+        from refplane.analysis.files.loading import read_sweep
 
         try:
             sweep = read_sweep(path)
@@ -472,7 +472,7 @@ class CalibrationDialog(QDialog):
     # ------------------------------------------------------------------ definitions
     def standards(self):
         """The current definitions as a StandardSet (raises AnalysisError when invalid)."""
-        from refplane.analysis.standards import standards_from_json
+        from refplane.analysis.calibration.standards import standards_from_json
 
         return standards_from_json(self._definitions, file=self._definitions_file)
 
@@ -487,7 +487,7 @@ class CalibrationDialog(QDialog):
         """Load a standards file; on a problem, report it and keep the current definitions."""
         import json
 
-        from refplane.analysis.standards import load_standards
+        from refplane.analysis.calibration.standards import load_standards
 
         try:
             load_standards(path)  # validates everything, data files included
@@ -513,7 +513,7 @@ class CalibrationDialog(QDialog):
 
     def save_definitions(self, path: str, *, overwrite: bool = False) -> bool:
         """Write the current definitions to a standards file."""
-        from refplane.analysis.standards import save_standards
+        from refplane.analysis.calibration.standards import save_standards
 
         try:
             save_standards(self.standards(), path, overwrite=overwrite)
@@ -551,7 +551,7 @@ class CalibrationDialog(QDialog):
             entry.pop(key, None)
         trial = copy.deepcopy(self._definitions)
         trial[kind] = entry
-        from refplane.analysis.standards import standards_from_json
+        from refplane.analysis.calibration.standards import standards_from_json
 
         try:
             standards_from_json(trial, file=self._definitions_file)
@@ -567,7 +567,7 @@ class CalibrationDialog(QDialog):
         return True
 
     def _fill_definition_table(self) -> None:
-        from refplane.analysis.standards import definition_keys
+        from refplane.analysis.calibration.standards import definition_keys
 
         kind = self.kind_combo.currentData()
         entry = self._definitions.get(kind, {})
@@ -608,7 +608,7 @@ class CalibrationDialog(QDialog):
     # ------------------------------------------------------------------ solving
     def solve(self):
         """Work out the error terms from the chosen files and definitions; show them."""
-        from refplane.analysis.calibration import calibrate
+        from refplane.analysis.calibration.solve import calibrate
 
         missing = [label for r, label, needed in ROLES if needed and r not in self._sweeps]
         if missing:
@@ -642,7 +642,7 @@ class CalibrationDialog(QDialog):
         return cal
 
     def _show_calibration(self, cal) -> None:
-        from refplane.analysis.calibration import terms_db
+        from refplane.analysis.calibration.solve import terms_db
 
         self.calibration = cal
         self._terms_outdated = False
@@ -679,7 +679,7 @@ class CalibrationDialog(QDialog):
 
     def save_terms(self, path: str, *, overwrite: bool = False) -> bool:
         """Save the current error terms to a calibration file."""
-        from refplane.analysis.calfile import save_calibration
+        from refplane.analysis.calibration.calfile import save_calibration
 
         if self.calibration is None:
             self.show_error("Nothing to save", "work out the error terms first")
@@ -701,7 +701,7 @@ class CalibrationDialog(QDialog):
 
     def load_terms(self, path: str, *, quiet: bool = False) -> bool:
         """Use error terms saved earlier instead of measured standards."""
-        from refplane.analysis.calfile import load_calibration
+        from refplane.analysis.calibration.calfile import load_calibration
 
         try:
             cal = load_calibration(path)
@@ -732,7 +732,7 @@ class CalibrationDialog(QDialog):
 
     # ------------------------------------------------------------------ devices
     def _ask_device_files(self) -> None:
-        from refplane.analysis.loading import SWEEP_PATTERNS
+        from refplane.analysis.files.loading import SWEEP_PATTERNS
 
         paths, _ = QFileDialog.getOpenFileNames(self, "Device sweeps to correct", last_folder("sweeps"),
                                                 f"Sweeps ({' '.join(SWEEP_PATTERNS)});;All files (*)")
@@ -777,8 +777,8 @@ class CalibrationDialog(QDialog):
 
     def correct_devices(self) -> list[int]:
         """Correct every ticked device and open each as a new trace; returns the new trace ids."""
-        from refplane.analysis.calibration import correct
-        from refplane.analysis.loading import read_sweep
+        from refplane.analysis.calibration.solve import correct
+        from refplane.analysis.files.loading import read_sweep
 
         if self.calibration is None:
             self.show_error("No error terms", "work out or load the error terms first")

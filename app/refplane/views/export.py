@@ -10,7 +10,7 @@ from PySide6.QtGui import QColor, QImage, QPainter
 from PySide6.QtWidgets import QWidget
 
 from refplane.analysis.errors import AnalysisError
-from refplane.analysis.fileio import write_atomic
+from refplane.analysis.files.fileio import write_atomic
 
 FORMATS = {".png": "PNG picture", ".svg": "SVG drawing"}
 

@@ -439,7 +439,7 @@ class MainWindow(QMainWindow):
             self.loader.load(path)
 
     def ask_open(self) -> None:
-        from refplane.analysis.loading import SWEEP_PATTERNS
+        from refplane.analysis.files.loading import SWEEP_PATTERNS
 
         folder = last_folder("sweeps")
         patterns = " ".join(SWEEP_PATTERNS)
@@ -705,7 +705,7 @@ class MainWindow(QMainWindow):
 
     # --------------------------------------------------------- drag and drop
     def dragEnterEvent(self, ev) -> None:
-        from refplane.analysis.loading import is_sweep_file
+        from refplane.analysis.files.loading import is_sweep_file
 
         urls = ev.mimeData().urls() if ev.mimeData().hasUrls() else []
         if any(u.isLocalFile() and is_sweep_file(u.toLocalFile()) for u in urls):
@@ -744,7 +744,7 @@ class MainWindow(QMainWindow):
     def export_table(self, path: str, *, overwrite: bool = False) -> str | None:
         """Write the marker table as CSV (units in the header row, plain numbers)."""
         from refplane.analysis.errors import AnalysisError
-        from refplane.analysis.fileio import write_text_atomic
+        from refplane.analysis.files.fileio import write_text_atomic
 
         try:
             written = write_text_atomic(path, self.marker_table.as_tsv(delimiter=","), overwrite=overwrite)

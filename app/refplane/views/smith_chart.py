@@ -830,7 +830,7 @@ class SmithChart(QWidget):
 
     def hover_text(self, gamma: complex) -> str:
         """The hover line for a chart position: z, Z in ohms, and the nearest trace's frequency."""
-        from refplane.analysis.impedance import gamma_to_z
+        from refplane.analysis.readings.impedance import gamma_to_z
         from refplane.session.present import hover_text
 
         near = self._nearest_trace(gamma.real, gamma.imag) if abs(gamma) <= 1.0 else None

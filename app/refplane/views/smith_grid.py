@@ -206,7 +206,7 @@ def frequency_near(px: float, py: float, x: np.ndarray, y: np.ndarray, freq_hz: 
     """The frequency of the trace point nearest (px, py), interpolated along the segment.
 
     Linear along the chord between two swept points, matching how readings interpolate
-    between points (:mod:`refplane.analysis.markers`). Returns (freq_hz, screen distance).
+    between points (:mod:`refplane.analysis.readings.markers`). Returns (freq_hz, screen distance).
     """
     i, t, dist = nearest_on_polyline(px, py, x, y, scale_x, scale_y)
     if freq_hz.size == 1:

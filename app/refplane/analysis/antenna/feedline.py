@@ -1,8 +1,8 @@
 """The feedline between radio and antenna: what the radio sees, and where the power goes.
 
-The line is a :class:`refplane.analysis.deembed.LineOffset` (length and velocity factor or
+The line is a :class:`refplane.analysis.lines.deembed.LineOffset` (length and velocity factor or
 delay, loss, line impedance) and is worked through that module's public two-port,
-:func:`refplane.analysis.deembed.line_s`, so this module follows whatever line model it holds.
+:func:`refplane.analysis.lines.deembed.line_s`, so this module follows whatever line model it holds.
 
 Both directions
     *Toward the radio*: from Z at the antenna (the feedpoint), Z at the radio end is
@@ -35,9 +35,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from refplane.analysis.deembed import DB_PER_NEPER, LineOffset, line_s
+from refplane.analysis.lines.deembed import DB_PER_NEPER, LineOffset, line_s
 from refplane.analysis.errors import AnalysisError
-from refplane.analysis.impedance import gamma_to_z, vswr, z_to_gamma
+from refplane.analysis.readings.impedance import gamma_to_z, vswr, z_to_gamma
 
 
 @dataclass(frozen=True, eq=False)
@@ -169,7 +169,7 @@ def toward_radio(freq_hz, z_antenna_ohm, line: LineOffset, *, z_ref_ohm: float =
     --------
     1 dB of matched loss and SWR 3 at the antenna (150 Ω on a 50 Ω line):
 
-    >>> from refplane.analysis.deembed import LineOffset
+    >>> from refplane.analysis.lines.deembed import LineOffset
     >>> line = LineOffset(delay_s=10e-9, loss_db=1.0, loss_ref_hz=14e6)
     >>> r = toward_radio(14e6, 150.0, line)
     >>> round(float(r.total_loss_db[0]), 2), round(float(r.vswr_radio[0]), 2)

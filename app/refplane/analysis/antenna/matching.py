@@ -38,7 +38,7 @@ The best any lossless network could do
     The Bode–Fano limit (Fano 1950; Pozar ch. 5): for a parallel R-C load,
     ∫ ln(1/|Γ|) dω ≤ π/(RC), so no network keeps |Γ| ≤ Γm over more than
     Δω = π/(RC·ln(1/Γm)). The load's equivalent circuit is fitted around the design frequency
-    (:mod:`refplane.analysis.fitting`) and its limit reported for VSWR 2 (Γm = 1/3).
+    (:mod:`refplane.analysis.circuits.fitting`) and its limit reported for VSWR 2 (Γm = 1/3).
 """
 
 from __future__ import annotations
@@ -183,7 +183,7 @@ class BodeFano:
     vswr_limit : float
     model_id : str
         The circuit fitted to the load around the design frequency (a circuit id of
-        :mod:`refplane.analysis.circuits`).
+        :mod:`refplane.analysis.circuits.models`).
     params : dict
         Its values (SI), under the keys of the model the fit chose.
     basis : str
@@ -660,7 +660,7 @@ def bode_fano_width_hz(circuit: str, values: tuple[float, ...], f0_hz: float, vs
     Parameters
     ----------
     circuit : str
-        A circuit id of :mod:`refplane.analysis.circuits` with a closed form (see ``_BF_KIND``).
+        A circuit id of :mod:`refplane.analysis.circuits.models` with a closed form (see ``_BF_KIND``).
     values : tuple of float
         Its values in the model's order: (R, L), (R, C) or (R, L, C).
     """
@@ -711,7 +711,7 @@ def bode_fano(freq_hz: np.ndarray, z_ohm: np.ndarray, f0_hz: float, *, z_ref_ohm
         For a fitted circuit without a closed form, the limit for the load's local Q at f0,
         Δf = f0·π/(Q·ln(1/Γm)) (the series-R-L/R-C result written with Q = |X|/R), marked approximate.
     """
-    from refplane.analysis.fitting import fit_impedance
+    from refplane.analysis.circuits.fitting import fit_impedance
 
     f = np.asarray(freq_hz, float)
     z = np.asarray(z_ohm, complex)
@@ -762,7 +762,7 @@ def design_all(z_load: complex, freq_hz: float, *, target_ohm: float = 50.0, z_r
         shorted single shunt stubs; notes say what was left out and why.
     """
     from refplane.analysis.antenna.eseries import series_values
-    from refplane.analysis.deembed import check_velocity_factor
+    from refplane.analysis.lines.deembed import check_velocity_factor
 
     zl = complex(z_load)
     r_s = float(target_ohm)
@@ -831,8 +831,8 @@ def match_sweep(sweep: Sweep, freq_hz: float, *, port: int = 1, target_ohm: floa
     -------
     MatchResult
     """
-    from refplane.analysis.impedance import gamma_to_z
-    from refplane.analysis.markers import gamma_at
+    from refplane.analysis.readings.impedance import gamma_to_z
+    from refplane.analysis.readings.markers import gamma_at
 
     sweep.check_port(port)
     z_ref = complex(sweep.z0_ohm[port - 1])

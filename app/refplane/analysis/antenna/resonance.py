@@ -1,7 +1,7 @@
 """Resonances, the best match and the usable bands of a reflection sweep.
 
 Every search here reads *between* swept points with the same model the markers use
-(:mod:`refplane.analysis.markers`): Γ runs in a straight chord from one swept point to the
+(:mod:`refplane.analysis.readings.markers`): Γ runs in a straight chord from one swept point to the
 next. A marker placed at a frequency found here therefore reads exactly the value the search
 found (X = 0 at a resonance, VSWR = s at a band edge), and no search snaps to the nearest point.
 
@@ -32,7 +32,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from refplane.analysis.errors import AnalysisError
-from refplane.analysis.impedance import gamma_to_z, return_loss_db, vswr
+from refplane.analysis.readings.impedance import gamma_to_z, return_loss_db, vswr
 from refplane.analysis.sweep import Sweep
 from refplane.analysis.units import format_frequency
 

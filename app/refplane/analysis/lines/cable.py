@@ -26,7 +26,7 @@ of turns is refused too.
 
 Fitted line model
 -----------------
-The causal line model of :mod:`refplane.analysis.deembed` is fitted to γl(f):
+The causal line model of :mod:`refplane.analysis.lines.deembed` is fitted to γl(f):
 
     Re γl = A_c·√(f/f_ref) + A_d·(f/f_ref),     Im γl = 2π·f·τ + A_c·√(f/f_ref)
 
@@ -45,7 +45,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from refplane.analysis.deembed import DB_PER_NEPER, SPEED_OF_LIGHT_M_S, LineOffset, check_velocity_factor
+from refplane.analysis.lines.deembed import DB_PER_NEPER, SPEED_OF_LIGHT_M_S, LineOffset, check_velocity_factor
 from refplane.analysis.errors import AnalysisError
 from refplane.analysis.sweep import Sweep
 
@@ -340,7 +340,7 @@ def _refine(f, gamma_l, tau, a_c, a_d, ref, rounds: int = 4):
 def _with_residual(result: CableResult, open_sweep: Sweep, short_sweep: Sweep, port: int) -> CableResult:
     import dataclasses
 
-    from refplane.analysis.deembed import add_offsets
+    from refplane.analysis.lines.deembed import add_offsets
 
     f = result.freq_hz
     line = result.offset()

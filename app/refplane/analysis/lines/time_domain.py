@@ -46,7 +46,7 @@ stronger one belongs to it. They are listed strongest first, at most 50. In low-
 sign (+ towards higher impedance or an open, − towards lower or a short).
 
 Loss compensation: an event at round-trip time t has travelled twice through the cable up to
-it. Given the cable's line model (:class:`refplane.analysis.deembed.LineOffset`, its losses
+it. Given the cable's line model (:class:`refplane.analysis.lines.deembed.LineOffset`, its losses
 belonging to its delay), the fraction x = (t/2)/τ_cable of its one-way loss A(f) in nepers
 lies on the way, and an ideal event's impulse peak is ρ times the peak of the transform of
 w_k·e^(−2x·(γl(f_k) − j2πf_kτ)) over Σ w_k — the loss, and the spread the skin effect's phase
@@ -80,7 +80,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from refplane.analysis.deembed import SPEED_OF_LIGHT_M_S, LineOffset, check_velocity_factor
+from refplane.analysis.lines.deembed import SPEED_OF_LIGHT_M_S, LineOffset, check_velocity_factor
 from refplane.analysis.errors import AnalysisError
 from refplane.analysis.sweep import Sweep
 

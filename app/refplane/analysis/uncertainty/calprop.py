@@ -34,7 +34,7 @@ from typing import Mapping
 import numpy as np
 
 from refplane.analysis.errors import AnalysisError
-from refplane.analysis.standards import GOHM, Standard, StandardSet, grids_match, reflection
+from refplane.analysis.calibration.standards import GOHM, Standard, StandardSet, grids_match, reflection
 from refplane.analysis.sweep import Sweep
 
 #: Names of the six real components, in the covariance's order.
@@ -63,7 +63,7 @@ class CalibrationUncertainty:
 
     def on(self, freq_hz) -> "CalibrationUncertainty":
         """The covariance interpolated linearly onto other frequencies (inside the band)."""
-        from refplane.analysis.markers import interpolate
+        from refplane.analysis.readings.markers import interpolate
 
         f = np.atleast_1d(np.asarray(freq_hz, dtype=float))
         if grids_match(f, self.freq_hz):
@@ -150,7 +150,7 @@ def calibration_uncertainty(measured: Mapping[str, Sweep], standards: StandardSe
     Parameters
     ----------
     measured : mapping name → Sweep
-        The raw standards as given to :func:`refplane.analysis.calibration.calibrate`, on
+        The raw standards as given to :func:`refplane.analysis.calibration.solve.calibrate`, on
         the short's frequencies (others are interpolated onto them).
     standards : StandardSet
         Their definitions, with ``uncertainties`` where known.
@@ -162,8 +162,8 @@ def calibration_uncertainty(measured: Mapping[str, Sweep], standards: StandardSe
     -------
     CalibrationUncertainty
     """
-    from refplane.analysis.calibration import solve_one_port
-    from refplane.analysis.markers import interpolate
+    from refplane.analysis.calibration.solve import solve_one_port
+    from refplane.analysis.readings.markers import interpolate
     from refplane.analysis.uncertainty.noise import trace_noise
 
     std = standards or StandardSet()

@@ -165,7 +165,7 @@ def _physical_cost(terms) -> tuple[np.ndarray, float]:
 
 def check_swapped(freq_hz, gm: np.ndarray, gd: np.ndarray, names: Sequence[str]) -> list[Finding]:
     """Try every assignment of the first three measurements to the short, open and load."""
-    from refplane.analysis.calibration import solve_one_port
+    from refplane.analysis.calibration.solve import solve_one_port
 
     scores = {}
     for perm in itertools.permutations(range(3)):
@@ -212,7 +212,7 @@ def check_swapped(freq_hz, gm: np.ndarray, gd: np.ndarray, names: Sequence[str])
 # --------------------------------------------------------------------------- kit delay
 
 def _delay_search(freq_hz, gm, gd_fn, span_s: float = 200e-12):
-    from refplane.analysis.calibration import solve_one_port
+    from refplane.analysis.calibration.solve import solve_one_port
 
     def rms_e11(d):
         try:
@@ -239,7 +239,7 @@ def check_kit_delay(freq_hz, gm: np.ndarray, standards, names: Sequence[str]) ->
     """
     import dataclasses
 
-    from refplane.analysis.standards import reflection
+    from refplane.analysis.calibration.standards import reflection
 
     f = np.asarray(freq_hz, float)
     z0 = standards.reference_z0_ohm
@@ -507,8 +507,8 @@ def diagnose(cal, *, measured: Mapping[str, Sweep] | None = None, standards=None
     recheck : mapping name → Sweep, optional
         Standards measured again later, to compare through ``cal`` (drift).
     """
-    from refplane.analysis.markers import interpolate
-    from refplane.analysis.standards import StandardSet, grids_match, reflection
+    from refplane.analysis.readings.markers import interpolate
+    from refplane.analysis.calibration.standards import StandardSet, grids_match, reflection
     from refplane.analysis.uncertainty.noise import trace_noise
 
     std = standards or StandardSet()
@@ -549,7 +549,7 @@ def diagnose(cal, *, measured: Mapping[str, Sweep] | None = None, standards=None
             cov = cov + trace_noise(g) ** 2 * np.eye(2)
         findings += check_passive(name, sweep.freq_hz, g, cov)
     for name, sweep in (recheck or {}).items():
-        from refplane.analysis.calibration import correct
+        from refplane.analysis.calibration.solve import correct
 
         corrected = correct(cal, sweep, interpolate=True).sweep
         f = corrected.freq_hz

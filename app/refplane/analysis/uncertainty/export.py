@@ -21,7 +21,7 @@ from pathlib import Path
 
 import numpy as np
 
-from refplane.analysis.impedance import readout
+from refplane.analysis.readings.impedance import readout
 from refplane.analysis.uncertainty.propagate import U_KEYS, ReadoutUncertainty
 
 FORMAT = "refplane-uncertainty"
@@ -72,7 +72,7 @@ def write_uncertainty(path: str | os.PathLike, u: ReadoutUncertainty, z0_ohm: fl
                       comments=(), overwrite: bool = False) -> Path:
     """Write CSV (``.csv``) or JSON (``.json``) atomically; an existing file only with ``overwrite``."""
     from refplane.analysis.errors import AnalysisError
-    from refplane.analysis.fileio import write_text_atomic
+    from refplane.analysis.files.fileio import write_text_atomic
 
     suffix = Path(path).suffix.lower()
     if suffix == ".csv":

@@ -1,6 +1,6 @@
 """Fitted circuit parameters with their combined uncertainty: statistical plus systematic.
 
-The fit's own standard errors (:mod:`refplane.analysis.fitting`) say how well the noise lets
+The fit's own standard errors (:mod:`refplane.analysis.circuits.fitting`) say how well the noise lets
 the parameters be pinned down; they say nothing about the calibration's residual errors, which
 move every point of the sweep together. The systematic part is found by refitting
 (JCGM 101, Monte Carlo): each draw perturbs the whole measured trace by the residual-term
@@ -76,7 +76,7 @@ def fit_uncertainty(result, freq_hz, gamma, *, residual=None, calibration=None, 
     draws : int
         Refits (tens are enough for a standard deviation to about ±10 %: 1/√(2·draws)).
     """
-    from refplane.analysis.fitting import fit_reflection
+    from refplane.analysis.circuits.fitting import fit_reflection
 
     stat = {k: float(v) for k, v in result.stderr.items()}
     sources = []

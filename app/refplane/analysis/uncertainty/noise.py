@@ -87,7 +87,7 @@ def interpolation_bound(freq_hz, gamma, at_hz) -> np.ndarray:
     Between points i and i+1 with t = (f − f_i)/(f_(i+1) − f_i), linear interpolation errs by
     t·(1 − t)/2 · h²·Γ'' (the textbook remainder of linear interpolation), and h²·Γ'' is
     estimated by the larger of the second differences at i and i+1. At a swept point the
-    bound is 0. (See :mod:`refplane.analysis.markers` for the same bound written for a trace
+    bound is 0. (See :mod:`refplane.analysis.readings.markers` for the same bound written for a trace
     turning by Δθ per point.)
     """
     f = np.asarray(freq_hz, dtype=np.float64)

@@ -51,7 +51,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from refplane.analysis.errors import AnalysisError
-from refplane.analysis.impedance import Readout
+from refplane.analysis.readings.impedance import Readout
 
 #: Readout keys that carry an uncertainty: the JSON point's keys less the frequency.
 U_KEYS = tuple(k for k in Readout.JSON_KEYS if k != "freq_hz")
@@ -124,7 +124,7 @@ def gaussian_model(freq_hz, gamma, z0_ohm: float, cov=None, circular=None,
 def readout_values(freq_hz, gamma, z0_ohm: float, *, reference=None) -> dict[str, np.ndarray]:
     """Every readout of ``gamma`` as unmasked, smooth functions (for derivatives and draws).
 
-    Same formulas as :func:`refplane.analysis.impedance.readout` (Pozar ch. 2), except that
+    Same formulas as :func:`refplane.analysis.readings.impedance.readout` (Pozar ch. 2), except that
     series L = X/ω and series C = −1/(ωX) are computed whatever the sign of X, and the phase
     is unwrapped about ``reference`` (the central reading) so that draws do not jump by 360°.
     """

@@ -64,7 +64,7 @@ class OffsetUncertainty:
                     u_velocity_factor: float = 0.0, **kw) -> "OffsetUncertainty":
         """From a length and velocity factor: τ = L/(vf·c), so
         u(τ)² = (u(L)/(vf·c))² + (L·u(vf)/(vf²·c))² (GUM, law of propagation)."""
-        from refplane.analysis.deembed import SPEED_OF_LIGHT_M_S as C
+        from refplane.analysis.lines.deembed import SPEED_OF_LIGHT_M_S as C
 
         u = math.hypot(u_length_m / (velocity_factor * C), length_m * u_velocity_factor / (velocity_factor**2 * C))
         return OffsetUncertainty(delay_s=u, **kw)
@@ -107,7 +107,7 @@ class UncertaintyOptions:
 
 
 def _noise_sigma(plane: Sweep, port: int, noise, at: np.ndarray) -> np.ndarray:
-    from refplane.analysis.markers import interpolate
+    from refplane.analysis.readings.markers import interpolate
     from refplane.analysis.uncertainty.noise import trace_noise
 
     if isinstance(noise, str):
@@ -135,7 +135,7 @@ def _real2(k: np.ndarray) -> np.ndarray:
 
 
 def _through_offsets(plane_s: np.ndarray, f: float, z0, port: int, offsets) -> complex:
-    from refplane.analysis.deembed import remove_offsets
+    from refplane.analysis.lines.deembed import remove_offsets
 
     sw = Sweep(np.array([f]), plane_s[None], z0)
     return complex(remove_offsets(sw, offsets).s[0, port - 1, port - 1])
@@ -153,10 +153,10 @@ def gamma_model(plane: Sweep, at_hz, *, port: int = 1, offsets: Sequence | None 
         Reading frequencies inside the sweep.
     port : int
     offsets : sequence of LineOffset or None, one per port, optional
-        The lines removed before reading (as :func:`refplane.analysis.deembed.remove_offsets`).
+        The lines removed before reading (as :func:`refplane.analysis.lines.deembed.remove_offsets`).
     options : UncertaintyOptions
     """
-    from refplane.analysis.markers import gamma_at, s_at
+    from refplane.analysis.readings.markers import gamma_at, s_at
     from refplane.analysis.uncertainty.noise import interpolation_bound
 
     plane.check_port(port)

@@ -171,7 +171,7 @@ class CablePanel(QWidget):
 
     def remove_from_current(self) -> None:
         """Set the current trace's offset at its port to the found cable."""
-        from refplane.analysis.deembed import with_port_offset
+        from refplane.analysis.lines.deembed import with_port_offset
 
         tid = self.state.current_trace
         if self.result is None or tid == -1:

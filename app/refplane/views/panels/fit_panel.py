@@ -44,7 +44,7 @@ class FitPanel(QWidget):
 
     def __init__(self, state: Session, parent: QWidget | None = None, workers: Workers | None = None):
         super().__init__(parent)
-        from refplane.analysis.circuits import MODELS
+        from refplane.analysis.circuits.models import MODELS
 
         self.setObjectName("panel")
         self.state = state

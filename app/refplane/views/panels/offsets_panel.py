@@ -8,7 +8,7 @@ from a trace of the bare cable ended in an open or a short (on a worker thread).
 "Save corrected sweep…" writes the displayed sweep as Touchstone with the offsets recorded
 in its header.
 
-The panel assigns whole :class:`~refplane.analysis.deembed.LineOffset` values to the model
+The panel assigns whole :class:`~refplane.analysis.lines.deembed.LineOffset` values to the model
 through :meth:`Session.set_offsets`; it holds no RF maths (text is parsed by
 :mod:`refplane.analysis.units`, delay ↔ length by ``LineOffset``).
 """
@@ -22,7 +22,7 @@ from PySide6.QtWidgets import (QComboBox, QSizePolicy, QFileDialog, QFormLayout,
                                QMessageBox, QPushButton, QSlider, QVBoxLayout, QWidget)
 
 from refplane.views.binding import bind
-from refplane.analysis.deembed import LineOffset, check_velocity_factor, describe_offsets, with_port_offset
+from refplane.analysis.lines.deembed import LineOffset, check_velocity_factor, describe_offsets, with_port_offset
 from refplane.analysis.errors import AnalysisError
 from refplane.analysis.units import (format_frequency, format_si, parse_length, parse_loss,
                                      parse_resistance, parse_time)
@@ -376,7 +376,7 @@ class OffsetsPanel(QWidget):
         """Write the displayed sweep as Touchstone, the offsets noted in its header; returns the path."""
         if self.trace_id == -1:
             return None
-        from refplane.analysis import touchstone
+        from refplane.analysis.files import touchstone
 
         trace = self.state.trace(self.trace_id)
         n = trace.raw.n_ports

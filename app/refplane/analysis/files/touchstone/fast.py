@@ -15,11 +15,11 @@ import re
 
 import numpy as np
 
-from refplane.analysis.touchstone.convert import bad_point, to_s
-from refplane.analysis.touchstone.header import (
+from refplane.analysis.files.touchstone.convert import bad_point, to_s
+from refplane.analysis.files.touchstone.header import (
     FREQ_UNITS, Header, decode_line, header_line, split_comment)
-from refplane.analysis.touchstone.numbers import any_width, fixed_width
-from refplane.analysis.touchstone.source import LineTooLong, Source
+from refplane.analysis.files.touchstone.numbers import any_width, fixed_width
+from refplane.analysis.files.touchstone.source import LineTooLong, Source
 
 _COMMENT = re.compile(rb"![^\n]*")
 _END_ONLY = re.compile(rb"\s*\[\s*end\s*\]\s*", re.IGNORECASE)

@@ -5,7 +5,7 @@ What is minimised
 The residual is the complex error of the *measured quantity*, real and imaginary parts
 stacked: for a reflection sweep Γ_model − S11 (Γ referred to the port's Z0); for a
 series-through or shunt-through sweep S21_model − S21 (see
-:mod:`refplane.analysis.two_port_impedance`). This is well conditioned everywhere on the
+:mod:`refplane.analysis.readings.two_port_impedance`). This is well conditioned everywhere on the
 chart: opens and shorts are finite points (|Γ| = 1) rather than infinite or zero
 impedances, and it weights every point by the analyzer's own, roughly uniform, error in
 the measured quantity, so the least-squares fit is the maximum-likelihood one for that
@@ -29,7 +29,7 @@ small-sample Akaike criterion for Gaussian residuals,
 AICc = N·ln(SSR/N) + 2k + 2k(k + 1)/(N − k − 1). Among the circuits within 2 of the best
 AICc the one with fewest parameters wins (the simplest adequate model). Residuals below
 1e-8 RMS, far under any instrument's noise, count as equal, so noise-free data does not rank
-on rounding. The winner is then named by :func:`refplane.analysis.circuits.reading_for`
+on rounding. The winner is then named by :func:`refplane.analysis.circuits.models.reading_for`
 (a series R-L-C that behaves as a capacitor is reported as ``capacitor``, and so on).
 On sweeps longer than :data:`SCREEN_POINTS` the candidates are compared on that many points
 spread evenly over the band, and the chosen circuit is then fitted to every point.
@@ -44,9 +44,9 @@ from typing import Mapping
 
 import numpy as np
 
-from refplane.analysis.circuits import CIRCUITS, MODELS, CircuitModel, get_model, reading_for, rename, unit_of
+from refplane.analysis.circuits.models import CIRCUITS, MODELS, CircuitModel, get_model, reading_for, rename, unit_of
 from refplane.analysis.errors import AnalysisError
-from refplane.analysis.impedance import gamma_to_z, z_to_gamma
+from refplane.analysis.readings.impedance import gamma_to_z, z_to_gamma
 from refplane.analysis.sweep import Sweep
 from refplane.analysis.units import format_frequency, format_si
 
@@ -93,7 +93,7 @@ class FitResult:
     Attributes
     ----------
     model_id : str
-        The model (see :data:`refplane.analysis.circuits.MODELS`).
+        The model (see :data:`refplane.analysis.circuits.models.MODELS`).
     params, stderr : dict of str to float
         Fitted values and their standard errors, SI, keyed by the model's parameter keys.
     residual_rms : float
@@ -565,7 +565,7 @@ def fit_reflection(freq_hz, gamma, z0_ohm: float = 50.0, *, model: str = "auto",
     z0_ohm : float
         Its (real) reference impedance.
     model : str
-        A model id (:data:`refplane.analysis.circuits.MODEL_CHOICES`) or ``"auto"``.
+        A model id (:data:`refplane.analysis.circuits.models.MODEL_CHOICES`) or ``"auto"``.
     band_hz : (float, float), optional
         Fit only the points inside; default the whole sweep.
     port : int
@@ -648,7 +648,7 @@ def fit_sweep(sweep: Sweep, *, model: str = "auto", band_hz: tuple[float, float]
         A multi-port sweep with neither ``port`` nor ``through``, a through on a sweep that
         is not 2-port, and everything :func:`fit_reflection` refuses.
     """
-    from refplane.analysis.two_port_impedance import through_impedance, through_reference
+    from refplane.analysis.readings.two_port_impedance import through_impedance, through_reference
 
     _check_model_id(model)
     try:

@@ -8,10 +8,10 @@ from pathlib import Path
 
 from refplane.analysis.errors import AnalysisError, SweepFileError
 from refplane.analysis.sweep import Sweep
-from refplane.analysis.touchstone.careful import careful
-from refplane.analysis.touchstone.fast import fast
-from refplane.analysis.touchstone.header import TouchstoneWarning, ports_in_name, warn_port_impedance
-from refplane.analysis.touchstone.source import Source
+from refplane.analysis.files.touchstone.careful import careful
+from refplane.analysis.files.touchstone.fast import fast
+from refplane.analysis.files.touchstone.header import TouchstoneWarning, ports_in_name, warn_port_impedance
+from refplane.analysis.files.touchstone.source import Source
 
 
 def read(path: str | os.PathLike) -> Sweep:
@@ -21,7 +21,7 @@ def read(path: str | os.PathLike) -> Sweep:
     ----------
     path : path-like
         The file to read: a regular file of at most 1 GiB
-        (:data:`refplane.analysis.fileio.MAX_INPUT_BYTES`).
+        (:data:`refplane.analysis.files.fileio.MAX_INPUT_BYTES`).
 
     Returns
     -------

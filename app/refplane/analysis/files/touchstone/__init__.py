@@ -56,11 +56,11 @@ give bit-for-bit the same sweep.
 
 from __future__ import annotations
 
-from refplane.analysis.touchstone.careful import careful as _careful_pass
-from refplane.analysis.touchstone.header import TouchstoneWarning
-from refplane.analysis.touchstone.numbers import fixed_width as _fixed_width
-from refplane.analysis.touchstone.reader import read
-from refplane.analysis.touchstone.writer import write
+from refplane.analysis.files.touchstone.careful import careful as _careful_pass
+from refplane.analysis.files.touchstone.header import TouchstoneWarning
+from refplane.analysis.files.touchstone.numbers import fixed_width as _fixed_width
+from refplane.analysis.files.touchstone.reader import read
+from refplane.analysis.files.touchstone.writer import write
 
 __all__ = ["read", "write", "TouchstoneWarning"]
 

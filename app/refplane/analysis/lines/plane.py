@@ -19,7 +19,7 @@ How
 3. Loss: −20·log10|r| = 2·(loss_db·√(f/f_ref) + dielectric_loss_db·f/f_ref), fitted by
    least squares with a Huber loss (scale from the median absolute deviation), not below
    zero; the dielectric term is kept only when it lowers the sum of squares by a tenth.
-4. Model: the line model of :mod:`refplane.analysis.deembed` is tried three ways — causal
+4. Model: the line model of :mod:`refplane.analysis.lines.deembed` is tried three ways — causal
    (the √f loss with its equal phase; the delay is fitted to the phase left after removing
    it), loss only (the √f loss without phase, as synthetic data and older files may have),
    and the full R, L, G, C line whose impedance follows the skin-effect law at low frequency
@@ -35,7 +35,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from refplane.analysis.deembed import DB_PER_NEPER, SPEED_OF_LIGHT_M_S, LineOffset
+from refplane.analysis.lines.deembed import DB_PER_NEPER, SPEED_OF_LIGHT_M_S, LineOffset
 from refplane.analysis.errors import AnalysisError
 from refplane.analysis.sweep import Sweep
 
@@ -84,7 +84,7 @@ class PlaneEstimate:
         One-way dielectric loss in dB at ``loss_ref_hz`` (scales as f).
     skin_phase : bool
         True when the conductor loss carries its equal phase (the causal skin-effect model,
-        see :mod:`refplane.analysis.deembed`).
+        see :mod:`refplane.analysis.lines.deembed`).
     z0_follows_skin : bool
         True when the line's impedance follows the skin-effect law at low frequency (the
         full R, L, G, C line, high-frequency impedance = the port's reference).
@@ -242,7 +242,7 @@ def _model_offset(model: str, tau: float, loss: tuple[float, float], ref: float)
 
 def _errors(freq_hz: np.ndarray, gamma: np.ndarray, ideal: float, offset: LineOffset) -> np.ndarray:
     if offset.full_line:
-        from refplane.analysis.deembed import remove_offsets
+        from refplane.analysis.lines.deembed import remove_offsets
 
         back = remove_offsets(Sweep(freq_hz, gamma, 50.0), [offset]).s[:, 0, 0]
         return np.abs(back - ideal)

@@ -1,10 +1,10 @@
 """A Touchstone file's bytes, read in bounded chunks: whole lines or blocks of whole lines.
 
 Reading is linear in the file's size and holds at most one chunk plus one line at a time.
-The file must be a regular file (:func:`refplane.analysis.fileio.open_input`); reading
+The file must be a regular file (:func:`refplane.analysis.files.fileio.open_input`); reading
 stops with a one-line error at the first NUL byte (a binary file), at a line longer than
-:data:`~refplane.analysis.touchstone.header.MAX_LINE`, and beyond
-:data:`~refplane.analysis.fileio.MAX_INPUT_BYTES`. A UTF-8 byte-order mark at the start is
+:data:`~refplane.analysis.files.touchstone.header.MAX_LINE`, and beyond
+:data:`~refplane.analysis.files.fileio.MAX_INPUT_BYTES`. A UTF-8 byte-order mark at the start is
 dropped; a file whose line ends are bare carriage returns (old Macintosh text) is read as
 if they were line feeds.
 """
@@ -12,8 +12,8 @@ if they were line feeds.
 from __future__ import annotations
 
 from refplane.analysis.errors import SweepFileError
-from refplane.analysis.fileio import MAX_INPUT_BYTES, open_input, path_problem, too_big
-from refplane.analysis.touchstone.header import MAX_LINE
+from refplane.analysis.files.fileio import MAX_INPUT_BYTES, open_input, path_problem, too_big
+from refplane.analysis.files.touchstone.header import MAX_LINE
 
 #: Bytes read at a time (2 MiB): large enough for numpy to work in bulk, small enough that
 #: the text is never held whole.

@@ -55,7 +55,7 @@ from typing import Mapping, Sequence
 import numpy as np
 
 from refplane.analysis.errors import AnalysisError
-from refplane.analysis.standards import StandardSet, grids_match, reflection, through_s
+from refplane.analysis.calibration.standards import StandardSet, grids_match, reflection, through_s
 from refplane.analysis.sweep import Sweep
 
 #: |e00| above this (−20 dB) is reported as poor directivity. Common practice (from memory): a
@@ -104,7 +104,7 @@ class OnePortTerms:
 
     def on(self, freq_hz: np.ndarray) -> "OnePortTerms":
         """The terms interpolated (linearly, real and imaginary parts) onto other frequencies."""
-        from refplane.analysis.markers import interpolate
+        from refplane.analysis.readings.markers import interpolate
 
         return OnePortTerms(np.asarray(freq_hz, dtype=float),
                             *(interpolate(self.freq_hz, t, freq_hz) for t in
@@ -215,7 +215,7 @@ class TransmissionTerms:
 
     def on(self, freq_from: np.ndarray, freq_hz: np.ndarray) -> "TransmissionTerms":
         """The terms interpolated from ``freq_from`` onto ``freq_hz``."""
-        from refplane.analysis.markers import interpolate
+        from refplane.analysis.readings.markers import interpolate
 
         return TransmissionTerms(*(interpolate(freq_from, t, freq_hz) for t in
                                    (self.transmission_tracking, self.isolation, self.load_match)))
@@ -331,7 +331,7 @@ def _hz(f: float) -> str:
 def _align(named: Sequence[tuple[str, Sweep]], freq_hz: np.ndarray, interpolate: bool,
            warnings: list[str]) -> list[np.ndarray]:
     """S of each sweep on ``freq_hz``: as is when the grid matches, else interpolated or refused."""
-    from refplane.analysis.markers import interpolate as interp
+    from refplane.analysis.readings.markers import interpolate as interp
 
     out = []
     for name, sw in named:

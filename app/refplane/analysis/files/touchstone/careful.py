@@ -14,11 +14,11 @@ from typing import Iterator
 import numpy as np
 
 from refplane.analysis.errors import SweepFileError, show_token
-from refplane.analysis.touchstone.convert import bad_point, to_s
-from refplane.analysis.touchstone.header import (
+from refplane.analysis.files.touchstone.convert import bad_point, to_s
+from refplane.analysis.files.touchstone.header import (
     FREQ_UNITS, MAX_LINE, NUMBER, UNIT_NAMES, Header, decode_line, header_line, split_comment)
-from refplane.analysis.touchstone.numbers import any_width, fixed_width
-from refplane.analysis.touchstone.source import LineTooLong, Source
+from refplane.analysis.files.touchstone.numbers import any_width, fixed_width
+from refplane.analysis.files.touchstone.source import LineTooLong, Source
 
 
 def _lines(src: Source) -> Iterator[tuple[int, str]]:

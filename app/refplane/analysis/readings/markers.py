@@ -16,7 +16,7 @@ from __future__ import annotations
 import numpy as np
 
 from refplane.analysis.errors import AnalysisError
-from refplane.analysis.impedance import gamma_to_z, vswr
+from refplane.analysis.readings.impedance import gamma_to_z, vswr
 from refplane.analysis.sweep import Sweep
 from refplane.analysis.units import format_frequency
 

@@ -24,7 +24,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from refplane.analysis.errors import AnalysisError
-from refplane.analysis.markers import interpolate
+from refplane.analysis.readings.markers import interpolate
 from refplane.analysis.sweep import Sweep
 from refplane.analysis.units import format_frequency
 

@@ -56,7 +56,7 @@ from typing import Iterable, Mapping
 import numpy as np
 
 from refplane.analysis.errors import AnalysisError, SweepFileError
-from refplane.analysis.fileio import Const, Number, Obj, SchemaError, Text, read_json, validate
+from refplane.analysis.files.fileio import Const, Number, Obj, SchemaError, Text, read_json, validate
 from refplane.analysis.sweep import Sweep
 
 FORMAT = "refplane-standards"
@@ -303,7 +303,7 @@ def _check_grid(std: Standard, freq_hz: np.ndarray, interpolate: bool) -> None:
 
 
 def _data_on(std: Standard, freq_hz: np.ndarray) -> np.ndarray:
-    from refplane.analysis.markers import interpolate as interp
+    from refplane.analysis.readings.markers import interpolate as interp
 
     data = std.data
     if grids_match(data.freq_hz, freq_hz):
@@ -339,7 +339,7 @@ def reflection(std: Standard, freq_hz, z0_ohm: float = 50.0, *, interpolate: boo
         g = _data_on(std, f)[:, 0, 0]
         zd = complex(std.data.z0_ohm[0])
         if zd != z0_ohm:
-            from refplane.analysis.impedance import gamma_to_z, z_to_gamma
+            from refplane.analysis.readings.impedance import gamma_to_z, z_to_gamma
 
             g = z_to_gamma(gamma_to_z(g, zd), z0_ohm)
         return g
@@ -472,7 +472,7 @@ def _standard_from_json(entry: dict, kind: str | None, label: str, base: Path, f
         path = Path(data_file)
         if not path.is_absolute():
             path = base / path
-        from refplane.analysis.loading import read_sweep
+        from refplane.analysis.files.loading import read_sweep
 
         data = read_sweep(path)
         data_file = str(path)
@@ -567,7 +567,7 @@ def standards_to_json(standards: StandardSet, *, base: str | os.PathLike | None 
 
 def save_standards(standards: StandardSet, path: str | os.PathLike, *, overwrite: bool = False) -> Path:
     """Write a standards file atomically; an existing file is kept unless ``overwrite``."""
-    from refplane.analysis.fileio import write_text_atomic
+    from refplane.analysis.files.fileio import write_text_atomic
 
     target = Path(path)
     text = json.dumps(standards_to_json(standards, base=target.parent), indent=2, allow_nan=False)

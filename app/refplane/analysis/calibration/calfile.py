@@ -26,9 +26,9 @@ from pathlib import Path
 
 import numpy as np
 
-from refplane.analysis.calibration import Calibration, OnePortTerms, TransmissionTerms
+from refplane.analysis.calibration.solve import Calibration, OnePortTerms, TransmissionTerms
 from refplane.analysis.errors import SweepFileError
-from refplane.analysis.fileio import Const, ListOf, Number, Obj, Text, read_json, validate
+from refplane.analysis.files.fileio import Const, ListOf, Number, Obj, Text, read_json, validate
 
 FORMAT = "refplane-calibration"
 VERSION = 1
@@ -110,7 +110,7 @@ def save_calibration(cal: Calibration, path: str | os.PathLike, *, overwrite: bo
     SweepFileError
         When the file exists and ``overwrite`` is false, or the folder does not exist.
     """
-    from refplane.analysis.fileio import write_text_atomic
+    from refplane.analysis.files.fileio import write_text_atomic
 
     obj = calibration_to_json(cal)
     for values in obj["terms"].values():

@@ -94,7 +94,7 @@ def read(path: str | os.PathLike) -> Sweep:
     SweepFileError
         With the file, line and reason when the file cannot be understood.
     """
-    from refplane.analysis.fileio import read_limited
+    from refplane.analysis.files.fileio import read_limited
 
     name = os.fspath(path)
     raw = read_limited(name, "a CSV file")

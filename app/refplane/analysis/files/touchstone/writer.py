@@ -10,7 +10,7 @@ import numpy as np
 
 from refplane.analysis.errors import SweepFileError
 from refplane.analysis.sweep import Sweep
-from refplane.analysis.touchstone.header import FORMATS, FREQ_UNITS, UNIT_NAMES, ports_in_name
+from refplane.analysis.files.touchstone.header import FORMATS, FREQ_UNITS, UNIT_NAMES, ports_in_name
 
 #: Numbers per line the writer puts in a matrix row of three or more ports (1.x allows at most 4 pairs).
 _PAIRS_PER_LINE = 4
@@ -105,7 +105,7 @@ def write(sweep: Sweep, path: str | os.PathLike, *, fmt: str = "RI", freq_unit: 
 
 
 def _atomic(path, text: str, overwrite: bool) -> Path:
-    from refplane.analysis.fileio import write_text_atomic
+    from refplane.analysis.files.fileio import write_text_atomic
 
     return write_text_atomic(path, text, overwrite=overwrite)
 

@@ -10,8 +10,8 @@ from typing import Sequence
 
 import numpy as np
 
-from refplane.analysis.impedance import Readout, readout
-from refplane.analysis.markers import gamma_at
+from refplane.analysis.readings.impedance import Readout, readout
+from refplane.analysis.readings.markers import gamma_at
 from refplane.analysis.sweep import Sweep
 
 

@@ -34,15 +34,15 @@ def read_sweep(path: str | os.PathLike) -> Sweep:
     except TypeError:
         raise SweepFileError(f"not a file path: {path!r}") from None
     if name.lower().endswith(".csv"):
-        from refplane.analysis import csvfile
+        from refplane.analysis.files import csvfile
 
         return csvfile.read(name)
     if _TOUCHSTONE.search(name):
-        from refplane.analysis import touchstone
+        from refplane.analysis.files import touchstone
 
         return touchstone.read(name)
     # Say first what is wrong with the path itself (missing, a folder, a pipe …).
-    from refplane.analysis.fileio import open_input
+    from refplane.analysis.files.fileio import open_input
 
     open_input(name, "a sweep file").close()
     raise SweepFileError(

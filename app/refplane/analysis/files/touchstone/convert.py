@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 
 from refplane.analysis.errors import SweepFileError
-from refplane.analysis.touchstone.header import Header
+from refplane.analysis.files.touchstone.header import Header
 
 def _element_order(head: Header) -> tuple[list[tuple[int, int]], bool]:
     """File order of matrix elements as (row, column), and whether to mirror (Lower/Upper)."""

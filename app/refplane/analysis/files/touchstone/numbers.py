@@ -22,7 +22,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from refplane.analysis.touchstone.header import NUMBER
+from refplane.analysis.files.touchstone.header import NUMBER
 
 _MAX_FIXUPS = 2000
 _NUMBER_BYTES = frozenset(b"0123456789+-.eE")

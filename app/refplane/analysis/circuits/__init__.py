@@ -1,0 +1,1 @@
+"""Equivalent circuits: the two-terminal models (:mod:`.models`) and fitting them (:mod:`.fitting`)."""
