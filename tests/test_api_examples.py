@@ -1,7 +1,7 @@
 """The Python API examples in the README run as written.
 
 The blocks are taken from README.md's "Python API" section when it has one (after the lead
-folds the text in), else from docs/readme/api.md. Each block runs in a fresh namespace, in a
+folds the text in), else from docs/python-api.md. Each block runs in a fresh namespace, in a
 temporary folder holding a copy of sample_sweeps/, so the examples' relative paths work and
 nothing is written into the repository.
 """
@@ -31,7 +31,7 @@ def _blocks() -> list[str]:
     readme = ROOT / "README.md"
     section = _section(readme.read_text(encoding="utf-8"), "Python API") if readme.exists() else None
     if section is None:
-        section = (ROOT / "docs" / "readme" / "api.md").read_text(encoding="utf-8")
+        section = (ROOT / "docs" / "python-api.md").read_text(encoding="utf-8")
     return re.findall(r"^```python\n(.*?)^```", section, flags=re.M | re.S)
 
 
