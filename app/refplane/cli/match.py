@@ -86,14 +86,10 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
 
 def run(args: argparse.Namespace) -> int:
     from refplane.analysis.antenna.matching import CAUTION, match_sweep
-    from refplane.analysis.files.loading import read_sweep
     from refplane.analysis.units import format_frequency, format_si
-    from refplane.cli.offsets import apply_offsets, offsets_json
+    from refplane.cli.offsets import read_with_offsets
 
-    sweep = read_sweep(args.file)
-    sweep.check_port(args.port)
-    removed = offsets_json(args, sweep)
-    sweep, notes = apply_offsets(args, sweep)
+    sweep, removed, notes = read_with_offsets(args)
     result = match_sweep(sweep, args.at_hz, port=args.port, target_ohm=args.target_ohm, series=args.series,
                          power_w=args.power_w, q=args.q, vf=args.coax_vf)
     if args.json:

@@ -235,3 +235,17 @@ def offsets_json(args: argparse.Namespace, sweep) -> list[dict]:
              "dielectric_loss_db": o.dielectric_loss_db, "skin_phase": o.skin_phase,
              "z0_follows_skin": o.z0_follows_skin, "line_z0_ohm": o.line_z0_ohm}
             for port, o in enumerate(offsets, start=1) if o is not None]
+
+
+def read_with_offsets(args: argparse.Namespace):
+    """Read ``args.file``, check ``args.port``, and remove the lines the plane options name.
+
+    Returns (sweep with the lines removed, the removed lines as JSON, notes to print).
+    """
+    from refplane.analysis.files.loading import read_sweep
+
+    sweep = read_sweep(args.file)
+    sweep.check_port(args.port)
+    removed = offsets_json(args, sweep)
+    sweep, notes = apply_offsets(args, sweep)
+    return sweep, removed, notes

@@ -52,14 +52,10 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
 
 def run(args: argparse.Namespace) -> int:
     from refplane.analysis.antenna.resonance import analyse
-    from refplane.analysis.files.loading import read_sweep
     from refplane.analysis.units import format_frequency, format_si
-    from refplane.cli.offsets import apply_offsets, offsets_json
+    from refplane.cli.offsets import read_with_offsets
 
-    sweep = read_sweep(args.file)
-    sweep.check_port(args.port)
-    removed = offsets_json(args, sweep)
-    sweep, notes = apply_offsets(args, sweep)
+    sweep, removed, notes = read_with_offsets(args)
     limits = args.vswr_limits or [2.0]
     report = analyse(sweep, args.port, vswr_limits=limits, band_hz=args.band_hz)
     if args.json:

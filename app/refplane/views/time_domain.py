@@ -317,10 +317,7 @@ class TimeDomainView(QWidget):
     def _show_settings(self) -> None:
         s = self.settings
 
-        def put(widget, setter, value):
-            widget.blockSignals(True)
-            setter(value)
-            widget.blockSignals(False)
+        put = tw.put
 
         for combo, value in ((self.mode_combo, s.mode), (self.show_combo, s.show), (self.window_combo, s.window)):
             i = combo.findData(value)

@@ -380,10 +380,7 @@ class AntennaPanel(QWidget):
 
         s = self.settings
 
-        def put(widget, setter, value):
-            widget.blockSignals(True)
-            setter(value)
-            widget.blockSignals(False)
+        put = tw.put
 
         if abs(self.vswr_spin.value() - s.vswr_limit) > 1e-9:
             put(self.vswr_spin, self.vswr_spin.setValue, s.vswr_limit)

@@ -280,10 +280,7 @@ class CablePanel(QWidget):
 
         s = self.settings
 
-        def put(widget, setter, value):
-            widget.blockSignals(True)
-            setter(value)
-            widget.blockSignals(False)
+        put = tw.put
 
         for combo, value in ((self.open_combo, s.open_trace), (self.short_combo, s.short_trace),
                              (self.known_combo, s.known)):

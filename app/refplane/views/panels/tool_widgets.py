@@ -30,6 +30,15 @@ def note(text: str = "", *, quiet: bool = True, selectable: bool = True) -> QLab
     return label
 
 
+def put(widget, setter, value) -> None:
+    """Show a session value in a widget with its signals held, so nothing echoes back."""
+    widget.blockSignals(True)
+    try:
+        setter(value)
+    finally:
+        widget.blockSignals(False)
+
+
 def caution(text: str) -> QLabel:
     """A wrapped caution, marked so it is not mistaken for a hint."""
     label = note(f"⚠ {text}", quiet=False)

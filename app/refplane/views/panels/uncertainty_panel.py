@@ -281,10 +281,7 @@ class UncertaintyPanel(QWidget):
 
         s = self.settings
 
-        def put(widget, setter, value):
-            widget.blockSignals(True)
-            setter(value)
-            widget.blockSignals(False)
+        put = tw.put
 
         for check, value in ((self.enabled_check, s.enabled), (self.residual_check, s.use_residual),
                              (self.interp_check, s.interpolation)):
