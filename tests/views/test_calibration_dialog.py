@@ -457,3 +457,19 @@ def test_inputs_live_in_the_session_and_come_back_with_it(qtbot, files):
     assert second.solve_button.isEnabled()
     second.clear_standard("open")
     assert "open" not in state.calibration.standards
+
+
+def test_the_calibration_doctor_speaks_in_the_dialog(dialog, files):
+    # Synthetic raw data through a known error box (three-term model, references.md); with the
+    # open and short swapped the doctor names it and says to redo it; a clean set gives no finding.
+    choose_standards(dialog, files)
+    dialog.solve()
+    assert dialog.last_diagnosis is not None and dialog.last_diagnosis.findings == ()
+    assert "Calibration check: good" in dialog.verdict.text()
+    dialog.set_standard_file("short", files["open"])
+    dialog.set_standard_file("open", files["short"])
+    dialog.solve()
+    kinds = {f.kind for f in dialog.last_diagnosis.findings}
+    assert "swapped" in kinds and dialog.last_diagnosis.verdict == "redo it"
+    lines = [dialog.warning_list.item(i).text() for i in range(dialog.warning_list.count())]
+    assert any(line.startswith("Check (redo)") and "swapped" in line for line in lines)

@@ -636,10 +636,34 @@ class CalibrationDialog(QDialog):
         used = ", ".join(Path(self.path_edits[r].text()).name for r, _, _ in ROLES if r in self._sweeps)
         self._terms_source = f"worked out from the standards measured here ({used})"
         self._show_calibration(cal)
+        self.show_diagnosis(cal, measured={r: self._sweeps[r] for r in ("short", "open", "load")})
         if extra:
             self.warning_list.addItem(f"not used here: {', '.join(extra)} (additional and check standards "
                                       "are measured with 'refplane correct --extra/--check')")
         return cal
+
+    def show_diagnosis(self, cal, *, measured=None, devices=()) -> object | None:
+        """Ask the calibration doctor about these error terms (and corrected devices); show its
+        verdict and each finding as a plain sentence with its band. Returns the diagnosis."""
+        from refplane.analysis.uncertainty.doctor import diagnose
+        from refplane.session import jobs
+
+        def work():
+            standards = dataclasses.replace(self.standards(), additional=(), checks=())
+            return diagnose(cal, measured=measured, standards=standards, devices=list(devices))
+
+        result = jobs.guarded(work, what="check the calibration")
+        if not result.ok:
+            self.warning_list.addItem(f"The calibration could not be checked: {result.message}")
+            return None
+        diagnosis = result.value
+        self.last_diagnosis = diagnosis
+        self.verdict.setText(f"{self.verdict.text()} Calibration check: {diagnosis.verdict}.")
+        for finding in diagnosis.findings:
+            self.warning_list.addItem(f"Check ({finding.severity}): {finding.sentence}")
+        return diagnosis
+
+    last_diagnosis = None
 
     def _show_calibration(self, cal) -> None:
         from refplane.analysis.calibration.solve import terms_db
@@ -804,6 +828,10 @@ class CalibrationDialog(QDialog):
                 self.device_list.item(i).setCheckState(Qt.Unchecked)
         for n in dict.fromkeys(notes):
             self.warning_list.addItem(n)
+        if new_ids:
+            # A passive device reading |Γ| > 1 after correction says something about the calibration.
+            self.show_diagnosis(self.calibration, devices=[(self.state.trace(t).name, self.state.trace(t).raw)
+                                                           for t in new_ids])
         if problems:
             self.show_error("Some devices were not corrected", "\n".join(problems))
         elif not new_ids:
