@@ -58,3 +58,19 @@ def test_session_and_files_together_are_refused(tmp_path, capsys):
     a = write_sweep(resistor_with_leads(), tmp_path / "r75.s1p")
     assert main(["report", a, "--session", "x.refplane", "-o", str(tmp_path / "r.html")]) == 2
     assert "leave out PATH" in capsys.readouterr().err
+
+
+def test_report_carries_the_plus_minus_of_the_session(tmp_path):
+    from refplane.report.build import build_html
+    from refplane.report.from_session import session_sections
+    from refplane.session.uncertainty_view import marker_u
+
+    a = write_sweep(resistor_with_leads(), tmp_path / "r75.s1p")
+    s = Session()
+    tid = s.add_sweep(read_sweep(a))
+    s.add_marker(tid, 470e6)
+    s.set_tool("uncertainty", enabled=True, directivity_db=40.0, source_match_db=35.0, tracking_db=0.1)
+    html = build_html(session_sections(s))
+    expected = readout_cells(read_points(s.displayed(tid), [470e6]).readout.at(0),
+                             marker_u(s.tool("uncertainty"), s.trace(tid), 470e6))
+    assert "±" in expected["R"] and expected["R"] in html and "k = 2" in html

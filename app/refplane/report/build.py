@@ -76,6 +76,10 @@ class SweepReport:
     fit_sentence : str or None
         The equivalent-circuit fit in one sentence, when a fit was asked for.
     limits : tuple of LimitLine
+    marker_u : tuple of (dict or None), optional
+        Expanded uncertainties (k = 2) of each marker's readings, keyed like the JSON point.
+    u_sources : str
+        What the uncertainties are made of, in words.
     """
 
     sweep: Sweep
@@ -87,6 +91,8 @@ class SweepReport:
     readings: object | None = None
     fit_sentence: str | None = None
     limits: tuple[LimitLine, ...] = field(default_factory=tuple)
+    marker_u: tuple | None = None
+    u_sources: str = ""
 
     @property
     def decision(self) -> str | None:
@@ -236,7 +242,8 @@ def marker_rows(section: SweepReport) -> tuple[list[str], list[list[str]]]:
     headers: list[str] = []
     rows = []
     for i in range(section.readings.freq_hz.size):
-        cells = readout_cells(section.readings.readout.at(i))
+        u = section.marker_u[i] if section.marker_u and i < len(section.marker_u) else None
+        cells = readout_cells(section.readings.readout.at(i), u)
         headers = ["Marker"] + list(cells)
         rows.append([str(i + 1)] + list(cells.values()))
     return headers, rows
@@ -357,7 +364,10 @@ def _section_html(section: SweepReport, index: int) -> str:
     if rows_m:
         parts.append("<h3>Markers</h3>")
         parts.append(_table(headers, rows_m))
-        parts.append('<p class="small">Uncertainties: not evaluated for these readings.</p>')
+        if section.marker_u and any(u is not None for u in section.marker_u):
+            parts.append(f'<p class="small">{escape(section.u_sources or "± is the expanded uncertainty (k = 2, about 95 %).")}</p>')
+        else:
+            parts.append('<p class="small">Uncertainties: not evaluated for these readings.</p>')
     if section.fit_sentence:
         parts.append("<h3>Equivalent circuit</h3>")
         parts.append(f"<p>{escape(section.fit_sentence)}</p>")

@@ -19,6 +19,19 @@ def session_sections(session, *, limits: Sequence = ()) -> list:
         fit_model = None
         if session.fit.overlay_trace == t.id and session.fit.measurement == "reflection":
             fit_model = session.fit.model
-        sections.append(sweep_report(t.displayed, file=t.source, port=t.port, at_hz=at, limits=limits,
-                                     fit_model=fit_model, notes=notes))
+        section = sweep_report(t.displayed, file=t.source, port=t.port, at_hz=at, limits=limits,
+                               fit_model=fit_model, notes=notes)
+        settings = session.tool("uncertainty")
+        if at and getattr(settings, "enabled", False) and session.display.chart_z0_ohm is None:
+            from dataclasses import replace
+
+            from refplane.analysis.errors import AnalysisError
+            from refplane.session.uncertainty_view import marker_u, sources_sentence
+
+            try:
+                us = tuple(marker_u(settings, t, f) for f in at)
+                section = replace(section, marker_u=us, u_sources=sources_sentence(settings))
+            except AnalysisError as exc:
+                section = replace(section, warnings=section.warnings + (f"no uncertainty: {exc}",))
+        sections.append(section)
     return sections
