@@ -50,6 +50,10 @@ class Preparation:
         Where the line sits: a port, every port, or (None) the port being read.
     uncertainty : dict
         Expanded uncertainty (k = 2) per quantity key, a scalar or one value per swept point.
+    residual : ResidualTerms or None
+        The instrument's corrected performance: the uncertainty engine then works out each
+        reflection reading's expanded uncertainty at every swept point (linear propagation,
+        trace noise estimated from the sweep) for the guard bands.
     """
 
     port: int = 1
@@ -58,6 +62,26 @@ class Preparation:
     offset: object | None = None
     offset_port: int | str | None = None
     uncertainty: dict = field(default_factory=dict)
+    residual: object | None = None
+
+    def uncertainties_for(self, sweep, limits) -> dict:
+        """Expanded uncertainties per limit quantity: those given, and the engine's where
+        ``residual`` is set (reflection readings only; a quantity given by hand wins)."""
+        u = dict(self.uncertainty)
+        wanted = {lim.quantity for lim in limits} - set(u)
+        if self.residual is None or not wanted:
+            return u
+        from refplane.analysis.uncertainty.propagate import U_KEYS
+        from refplane.analysis.uncertainty.reading import UncertaintyOptions, uncertain_points
+
+        keys = [q for q in wanted if q in U_KEYS]
+        if not keys:
+            return u
+        result = uncertain_points(sweep, sweep.freq_hz, port=self.port,
+                                  options=UncertaintyOptions(residual=self.residual, method="linear"))
+        for q in keys:
+            u[q] = getattr(result, q)
+        return u
 
     def apply(self, sweep):
         """The sweep corrected and offset, with plain lines saying what was done.
@@ -210,7 +234,7 @@ def check_file(path: str, limits: Sequence[Limit], prep: Preparation = Preparati
 
     try:
         sweep, _, _ = prep.apply(read_sweep(path))
-        results = evaluate_limits(limits, sweep, port=prep.port, u=prep.uncertainty)
+        results = evaluate_limits(limits, sweep, port=prep.port, u=prep.uncertainties_for(sweep, limits))
     except (AnalysisError, OSError, UnicodeDecodeError, MemoryError) as exc:
         return FileCheck(path, "unreadable", reason=" ".join(_one_line(exc, path).split()))
     return FileCheck(path, overall_decision(results), results)

@@ -11,6 +11,7 @@ import io
 import json
 import math
 import os
+import pathlib
 import subprocess
 import sys
 
@@ -229,3 +230,35 @@ def test_calibration_is_applied_before_the_limits(tmp_path, capsys):
                  "--limit", limit, "-o", str(report)]) == 0
     text = report.read_text(encoding="utf-8")
     assert "calibration applied" in text and "line removed" in text
+
+
+def test_residual_terms_make_near_results_indeterminate(tmp_path, capsys):
+    # Guard bands of JCGM 106 (acceptance zone shrunk by the expanded uncertainty U): a reading
+    # closer to its limit than U is indeterminate; U comes from the uncertainty engine (itself
+    # checked against JCGM 101 Monte Carlo and EURAMET cg-12's worst-case bound).
+    import json
+
+    import numpy as np
+
+    from refplane.analysis.readings.impedance import z_to_gamma as _z2g
+    from refplane.analysis.sweep import Sweep as _Sweep
+    from refplane.analysis.uncertainty.reading import UncertaintyOptions, uncertain_points
+    from refplane.analysis.uncertainty.residual import parse_residual
+
+    f = np.linspace(100e6, 200e6, 51)
+    near = _Sweep(f, np.full(f.size, _z2g(72.0, 50.0)), 50.0, name="near")   # VSWR 1.44
+    far = _Sweep(f, np.full(f.size, _z2g(55.0, 50.0)), 50.0, name="far")     # VSWR 1.10
+    folder = tmp_path / "lot"
+    folder.mkdir()
+    touchstone.write(near, folder / "near.s1p")
+    touchstone.write(far, folder / "far.s1p")
+    limit = "vswr <= 1.5 over 120MHz:180MHz"
+    assert main(["check", str(folder), "--limit", limit, "--json"]) == 0
+    capsys.readouterr()
+    assert main(["check", str(folder), "--limit", limit, "--residual", "30dB,30dB,0.2dB", "--json"]) == 1
+    out = json.loads(capsys.readouterr().out)
+    decisions = {pathlib.Path(r["file"]).name: r["limits"][0]["decision"] for r in out["files"]}
+    assert decisions == {"near.s1p": "indeterminate", "far.s1p": "pass"}
+    u = uncertain_points(near, f, options=UncertaintyOptions(residual=parse_residual("30dB,30dB,0.2dB"),
+                                                              method="linear")).vswr
+    assert np.max(u) > 1.5 - 1.44  # the engine's U is wider than the margin, hence indeterminate

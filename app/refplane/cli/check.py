@@ -35,6 +35,12 @@ and antennas before connecting them to the analyzer.
 """
 
 
+def _parse_residual(text: str):
+    from refplane.analysis.uncertainty.residual import parse_residual
+
+    return parse_residual(text)
+
+
 def _parse_uncertainty(text: str) -> tuple[str, float]:
     from refplane.analysis.errors import AnalysisError
     from refplane.analysis.limits import QUANTITIES
@@ -71,6 +77,10 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
     p.add_argument("--cal", metavar="CAL.json", help="correct every sweep with saved error terms first")
     p.add_argument("--interpolate", action="store_true",
                    help="with --cal: allow sweeps on other frequencies (error terms interpolated)")
+    p.add_argument("--residual", dest="residual", metavar="D,M,T", type=arg_type(_parse_residual, "residual terms"),
+                   help="the instrument's corrected performance, e.g. 40dB,35dB,0.1dB (directivity, source "
+                        "match, tracking): every reflection reading's expanded uncertainty is then worked out "
+                        "and a result too close to its limit is indeterminate")
     p.add_argument("--uncertainty", dest="uncertainty", action="append", default=[], metavar="QUANTITY=U",
                    type=arg_type(_parse_uncertainty, "uncertainty"),
                    help="expanded uncertainty (k = 2) of a quantity, the same at every frequency, "
@@ -125,7 +135,8 @@ def preparation_from_args(args: argparse.Namespace):
         cal = load_calibration(args.cal)
     return Preparation(port=args.port, calibration=cal, interpolate=getattr(args, "interpolate", False),
                        offset=offset_from_args(args), offset_port=getattr(args, "offset_port", None),
-                       uncertainty=dict(getattr(args, "uncertainty", []) or []))
+                       uncertainty=dict(getattr(args, "uncertainty", []) or []),
+                       residual=getattr(args, "residual", None))
 
 
 def _check_outputs(args) -> str | None:
