@@ -152,3 +152,18 @@ def test_render_session_draws_the_windows_own_picture(qtbot, tmp_path, files):
     # and it is a picture of something: trace colour present
     assert (np.abs(a.astype(int) - np.array([0xB2, 0x72, 0x00])).sum(axis=2) < 60).any() or \
            (np.abs(a.astype(int) - np.array([0x00, 0x72, 0xB2])).sum(axis=2) < 60).any()
+
+
+def test_an_added_ending_asks_once_before_replacing_another_file(qtbot, tmp_path, files):
+    w = _window(qtbot)
+    w.open_files(files[:1])
+    _wait_loaded(qtbot, w, 1)
+    (tmp_path / "bench.refplane").write_text("someone else's file")
+    asked = []
+    w.confirm_replace = lambda path: asked.append(path) or False
+    assert w.with_ending(str(tmp_path / "bench"), ".refplane", (".refplane",)) is None
+    assert asked == [str(tmp_path / "bench.refplane")]
+    assert (tmp_path / "bench.refplane").read_text() == "someone else's file"
+    assert w.with_ending(str(tmp_path / "fresh"), ".refplane", (".refplane",)) == str(tmp_path / "fresh.refplane")
+    assert w.with_ending(str(tmp_path / "named.refplane"), ".refplane", (".refplane",)) == str(tmp_path / "named.refplane")
+    assert len(asked) == 1  # a name the dialog already asked about is not asked again

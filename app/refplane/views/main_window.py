@@ -542,10 +542,11 @@ class MainWindow(QMainWindow):
                                               f"Refplane sessions (*{SUFFIX})")
         if not path:
             return None
-        if not path.lower().endswith(SUFFIX):
-            path += SUFFIX
+        path = self.with_ending(path, SUFFIX, (SUFFIX,))
+        if path is None:
+            return None
         remember_folder("sessions", path)
-        # The save dialog has already asked before replacing an existing file.
+        # The save dialog (or with_ending) has asked before replacing an existing file, once.
         return self.save_session(path, overwrite=True)
 
     def ask_report(self) -> str | None:
@@ -557,9 +558,10 @@ class MainWindow(QMainWindow):
                                               "Web page (*.html);;PDF document (*.pdf)")
         if not path:
             return None
-        if not path.lower().endswith((".html", ".htm", ".pdf")):
-            path += ".html"
-        # The save dialog has already asked before replacing an existing file.
+        path = self.with_ending(path, ".html", (".html", ".htm", ".pdf"))
+        if path is None:
+            return None
+        # The save dialog (or with_ending) has asked before replacing an existing file, once.
         return self.write_report(path, overwrite=True)
 
     def write_report(self, path: str, *, overwrite: bool = False) -> str | None:
@@ -575,6 +577,27 @@ class MainWindow(QMainWindow):
             return None
         self.statusBar().showMessage(f"Wrote {written}", 5000)
         return str(written)
+
+    def with_ending(self, path: str, ending: str, accepted: tuple[str, ...] | None) -> str | None:
+        """The path a save dialog returned, with ``ending`` added when it lacks one it accepts.
+
+        The dialog asked about replacing the name as typed; when adding the ending names another
+        file that exists, ask about that one (once). None when the person says no.
+        """
+        lacks = (not os.path.splitext(path)[1]) if accepted is None else not path.lower().endswith(accepted)
+        if not lacks:
+            return path
+        path += ending
+        if os.path.exists(path) and not self.confirm_replace(path):
+            return None
+        return path
+
+    def confirm_replace(self, path: str) -> bool:
+        """Ask once before replacing ``path`` (a method so tests can answer for the person)."""
+        answer = QMessageBox.question(self, "Replace the file?",
+                                      f"{os.path.basename(path)} exists already in {os.path.dirname(path)}. "
+                                      "Replace it?", QMessageBox.Yes | QMessageBox.No, QMessageBox.No)
+        return answer == QMessageBox.Yes
 
     def save_session_now(self) -> str | None:
         """Save to the session's own file (File ▸ Save session), or ask where the first time."""
@@ -737,9 +760,10 @@ class MainWindow(QMainWindow):
         path = self.ask_table_path()
         if not path:
             return
-        if not os.path.splitext(path)[1]:
-            path += ".csv"
-        self.export_table(path, overwrite=True)  # the save dialog has asked before replacing
+        path = self.with_ending(path, ".csv", None)
+        if path is None:
+            return
+        self.export_table(path, overwrite=True)  # the save dialog (or with_ending) has asked, once
 
     def export_table(self, path: str, *, overwrite: bool = False) -> str | None:
         """Write the marker table as CSV (units in the header row, plain numbers)."""
@@ -766,8 +790,9 @@ class MainWindow(QMainWindow):
         path = self.ask_save_path(f"Save {what} picture", f"refplane-{what}.png")
         if not path:
             return
-        if not os.path.splitext(path)[1]:
-            path += ".png"
+        path = self.with_ending(path, ".png", None)
+        if path is None:
+            return
         try:
             # The file dialog has already asked before replacing an existing file.
             self.export(what, path, overwrite=True)
