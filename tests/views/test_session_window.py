@@ -167,3 +167,14 @@ def test_an_added_ending_asks_once_before_replacing_another_file(qtbot, tmp_path
     assert w.with_ending(str(tmp_path / "fresh"), ".refplane", (".refplane",)) == str(tmp_path / "fresh.refplane")
     assert w.with_ending(str(tmp_path / "named.refplane"), ".refplane", (".refplane",)) == str(tmp_path / "named.refplane")
     assert len(asked) == 1  # a name the dialog already asked about is not asked again
+
+
+def test_a_click_on_a_control_that_cannot_act_says_why(qtbot):
+    from PySide6.QtCore import Qt
+    from PySide6.QtTest import QTest
+
+    w = _window(qtbot)
+    button = w.marker_table.remove_button
+    assert not button.isEnabled() and button.toolTip()
+    QTest.mouseClick(button, Qt.LeftButton)
+    assert w.statusBar().currentMessage() == button.toolTip().strip()

@@ -408,6 +408,14 @@ class MainWindow(QMainWindow):
             self.theme_actions[d.theme].setChecked(True)
 
     def _build_status_bar(self) -> None:
+        from PySide6.QtWidgets import QApplication
+
+        from refplane.views.why_disabled import WhyDisabled
+
+        self.why_disabled = WhyDisabled(self)
+        app = QApplication.instance()
+        if app is not None:
+            app.installEventFilter(self.why_disabled)
         status = self.statusBar()
         self.progress = QProgressBar()
         self.progress.setRange(0, 0)  # the readers report no fraction: an honest "busy"
