@@ -25,7 +25,7 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
                     "high-frequency value), the one-way delay, the velocity factor (given "
                     "--length) or the length (given --vf), and the one-way loss split into a "
                     "conductor (√f) and a dielectric (f) part, with the residual of the fit. "
-                    "Z0 = √(Zoc·Zsc), tanh(γl) = √(Zsc/Zoc); see the README, 'Cables'.",
+                    "Z0 = √(Zoc·Zsc), tanh(γl) = √(Zsc/Zoc); see docs/cables.md.",
         epilog=CAUTION)
     p.add_argument("--open", dest="open_file", required=True, metavar="O",
                    help="sweep of the cable with its far end open (Touchstone or CSV)")

@@ -23,7 +23,7 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
                     "plane to its far end. The line's impedance is taken as the port's reference "
                     "(at high frequency) and the standard as ideal; the residual says how well that "
                     "holds. The loss is split into a conductor (√f) and a dielectric (f) term, and the "
-                    "line model that explains the reading best is reported (see the README, 'Cables'). "
+                    "line model that explains the reading best is reported (see docs/cables.md). "
                     "The summary ends with the 'refplane read' options that remove the line found.",
         epilog=_CAUTION)
     p.add_argument("file", help="Touchstone (.s1p, .s2p, …, .ts) or CSV sweep")

@@ -45,7 +45,7 @@ def add_parser(sub: argparse._SubParsersAction) -> None:
                     "and extrapolates DC, stating the error. Band-pass mode works on any sweep and gives "
                     "magnitudes. With --gate, the span is kept, the rest gated away, and the gated sweep "
                     "written as a Touchstone file (renormalised by the gate's own response to a unit "
-                    "reflection, which corrects the band edges). See the README, 'Cables'.",
+                    "reflection, which corrects the band edges). See docs/cables.md.",
         epilog=CAUTION)
     p.add_argument("file", help="Touchstone (.s1p, .s2p, …, .ts) or CSV sweep")
     p.add_argument("--port", type=int, default=1, metavar="N", help="use S_NN of port N (default 1)")
