@@ -118,11 +118,18 @@ def test_lossy_line_input_impedance_formula():
 
 def test_gamma_l_follows_sqrt_f_and_f_loss_laws():
     # Textbook: conductor (skin-effect) loss grows as √f, dielectric loss as f; 20·log10(e) dB per neper.
-    offset = LineOffset(delay_s=1e-9, loss_db=0.4, dielectric_loss_db=0.1, loss_ref_hz=1e9)
+    # The loss-only form (no phase with the √f term) on request:
+    offset = LineOffset(delay_s=1e-9, loss_db=0.4, dielectric_loss_db=0.1, loss_ref_hz=1e9, skin_phase=False)
     f = np.array([0.0, 1e9, 4e9])
     gl = offset.gamma_l(f)
     np.testing.assert_allclose(gl.real * DB_PER_NEPER, [0.0, 0.5, 0.4 * 2 + 0.1 * 4], atol=1e-12)
     np.testing.assert_allclose(gl.imag, 2 * np.pi * f * 1e-9, rtol=1e-15)
+    # By default the √f conductor term carries its equal phase (causal skin effect, surface
+    # impedance Zs = (1 + j)·√(πfμ/σ); Pozar §1.7): Im γl = 2πfτ + the conductor loss in nepers.
+    causal = LineOffset(delay_s=1e-9, loss_db=0.4, dielectric_loss_db=0.1, loss_ref_hz=1e9).gamma_l(f)
+    np.testing.assert_allclose(causal.real, gl.real, rtol=1e-15)
+    np.testing.assert_allclose(causal.imag, 2 * np.pi * f * 1e-9 + 0.4 * np.sqrt(f / 1e9) / DB_PER_NEPER,
+                               rtol=1e-12)
     assert DB_PER_NEPER == pytest.approx(8.685889638, rel=1e-9)  # from memory: 1 Np = 8.686 dB
 
 

@@ -137,3 +137,31 @@ def test_render_takes_the_same_options(open_through_cable, tmp_path, capsys):
     assert _run(["render", open_through_cable, "-o", str(tmp_path / "b.png"), "--vf", "0.66"]) == 2
     assert "--vf applies to --length" in capsys.readouterr().err
     assert not (tmp_path / "b.png").exists()
+
+
+def test_the_causal_phase_is_the_default_and_can_be_left_out(tmp_path, capsys):
+    # The √f loss carries its equal phase by default (causal skin effect, Pozar §1.7);
+    # --no-skin-phase gives the loss-only form: checked against remove_offsets directly.
+    import json
+
+    import numpy as np
+
+    from refplane.analysis.files import touchstone
+    from refplane.analysis.lines.deembed import LineOffset, remove_offsets
+    from refplane.analysis.readings import read_points
+    from refplane.analysis.sweep import Sweep
+    from refplane.cli import main
+
+    f = np.linspace(10e6, 1e9, 101)
+    sweep = Sweep(f, np.full(f.size, 0.3 + 0.1j), 50.0, name="dut")
+    path = touchstone.write(sweep, tmp_path / "dut.s1p")
+    readings = {}
+    for flag, phase in (([], True), (["--no-skin-phase"], False), (["--skin-phase"], True)):
+        assert main(["read", str(path), "--at", "700MHz", "--delay", "1ns", "--loss", "1dB@1GHz",
+                     "--json", *flag]) == 0
+        point = json.loads(capsys.readouterr().out)["points"][0]
+        expected = read_points(remove_offsets(sweep, [LineOffset(1e-9, 1.0, 1e9, skin_phase=phase)]),
+                               [700e6]).readout.at(0)
+        assert point["x_ohm"] == pytest.approx(expected.x_ohm, rel=1e-9)
+        readings[tuple(flag)] = point["x_ohm"]
+    assert readings[()] == readings[("--skin-phase",)] != readings[("--no-skin-phase",)]

@@ -66,9 +66,11 @@ def test_length_and_velocity_factor_are_linked_to_the_delay(setup, qtbot):
     assert state.trace(tid).offsets[0].delay_s == pytest.approx(0.2 / (0.66 * SPEED_OF_LIGHT_M_S), rel=1e-12)
     assert panel.delay_edit.text() == "1.0108 ns"
     # With the 20 cm removed, the open at the cable's end reads as an open again (|Γ| → 1, ∠ → 0)
-    # apart from the cable's loss, which is not yet removed.
+    # apart from the cable's loss, which is not yet removed — and the phase that comes with the
+    # skin-effect loss (equal to it in nepers, twice over the round trip; Pozar §1.7).
     gamma = state.displayed(tid).reflection(1)
-    assert np.max(np.abs(np.angle(gamma))) < 1e-9
+    skin_np = 0.1 * np.sqrt(state.displayed(tid).freq_hz / 1e9) / (20 * np.log10(np.e))
+    np.testing.assert_allclose(np.angle(gamma), -2 * skin_np, atol=1e-9)
     # Typing a delay updates the length shown.
     type_into(qtbot, panel.delay_edit, "2.0216 ns")
     assert panel.length_edit.text() == "400.00 mm"

@@ -7,9 +7,9 @@ Options
                           (instead of ``--delay``; each needs the other)
 ``--loss DB@F``           one-way conductor loss at a frequency, e.g. 0.4dB@1GHz (grows as √f)
 ``--dielectric-loss DB@F`` one-way dielectric loss at a frequency, e.g. 0.1dB@1GHz (grows as f)
-``--skin-phase``          give the √f loss its equal phase (the causal skin-effect model that
-                          real cable follows; ``refplane plane`` and ``refplane cable`` say
-                          when to use it)
+``--skin-phase``          the √f loss carries its equal phase (the causal skin-effect model that
+                          real cable follows). This is the default; ``--no-skin-phase`` works
+                          the loss alone, as earlier versions did
 ``--z0-follows-skin``     work the line as its full R, L, G, C line: its impedance (``--line-z0``
                           or the port's reference) is the high-frequency value and rises at
                           low frequency as the skin-effect law says (implies ``--skin-phase``)
@@ -76,8 +76,12 @@ def add_offset_options(parser: argparse.ArgumentParser) -> None:
     group.add_argument("--dielectric-loss", dest="offset_dielectric_loss", metavar="DB@F",
                        type=arg_type(parse_loss, "loss"),
                        help="one-way dielectric loss of the line, e.g. 0.1dB@1GHz (taken to grow as f)")
-    group.add_argument("--skin-phase", dest="offset_skin_phase", action="store_true", default=None,
-                       help="give the √f loss its equal phase (the causal skin-effect model of real cable)")
+    phase = group.add_mutually_exclusive_group()
+    phase.add_argument("--skin-phase", dest="offset_skin_phase", action="store_true", default=None,
+                       help="the √f loss carries its equal phase, the causal skin-effect model of real "
+                            "cable (the default)")
+    phase.add_argument("--no-skin-phase", dest="offset_skin_phase", action="store_false",
+                       help="the √f loss without its phase (the loss-only form of earlier versions)")
     group.add_argument("--z0-follows-skin", dest="offset_z0_follows_skin", action="store_true", default=None,
                        help="the line's impedance is its high-frequency value and rises at low frequency "
                             "as the skin-effect law says (implies --skin-phase)")
@@ -104,14 +108,14 @@ def offset_from_args(args: argparse.Namespace):
     loss = getattr(args, "offset_loss", None)
     dielectric = getattr(args, "offset_dielectric_loss", None)
     line_z0 = getattr(args, "offset_line_z0_ohm", None)
-    skin_phase = bool(getattr(args, "offset_skin_phase", None))
+    skin_phase = getattr(args, "offset_skin_phase", None)  # None: the model's default (causal)
     z0_skin = bool(getattr(args, "offset_z0_follows_skin", None))
     if length is not None and vf is None:
         raise AnalysisError("--length needs --vf (the line's velocity factor, e.g. 0.66)")
     if vf is not None and length is None:
         raise AnalysisError("--vf applies to --length; give the line's length too (or use --delay)")
     if delay is None and length is None and loss is None and dielectric is None:
-        if skin_phase or z0_skin:
+        if skin_phase is not None or z0_skin:
             raise AnalysisError("--skin-phase and --z0-follows-skin describe a line's loss; "
                                 "give its --loss (and --delay, or --length and --vf) too")
         if line_z0 is not None:
@@ -128,8 +132,8 @@ def offset_from_args(args: argparse.Namespace):
             kw["loss_ref_hz"] = ref
         # The dielectric loss grows as f: restate it at the conductor loss's frequency.
         kw["dielectric_loss_db"] = value * (kw["loss_ref_hz"] / ref)
-    if skin_phase:
-        kw["skin_phase"] = True
+    if skin_phase is not None:
+        kw["skin_phase"] = bool(skin_phase)
     if z0_skin:
         kw["z0_follows_skin"] = True
     if line_z0 is not None:

@@ -103,6 +103,7 @@ def remove_options(est, how: str) -> str:
         parts.append(f"--dielectric-loss {est.dielectric_loss_db:.4f}dB@{ref}")
     if est.z0_follows_skin:
         parts.append("--z0-follows-skin")
-    elif est.skin_phase and est.loss_db:
-        parts.append("--skin-phase")
+    elif est.loss_db:
+        # The causal phase is the default; say so either way, so the line is removed as found.
+        parts.append("--skin-phase" if est.skin_phase else "--no-skin-phase")
     return " ".join(parts)

@@ -129,7 +129,7 @@ class LineOffset:
     loss_ref_hz: float = 1e9
     dielectric_loss_db: float = 0.0
     line_z0_ohm: float | None = None
-    skin_phase: bool = False
+    skin_phase: bool = True
     z0_follows_skin: bool = False
 
     def __post_init__(self) -> None:
