@@ -232,3 +232,19 @@ def test_cancelled_save_writes_nothing(setup, tmp_path):
     panel.ask_save_path = lambda suggested: None
     assert panel.save_corrected() is None
     assert list(tmp_path.iterdir()) == []
+
+
+def test_dielectric_loss_and_skin_phase_fields(setup, qtbot):
+    # Every term of the line model is editable: the dielectric loss (∝ f) restated at the
+    # conductor loss's frequency, and the causal skin-effect phase (default on; Pozar §1.7).
+    state, panel = setup
+    tid = state.add_sweep(open_through_cable())
+    type_into(qtbot, panel.loss_edit, "0.2 dB @ 1 GHz")
+    type_into(qtbot, panel.dielectric_edit, "0.05 dB @ 500 MHz")
+    line = state.trace(tid).offsets[0]
+    assert line.dielectric_loss_db == pytest.approx(0.1) and line.loss_ref_hz == 1e9
+    assert line.skin_phase and panel.skin_check.isChecked()
+    panel.skin_check.setChecked(False)
+    assert state.trace(tid).offsets[0].skin_phase is False
+    state.set_offsets(tid, [LineOffset(1e-9, 0.3, 1e9, 0.2, skin_phase=True)])
+    assert panel.skin_check.isChecked() and panel.dielectric_edit.text() == "0.2 dB @ 1 GHz"

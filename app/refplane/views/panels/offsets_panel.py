@@ -18,7 +18,7 @@ from __future__ import annotations
 import os
 
 from PySide6.QtCore import QEvent, QObject, Qt, Signal
-from PySide6.QtWidgets import (QComboBox, QSizePolicy, QFileDialog, QFormLayout, QHBoxLayout, QLabel, QLineEdit,
+from PySide6.QtWidgets import (QCheckBox, QComboBox, QSizePolicy, QFileDialog, QFormLayout, QHBoxLayout, QLabel, QLineEdit,
                                QMessageBox, QPushButton, QSlider, QVBoxLayout, QWidget)
 
 from refplane.views.binding import bind
@@ -106,6 +106,12 @@ class OffsetsPanel(QWidget):
         self.loss_edit = QLineEdit()
         self.loss_edit.setPlaceholderText("e.g. 0.4 dB @ 1 GHz")
         self.loss_edit.setToolTip("One-way loss of the line at a frequency; taken to grow as √f")
+        self.dielectric_edit = QLineEdit()
+        self.dielectric_edit.setPlaceholderText("e.g. 0.1 dB @ 1 GHz")
+        self.dielectric_edit.setToolTip("One-way dielectric loss of the line at a frequency; taken to grow as f")
+        self.skin_check = QCheckBox("Loss carries its skin-effect phase")
+        self.skin_check.setToolTip("The √f conductor loss comes with an equal phase (the causal skin-effect "
+                                   "model real cable follows). Untick for the loss alone.")
         self.z0_edit = QLineEdit()
         self.z0_edit.setPlaceholderText("same as the port's reference")
         self.z0_edit.setToolTip("Characteristic impedance of the line, e.g. 75 Ω; blank: the port's reference")
@@ -146,6 +152,8 @@ class OffsetsPanel(QWidget):
         form.addRow("Length", self.length_edit)
         form.addRow("Velocity factor", self.vf_edit)
         form.addRow("Loss", self.loss_edit)
+        form.addRow("Dielectric loss", self.dielectric_edit)
+        form.addRow("", self.skin_check)
         form.addRow("Line impedance", self.z0_edit)
         step_row = QHBoxLayout()
         step_row.addWidget(self.slider, 1)
@@ -179,6 +187,9 @@ class OffsetsPanel(QWidget):
         self.vf_edit.editingFinished.connect(self._on_vf_edited)
         self.loss_edit.editingFinished.connect(self._on_loss_edited)
         self.z0_edit.editingFinished.connect(self._on_z0_edited)
+        self.dielectric_edit.editingFinished.connect(self._on_dielectric_edited)
+        self.skin_check.toggled.connect(
+            lambda on: on != self.offset().skin_phase and self.set_offset(self.offset().with_changes(skin_phase=on)))
         self.port_combo.currentIndexChanged.connect(lambda _: self._refresh())
         self.step_combo.currentIndexChanged.connect(lambda _: self._refresh())
         self.slider.valueChanged.connect(self._on_slider)
@@ -308,6 +319,16 @@ class OffsetsPanel(QWidget):
         loss = (0.0, self.offset().loss_ref_hz) if not text else self._parsed(parse_loss, text, "loss")
         if loss is not None and loss != (self.offset().loss_db, self.offset().loss_ref_hz):
             self.set_offset(self.offset().with_changes(loss_db=loss[0], loss_ref_hz=loss[1]))
+
+    def _on_dielectric_edited(self) -> None:
+        text = self.dielectric_edit.text().strip()
+        loss = (0.0, self.offset().loss_ref_hz) if not text else self._parsed(parse_loss, text, "dielectric loss")
+        if loss is None:
+            return
+        # Stated at the conductor loss's frequency: the dielectric loss grows as f.
+        value = loss[0] * self.offset().loss_ref_hz / loss[1]
+        if value != self.offset().dielectric_loss_db:
+            self.set_offset(self.offset().with_changes(dielectric_loss_db=value))
 
     def _on_z0_edited(self) -> None:
         text = self.z0_edit.text().strip()
@@ -475,7 +496,7 @@ class OffsetsPanel(QWidget):
     def _refresh(self) -> None:
         enabled = self.trace_id != -1
         for widget in (self.port_combo, self.delay_edit, self.length_edit, self.vf_edit, self.loss_edit,
-                       self.z0_edit, self.slider, self.step_combo, self.reset_button,
+                       self.dielectric_edit, self.skin_check, self.z0_edit, self.slider, self.step_combo, self.reset_button,
                        self.reset_all_button, self.save_button, self.estimate_button):
             widget.setEnabled(enabled)
         # Said where a disabled control is pointed at: why it cannot act yet.
@@ -487,7 +508,8 @@ class OffsetsPanel(QWidget):
     def _refresh_fields(self) -> None:
         offset = self.offset()
         vf = self.velocity_factor()
-        widgets = (self.delay_edit, self.length_edit, self.vf_edit, self.loss_edit, self.z0_edit, self.slider)
+        widgets = (self.delay_edit, self.length_edit, self.vf_edit, self.loss_edit, self.z0_edit, self.slider,
+                   self.dielectric_edit, self.skin_check)
         for widget in widgets:
             widget.blockSignals(True)
         try:
@@ -499,6 +521,10 @@ class OffsetsPanel(QWidget):
             self.loss_edit.setText(f"{offset.loss_db:g} dB @ {format_frequency(offset.loss_ref_hz)}"
                                    if offset.loss_db else "")
             self.z0_edit.setText(f"{offset.line_z0_ohm:g} Ω" if offset.line_z0_ohm is not None else "")
+            self.dielectric_edit.setText(
+                f"{offset.dielectric_loss_db:g} dB @ {format_frequency(offset.loss_ref_hz)}"
+                if offset.dielectric_loss_db else "")
+            self.skin_check.setChecked(offset.skin_phase)
             # The slider shows the delay in steps, pinned at its ends when the delay lies outside.
             steps = offset.delay_s / self.step_s
             self.slider.setValue(int(round(min(max(steps, 0), SLIDER_STEPS))))
