@@ -189,6 +189,7 @@ class FrequencyPlot(QWidget):
         self.setFocusPolicy(Qt.StrongFocus)
 
         self._curves: list[pg.PlotDataItem] = []
+        self._used = 0
         self._lines: dict[int, pg.InfiniteLine] = {}
         self._region: pg.LinearRegionItem | None = None  # made when a band is first chosen
 
@@ -419,9 +420,7 @@ class FrequencyPlot(QWidget):
         """Draw every visible trace's curves for the chosen quantity (now)."""
         started = time.perf_counter()
         self._redraw_timer.stop()
-        for item in self._curves:
-            self.plot.removeItem(item)
-        self._curves = []
+        self._used = 0  # curves are reused by index; those left over are removed at the end
         view = self.state.scene().plots[0 if self.slot == "upper" else 1]
         q = plot_series.BY_KEY[view.quantity]
         unit = q.unit
@@ -448,6 +447,9 @@ class FrequencyPlot(QWidget):
             # on that theme's background.
             colour.setAlphaF(curve.alpha if curve.alpha >= 1.0 else self.theme.faded_alpha)
             self._add_curve(x, y, pg.mkPen(colour, width=curve.width, style=styles[curve.style]))
+        for item in self._curves[self._used:]:
+            self.plot.removeItem(item)
+        del self._curves[self._used:]
         self.note.setText(view.note)
         self.note.setToolTip(view.note)  # the whole note, when the plot is too narrow for it
         self._sync_lines()
@@ -456,7 +458,23 @@ class FrequencyPlot(QWidget):
         self.redrawn.emit()
 
     def _add_curve(self, x: np.ndarray, y: np.ndarray, pen) -> pg.PlotDataItem:
+        """Draw one curve, reusing the item at the next index when there is one.
+
+        Updating an item's data (and its pen only when the pen changed) costs far less than
+        removing every item and adding new ones on each redraw, which re-lays the view box's
+        bounds and the scene's index for every item.
+        """
         pen, mode = line_mode(pen)
+        index = self._used
+        self._used += 1
+        if index < len(self._curves):
+            item = self._curves[index]
+            if item.curve.opts.get("segmentedLineMode") != mode:
+                item.curve.setSegmentedLineMode(mode)
+            if item.opts["pen"] != pen:
+                item.setPen(pen)
+            item.setData(x, y)
+            return item
         item = pg.PlotDataItem(x, y, pen=pen, connect="finite", antialias=True)
         item.curve.setSegmentedLineMode(mode)
         self.plot.addItem(item)

@@ -1,0 +1,77 @@
+"""The frequency plots keep their curve items between redraws and update them in place."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from refplane.analysis.readings.impedance import vswr, z_to_gamma
+from refplane.analysis.sweep import Sweep
+from refplane.session.model import Session
+from refplane.views.plots import CompanionPlots
+
+
+def _resistor(r_ohm, name):
+    f = np.linspace(1e6, 100e6, 51)
+    return Sweep(freq_hz=f, s=np.full(51, z_to_gamma(r_ohm + 0j, 50.0)), z0_ohm=50.0, name=name)
+
+
+@pytest.fixture
+def plots(qtbot):
+    w = CompanionPlots(Session())
+    qtbot.addWidget(w)
+    w.resize(600, 500)
+    w.show()
+    qtbot.waitExposed(w)
+    return w
+
+
+def test_curve_items_are_reused_and_extras_removed(plots):
+    s = plots.state
+    s.set_display(upper_plot="vswr")
+    a = s.add_sweep(_resistor(100.0, "a"))
+    b = s.add_sweep(_resistor(25.0, "b"))
+    plots.flush()
+    first = plots.upper.curve_items()
+    assert len(first) == 2
+    # Another quantity: the same two items carry the new data.
+    s.set_display(upper_plot="z_mag")
+    plots.flush()
+    again = plots.upper.curve_items()
+    assert [id(i) for i in again] == [id(i) for i in first]
+    ys = sorted(float(i.getData()[1][0]) for i in again)
+    assert np.allclose(ys, [25.0, 100.0])  # |Z| of a resistor is R (definition)
+    # R and X: four curves, the first two reused, two added; X dashed through a new pen.
+    s.set_display(upper_plot="r_x")
+    plots.flush()
+    four = plots.upper.curve_items()
+    assert len(four) == 4 and [id(i) for i in four[:2]] == [id(i) for i in first]
+    # Hiding one trace drops the extra items from the plot.
+    s.set_visible(b, False)
+    plots.flush()
+    two = plots.upper.curve_items()
+    assert len(two) == 2
+    in_plot = [i for i in plots.upper.plot.getPlotItem().items if i in four]
+    assert len(in_plot) == 2
+    s.set_display(upper_plot="vswr")
+    plots.flush()
+    items = plots.upper.curve_items()
+    assert len(items) == 1
+    # VSWR of a 100 Ω resistor on 50 Ω is 2 (VSWR = R/Z0 for R > Z0, definition).
+    assert np.allclose(items[0].getData()[1], 2.0)
+    assert np.allclose(items[0].getData()[1], vswr(z_to_gamma(100.0 + 0j, 50.0)))
+    assert a in [c.trace_id for c in s.scene().plots[0].curves]
+
+
+def test_a_colour_change_reaches_the_reused_item(plots):
+    from PySide6.QtGui import QColor
+
+    s = plots.state
+    tid = s.add_sweep(_resistor(75.0, "a"))
+    plots.flush()
+    (item,) = plots.upper.curve_items()
+    s.set_colour(tid, "#123456")
+    plots.flush()
+    (again,) = plots.upper.curve_items()
+    assert again is item
+    assert again.opts["pen"].color().name() == QColor("#123456").name()
