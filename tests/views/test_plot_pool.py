@@ -75,3 +75,32 @@ def test_a_colour_change_reaches_the_reused_item(plots):
     (again,) = plots.upper.curve_items()
     assert again is item
     assert again.opts["pen"].color().name() == QColor("#123456").name()
+
+
+def test_uncertainty_bands_are_drawn_and_removed(plots):
+    # The band's numbers are the session's (tests/session/test_plot_bands.py checks them
+    # against the engine); here the plot draws exactly those and drops them when off.
+    from refplane.analysis.readings.impedance import z_to_gamma as zg
+
+    s = plots.state
+    f = np.linspace(50e6, 150e6, 101)
+    w = 2 * np.pi * f
+    z = 30 + 1j * (w * 200e-9 - 1 / (w * 12.66e-12))  # series R-L-C (circuit theory)
+    s.add_sweep(Sweep(f, zg(z, 50.0), 50.0, name="rlc"))
+    s.set_display(upper_plot="r_x", lower_plot="phase")
+    plots.flush()
+    assert plots.upper.band_items() == []
+    s.set_tool("uncertainty", enabled=True, method="linear", noise="none")
+    plots.flush()
+    bands = s.scene().plots[0].bands
+    drawn = plots.upper.band_items()
+    assert len(drawn) == len(bands) == 2  # R and X
+    assert plots.lower.band_items() == []  # phase of reflection has no band
+    for (low, high, fill), band in zip(drawn, bands):
+        assert np.allclose(low.getData()[1], band.lower) and np.allclose(high.getData()[1], band.upper)
+        assert 0 < fill.brush().color().alphaF() < 0.5  # translucent: the curve shows through
+        assert fill in plots.upper.plot.getPlotItem().items
+    s.set_tool("uncertainty", enabled=False)
+    plots.flush()
+    assert plots.upper.band_items() == []
+    assert not any(i for (lo, hi, fl) in drawn for i in (lo, hi, fl) if i in plots.upper.plot.getPlotItem().items)

@@ -191,11 +191,47 @@ def _plot_view(traces, key: str, previous: PlotView | None, cache: dict, session
         note = "R solid, X dashed"
     else:
         note = ""
+    bands = _plot_bands(traces, key, curves, session)
     if previous is not None and previous.quantity == key and previous.note == note \
             and len(previous.curves) == len(curves) \
-            and all(a is b for a, b in zip(previous.curves, curves)):
+            and all(a is b for a, b in zip(previous.curves, curves)) \
+            and len(previous.bands) == len(bands) and all(a is b for a, b in zip(previous.bands, bands)):
         return previous
-    return PlotView(quantity=key, curves=curves, note=note)
+    return PlotView(quantity=key, curves=curves, note=note, bands=bands)
+
+
+def _plot_bands(traces, key: str, curves, session) -> tuple:
+    """Uncertainty bands of the plot's curves (empty unless the ± is on), reused while unchanged."""
+    from refplane.session import plot_bands
+
+    if key not in plot_bands.BAND_KEYS:
+        return ()
+    settings = _u_settings(session, session.display.chart_z0_ohm)
+    if settings is None:
+        return ()
+    cache = getattr(session, "_band_cache", None)
+    if cache is None:
+        cache = {}
+        try:
+            session._band_cache = cache
+        except AttributeError:
+            pass
+    alive = {id(t) for t in traces}
+    for k in [k for k in cache if k[0] not in alive]:
+        del cache[k]
+    out = []
+    for t in traces:
+        own = tuple(c for c in curves if c.trace_id == t.id)
+        bkey = (id(t), "bands", key, settings)
+        hit = cache.get(bkey)
+        if hit is not None and hit[0] is t and len(hit[1]) == len(own) \
+                and all(a is b for a, b in zip(hit[1], own)):
+            out.extend(hit[2])
+            continue
+        made = plot_bands.bands(settings, t, key, own, cache)
+        cache[bkey] = (t, own, made)
+        out.extend(made)
+    return tuple(out)
 
 
 def resolve(session, previous: Scene | None = None) -> Scene:

@@ -135,6 +135,8 @@ class PlotView:
     """Every curve, in drawing order."""
     note: str
     """A short note beside the plot ("R solid, X dashed", "needs a two-port sweep")."""
+    bands: tuple = ()
+    """Shaded value ± expanded uncertainty around curves (``plot_bands.BandView``), when the ± is on."""
 
 
 @dataclass(frozen=True, eq=False)

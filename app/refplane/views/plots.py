@@ -190,6 +190,7 @@ class FrequencyPlot(QWidget):
 
         self._curves: list[pg.PlotDataItem] = []
         self._used = 0
+        self._bands: list[tuple] = []  # (lower edge, upper edge, fill) per uncertainty band
         self._lines: dict[int, pg.InfiniteLine] = {}
         self._region: pg.LinearRegionItem | None = None  # made when a band is first chosen
 
@@ -216,6 +217,7 @@ class FrequencyPlot(QWidget):
         bind(self, state.bandChanged, self._on_band_changed)
         bind(self, state.displayChanged, self._on_display_changed)
         bind(self, state.memoryChanged, self.schedule_redraw)
+        bind(self, state.toolChanged, self._on_tool_changed)
         self.log_x = state.display.log_frequency
         self.log_y = self._wants_log_y()
         if self.log_x or self.log_y:
@@ -343,6 +345,13 @@ class FrequencyPlot(QWidget):
         elif name == "chart_z0_ohm":
             self.schedule_redraw()
 
+    #: Tool records whose change alters what the plots draw (uncertainty bands, limit lines).
+    DRAWN_TOOLS = ("uncertainty",)
+
+    def _on_tool_changed(self, name: str) -> None:
+        if name in self.DRAWN_TOOLS:
+            self.schedule_redraw()
+
     def set_log_x(self, log_x: bool) -> None:
         """Logarithmic or linear frequency axis (a session display option, shared by both plots)."""
         self.state.set_display(log_frequency=bool(log_x))
@@ -450,6 +459,7 @@ class FrequencyPlot(QWidget):
         for item in self._curves[self._used:]:
             self.plot.removeItem(item)
         del self._curves[self._used:]
+        self._draw_bands(view.bands)
         self.note.setText(view.note)
         self.note.setToolTip(view.note)  # the whole note, when the plot is too narrow for it
         self._sync_lines()
@@ -486,6 +496,44 @@ class FrequencyPlot(QWidget):
         item.setClipToView(True)
         self._curves.append(item)
         return item
+
+    #: Opacity of an uncertainty band's fill (the trace's colour; light enough for both themes).
+    BAND_ALPHA = 0.22
+
+    def _draw_bands(self, bands) -> None:
+        """Shade value ± U around the curves (the session's bands), reusing items by index."""
+        for i, band in enumerate(bands):
+            x, lo = plot_series.finite_for_plot(band.freq_hz, band.lower, self.log_x)
+            _, hi = plot_series.finite_for_plot(band.freq_hz, band.upper, self.log_x)
+            if self.log_y:
+                lo = np.where(lo > 0, lo, np.nan)
+                hi = np.where(hi > 0, hi, np.nan)
+            colour = QColor(band.colour)
+            colour.setAlphaF(self.BAND_ALPHA)
+            if i < len(self._bands):
+                low, high, fill = self._bands[i]
+                low.setData(x, lo)
+                high.setData(x, hi)
+            else:
+                low = pg.PlotDataItem(x, lo, pen=None, connect="finite")
+                high = pg.PlotDataItem(x, hi, pen=None, connect="finite")
+                for edge in (low, high):
+                    self.plot.addItem(edge)
+                    edge.setDownsampling(auto=True, method="peak")
+                    edge.setClipToView(True)
+                fill = pg.FillBetweenItem(low, high)
+                fill.setZValue(-1)  # behind the curves, in front of the grid
+                self.plot.addItem(fill)
+                self._bands.append((low, high, fill))
+            fill.setBrush(pg.mkBrush(colour))
+        for items in self._bands[len(bands):]:
+            for item in items:
+                self.plot.removeItem(item)
+        del self._bands[len(bands):]
+
+    def band_items(self) -> list[tuple[pg.PlotDataItem, pg.PlotDataItem, pg.FillBetweenItem]]:
+        """The uncertainty bands drawn: (lower edge, upper edge, fill) each (for tests and export)."""
+        return list(self._bands)
 
     def _sync_lines(self) -> None:
         markers = self.state.scene().markers
