@@ -270,7 +270,8 @@ def resolve(session, previous: Scene | None = None) -> Scene:
     return Scene(traces=traces, markers=markers, plots=plots, delta=delta, display=display,
                  band=session.band, current_trace=session.current_trace,
                  current_marker=session.current_marker, legend=legend, found=_found(markers, traces),
-                 memory=_memory_view(session, previous), chart_z0_ohm=display.chart_z0_ohm)
+                 memory=_memory_view(session, previous), chart_z0_ohm=display.chart_z0_ohm,
+                 limits=_limit_checks(session))
 
 
 def _memory_view(session, previous):
@@ -315,3 +316,34 @@ def _delta(markers, pair) -> DeltaView | None:
     cells = present.delta_cells(a.readout, b.readout)
     return DeltaView(a=a.id, b=b.id, label=present.delta_label(a.number, b.number),
                      cells=MappingProxyType(cells))
+
+
+def _limit_checks(session) -> tuple:
+    """The limits record tested on the current trace, reused while nothing it reads changed."""
+    try:
+        settings = session.tool("limits")
+    except KeyError:
+        return ()
+    if not settings.expressions:
+        return ()
+    from refplane.session import plot_limits
+
+    trace = sweep = None
+    tid = session.current_trace
+    if tid != -1:
+        trace = next((t for t in session.traces() if t.id == tid), None)
+        sweep = session.viewed(tid) if trace is not None else None
+    u_settings = _u_settings(session, session.display.chart_z0_ohm)
+    key = (settings, trace, sweep, u_settings)
+    cached = getattr(session, "_limit_cache", None)
+    if cached is not None:
+        (c_settings, c_trace, c_sweep, c_u), result = cached
+        if c_settings == settings and c_trace is trace and c_sweep is sweep and c_u == u_settings:
+            return result
+    u_cache = getattr(session, "_band_cache", None)
+    result = plot_limits.checks(settings.expressions, trace, sweep, u_settings=u_settings, u_cache=u_cache)
+    try:
+        session._limit_cache = (key, result)
+    except AttributeError:
+        pass
+    return result
