@@ -191,6 +191,7 @@ class FrequencyPlot(QWidget):
         self._curves: list[pg.PlotDataItem] = []
         self._used = 0
         self._bands: list[tuple] = []  # (lower edge, upper edge, fill) per uncertainty band
+        self._limit_items: list = []  # limit lines, their shading and labels
         self._lines: dict[int, pg.InfiniteLine] = {}
         self._region: pg.LinearRegionItem | None = None  # made when a band is first chosen
 
@@ -218,6 +219,8 @@ class FrequencyPlot(QWidget):
         bind(self, state.displayChanged, self._on_display_changed)
         bind(self, state.memoryChanged, self.schedule_redraw)
         bind(self, state.toolChanged, self._on_tool_changed)
+        # The limits are decided on the current trace: another one redraws their shading.
+        bind(self, state.currentTraceChanged, lambda _id: self.schedule_redraw())
         self.log_x = state.display.log_frequency
         self.log_y = self._wants_log_y()
         if self.log_x or self.log_y:
@@ -346,7 +349,7 @@ class FrequencyPlot(QWidget):
             self.schedule_redraw()
 
     #: Tool records whose change alters what the plots draw (uncertainty bands, limit lines).
-    DRAWN_TOOLS = ("uncertainty",)
+    DRAWN_TOOLS = ("uncertainty", "limits")
 
     def _on_tool_changed(self, name: str) -> None:
         if name in self.DRAWN_TOOLS:
@@ -460,6 +463,7 @@ class FrequencyPlot(QWidget):
             self.plot.removeItem(item)
         del self._curves[self._used:]
         self._draw_bands(view.bands)
+        self._draw_limits(self.state.scene().limits, view.quantity)
         self.note.setText(view.note)
         self.note.setToolTip(view.note)  # the whole note, when the plot is too narrow for it
         self._sync_lines()
@@ -530,6 +534,68 @@ class FrequencyPlot(QWidget):
             for item in items:
                 self.plot.removeItem(item)
         del self._bands[len(bands):]
+
+    #: Colour of a limit line and its shading per decision; mid tones that read on the light
+    #: and the dark theme alike. Indeterminate is drawn in the failing family (not a pass) but
+    #: dashed; a limit not yet decided (no current trace) is grey and dashed.
+    LIMIT_COLOURS = {"pass": "#2f9e55", "fail": "#d8413a", "indeterminate": "#e07a1f", None: "#8a919c"}
+    LIMIT_WORDS = {"pass": "pass", "fail": "FAIL", "indeterminate": "indeterminate", None: ""}
+    LIMIT_ALPHA = 0.30
+
+    def _draw_limits(self, checks, quantity: str) -> None:
+        """Each limit on this plot's quantity: a line over its band, the readings' side shaded.
+
+        The shading fills between the limit and the current trace's readings in the band
+        (the points ``analysis.limits`` tested), in the decision's colour, so the margin shows
+        where it is smallest. A few items per limit: made anew on each redraw.
+        """
+        for item in self._limit_items:
+            self.plot.removeItem(item)
+        self._limit_items = []
+        for check in checks:
+            if check.limit is None or check.plot != quantity:
+                continue
+            lim = check.limit
+            colour = QColor(self.LIMIT_COLOURS.get(check.decision, self.LIMIT_COLOURS[None]))
+            style = Qt.SolidLine if check.decision in ("pass", "fail") else Qt.DashLine
+            f = np.asarray(lim.band_hz, dtype=float)
+            x, y = plot_series.finite_for_plot(f, np.full(2, lim.value), self.log_x)
+            if self.log_y and lim.value <= 0:
+                continue  # a log axis has no place for it
+            line = pg.PlotDataItem(x, y, pen=pg.mkPen(colour, width=2.2, style=style))
+            line.setZValue(2)  # over the curves: the limit is what is being judged
+            line.limit_text = check.text
+            self.plot.addItem(line)
+            self._limit_items.append(line)
+            result = check.result
+            if result is not None:
+                fx, edge = plot_series.finite_for_plot(result.freq_hz, np.full(result.freq_hz.size, lim.value),
+                                                       self.log_x)
+                _, values = plot_series.finite_for_plot(result.freq_hz, result.values, self.log_x)
+                if self.log_y:
+                    values = np.where(values > 0, values, np.nan)
+                low = pg.PlotDataItem(fx, edge, pen=None)
+                high = pg.PlotDataItem(fx, values, pen=None, connect="finite")
+                shade = QColor(colour)
+                shade.setAlphaF(self.LIMIT_ALPHA)
+                fill = pg.FillBetweenItem(low, high, brush=pg.mkBrush(shade))
+                fill.setZValue(-1)
+                fill.decision = result.decision
+                for item in (low, high, fill):
+                    # The readings are the curve's, already counted in the view's range.
+                    self.plot.addItem(item, ignoreBounds=item is high)
+                self._limit_items += [low, high, fill]
+            word = self.LIMIT_WORDS.get(check.decision, "")
+            text = pg.TextItem(f"{'≤' if lim.op == '<=' else '≥'} {lim.value:g}  {word}".strip(),
+                               color=colour, anchor=(0, 1))
+            # A text item sits in view coordinates: log10 of the data on a log axis.
+            text.setPos(self._x(float(x[0])), math.log10(lim.value) if self.log_y else lim.value)
+            self.plot.addItem(text, ignoreBounds=True)
+            self._limit_items.append(text)
+
+    def limit_items(self) -> list:
+        """Every item drawing the limits (lines, shading, labels), for tests."""
+        return list(self._limit_items)
 
     def band_items(self) -> list[tuple[pg.PlotDataItem, pg.PlotDataItem, pg.FillBetweenItem]]:
         """The uncertainty bands drawn: (lower edge, upper edge, fill) each (for tests and export)."""
