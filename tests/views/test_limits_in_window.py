@@ -90,6 +90,13 @@ def test_lines_are_placed_at_the_band_and_value_and_shaded_by_decision(qtbot, se
         assert np.allclose(x, [99.5e6, 100.5e6]) and np.allclose(y, value)
     fills = [i for i in upper if hasattr(i, "decision")]
     assert [f.decision for f in fills] == ["pass", "fail"]
+    for f, check in zip(fills, state.scene().limits):
+        # Shaded between the limit and the readings analysis.limits tested, over the band.
+        r = f.path().boundingRect()
+        assert r.left() == pytest.approx(99.5e6) and r.right() == pytest.approx(100.5e6)
+        values = check.result.values
+        assert r.top() == pytest.approx(min(check.limit.value, np.nanmin(values)), rel=1e-6)
+        assert r.bottom() == pytest.approx(max(check.limit.value, np.nanmax(values)), rel=1e-6)
     green, red = (f.brush().color() for f in fills)
     assert green.green() > green.red() and red.red() > red.green()
     # The R limit is on the lower plot (R and X), not on the VSWR plot.

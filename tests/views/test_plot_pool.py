@@ -99,6 +99,10 @@ def test_uncertainty_bands_are_drawn_and_removed(plots):
     for (low, high, fill), band in zip(drawn, bands):
         assert np.allclose(low.getData()[1], band.lower) and np.allclose(high.getData()[1], band.upper)
         assert 0 < fill.brush().color().alphaF() < 0.5  # translucent: the curve shows through
+        # The fill follows its edges: it spans the sweep and the band's values.
+        r = fill.path().boundingRect()
+        assert r.left() == pytest.approx(f[0]) and r.right() == pytest.approx(f[-1])
+        assert r.top() == pytest.approx(np.nanmin(band.lower)) and r.bottom() == pytest.approx(np.nanmax(band.upper))
         assert fill in plots.upper.plot.getPlotItem().items
     s.set_tool("uncertainty", enabled=False)
     plots.flush()

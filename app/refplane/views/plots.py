@@ -27,6 +27,11 @@ from refplane.session.model import Session
 from refplane.views.theme import LIGHT, Theme, quiet_label
 
 
+#: Edges of a shaded area are drawn with no line; their path (which pyqtgraph leaves empty for
+#: ``pen=None``) is what the fill follows.
+_NO_PEN = pg.mkPen(None)
+
+
 class BandViewBox(pg.ViewBox):
     """A view box where a Shift-drag (or any left drag in band mode) sweeps out a band.
 
@@ -519,15 +524,17 @@ class FrequencyPlot(QWidget):
                 low.setData(x, lo)
                 high.setData(x, hi)
             else:
-                low = pg.PlotDataItem(x, lo, pen=None, connect="finite")
-                high = pg.PlotDataItem(x, hi, pen=None, connect="finite")
+                low = pg.PlotDataItem(x, lo, pen=_NO_PEN, connect="finite")
+                high = pg.PlotDataItem(x, hi, pen=_NO_PEN, connect="finite")
                 for edge in (low, high):
                     self.plot.addItem(edge)
                     edge.setDownsampling(auto=True, method="peak")
                     edge.setClipToView(True)
                 fill = pg.FillBetweenItem(low, high)
                 fill.setZValue(-1)  # behind the curves, in front of the grid
-                self.plot.addItem(fill)
+                # Its edges carry the bounds; the fill's own rectangle starts at the origin
+                # until its path is made, which would stretch the auto-range to zero.
+                self.plot.addItem(fill, ignoreBounds=True)
                 self._bands.append((low, high, fill))
             fill.setBrush(pg.mkBrush(colour))
         for items in self._bands[len(bands):]:
@@ -574,16 +581,17 @@ class FrequencyPlot(QWidget):
                 _, values = plot_series.finite_for_plot(result.freq_hz, result.values, self.log_x)
                 if self.log_y:
                     values = np.where(values > 0, values, np.nan)
-                low = pg.PlotDataItem(fx, edge, pen=None)
-                high = pg.PlotDataItem(fx, values, pen=None, connect="finite")
+                low = pg.PlotDataItem(fx, edge, pen=_NO_PEN)
+                high = pg.PlotDataItem(fx, values, pen=_NO_PEN, connect="finite")
                 shade = QColor(colour)
                 shade.setAlphaF(self.LIMIT_ALPHA)
                 fill = pg.FillBetweenItem(low, high, brush=pg.mkBrush(shade))
                 fill.setZValue(-1)
                 fill.decision = result.decision
                 for item in (low, high, fill):
-                    # The readings are the curve's, already counted in the view's range.
-                    self.plot.addItem(item, ignoreBounds=item is high)
+                    # The readings are the curve's, already counted in the view's range; the
+                    # fill's rectangle would reach to the origin (see _draw_bands).
+                    self.plot.addItem(item, ignoreBounds=item is not low)
                 self._limit_items += [low, high, fill]
             word = self.LIMIT_WORDS.get(check.decision, "")
             text = pg.TextItem(f"{'≤' if lim.op == '<=' else '≥'} {lim.value:g}  {word}".strip(),
