@@ -70,8 +70,7 @@ class LimitsPanel(QWidget):
         self.remove_button.clicked.connect(self.remove_selected)
         self.list.currentRowChanged.connect(lambda _row: self._sync_buttons())
         bind(self, state.toolChanged, self._on_tool)
-        for sig in (state.tracesChanged, state.markersChanged):
-            bind(self, sig, self.refresh)
+        bind(self, state.tracesChanged, self.refresh)
         for sig in (state.currentTraceChanged, state.traceChanged, state.offsetsChanged):
             bind(self, sig, lambda *_a: self.refresh())
         self.refresh()
