@@ -99,6 +99,11 @@ def test_lines_are_placed_at_the_band_and_value_and_shaded_by_decision(qtbot, se
         assert r.bottom() == pytest.approx(max(check.limit.value, np.nanmax(values)), rel=1e-6)
     green, red = (f.brush().color() for f in fills)
     assert green.green() > green.red() and red.red() > red.green()
+    # Each line is labelled in words as well as colour.
+    import pyqtgraph as pg
+
+    words = [i.textItem.toPlainText() for i in upper if isinstance(i, pg.TextItem)]
+    assert words == ["≤ 2  pass", "≥ 1.7  FAIL"]
     # The R limit is on the lower plot (R and X), not on the VSWR plot.
     lower = [i for i in plots.lower.limit_items() if getattr(i, "limit_text", None)]
     assert [ln.limit_text for ln in lower] == ["r_ohm >= 20 over 99MHz:101MHz"]

@@ -559,6 +559,7 @@ class FrequencyPlot(QWidget):
         for item in self._limit_items:
             self.plot.removeItem(item)
         self._limit_items = []
+        placed = 0
         for check in checks:
             if check.limit is None or check.plot != quantity:
                 continue
@@ -594,10 +595,15 @@ class FrequencyPlot(QWidget):
                     self.plot.addItem(item, ignoreBounds=item is not low)
                 self._limit_items += [low, high, fill]
             word = self.LIMIT_WORDS.get(check.decision, "")
+            # Labels alternate between the band's start and its end, so limits over the same
+            # band at close values do not print over each other.
+            at_end = placed % 2 == 1
+            placed += 1
             text = pg.TextItem(f"{'≤' if lim.op == '<=' else '≥'} {lim.value:g}  {word}".strip(),
-                               color=colour, anchor=(0, 1))
+                               color=colour, anchor=(1, 1) if at_end else (0, 1))
             # A text item sits in view coordinates: log10 of the data on a log axis.
-            text.setPos(self._x(float(x[0])), math.log10(lim.value) if self.log_y else lim.value)
+            text.setPos(self._x(float(x[-1] if at_end else x[0])),
+                        math.log10(lim.value) if self.log_y else lim.value)
             self.plot.addItem(text, ignoreBounds=True)
             self._limit_items.append(text)
 
