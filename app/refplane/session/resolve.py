@@ -217,7 +217,8 @@ def _plot_bands(traces, key: str, curves, session) -> tuple:
         except AttributeError:
             pass
     alive = {id(t) for t in traces}
-    for k in [k for k in cache if k[0] not in alive]:
+    # Forget gone traces and earlier settings (each entry holds arrays as long as the sweep).
+    for k in [k for k in cache if k[0] not in alive or k[-1] != settings]:
         del cache[k]
     out = []
     for t in traces:
