@@ -191,11 +191,48 @@ def _plot_view(traces, key: str, previous: PlotView | None, cache: dict, session
         note = "R solid, X dashed"
     else:
         note = ""
+    bands = _plot_bands(traces, key, curves, session)
     if previous is not None and previous.quantity == key and previous.note == note \
             and len(previous.curves) == len(curves) \
-            and all(a is b for a, b in zip(previous.curves, curves)):
+            and all(a is b for a, b in zip(previous.curves, curves)) \
+            and len(previous.bands) == len(bands) and all(a is b for a, b in zip(previous.bands, bands)):
         return previous
-    return PlotView(quantity=key, curves=curves, note=note)
+    return PlotView(quantity=key, curves=curves, note=note, bands=bands)
+
+
+def _plot_bands(traces, key: str, curves, session) -> tuple:
+    """Uncertainty bands of the plot's curves (empty unless the ± is on), reused while unchanged."""
+    from refplane.session import plot_bands
+
+    if key not in plot_bands.BAND_KEYS:
+        return ()
+    settings = _u_settings(session, session.display.chart_z0_ohm)
+    if settings is None:
+        return ()
+    cache = getattr(session, "_band_cache", None)
+    if cache is None:
+        cache = {}
+        try:
+            session._band_cache = cache
+        except AttributeError:
+            pass
+    alive = {id(t) for t in traces}
+    # Forget gone traces and earlier settings (each entry holds arrays as long as the sweep).
+    for k in [k for k in cache if k[0] not in alive or k[-1] != settings]:
+        del cache[k]
+    out = []
+    for t in traces:
+        own = tuple(c for c in curves if c.trace_id == t.id)
+        bkey = (id(t), "bands", key, settings)
+        hit = cache.get(bkey)
+        if hit is not None and hit[0] is t and len(hit[1]) == len(own) \
+                and all(a is b for a, b in zip(hit[1], own)):
+            out.extend(hit[2])
+            continue
+        made = plot_bands.bands(settings, t, key, own, cache)
+        cache[bkey] = (t, own, made)
+        out.extend(made)
+    return tuple(out)
 
 
 def resolve(session, previous: Scene | None = None) -> Scene:
@@ -234,7 +271,8 @@ def resolve(session, previous: Scene | None = None) -> Scene:
     return Scene(traces=traces, markers=markers, plots=plots, delta=delta, display=display,
                  band=session.band, current_trace=session.current_trace,
                  current_marker=session.current_marker, legend=legend, found=_found(markers, traces),
-                 memory=_memory_view(session, previous), chart_z0_ohm=display.chart_z0_ohm)
+                 memory=_memory_view(session, previous), chart_z0_ohm=display.chart_z0_ohm,
+                 limits=_limit_checks(session))
 
 
 def _memory_view(session, previous):
@@ -279,3 +317,34 @@ def _delta(markers, pair) -> DeltaView | None:
     cells = present.delta_cells(a.readout, b.readout)
     return DeltaView(a=a.id, b=b.id, label=present.delta_label(a.number, b.number),
                      cells=MappingProxyType(cells))
+
+
+def _limit_checks(session) -> tuple:
+    """The limits record tested on the current trace, reused while nothing it reads changed."""
+    try:
+        settings = session.tool("limits")
+    except KeyError:
+        return ()
+    if not settings.expressions:
+        return ()
+    from refplane.session import plot_limits
+
+    trace = sweep = None
+    tid = session.current_trace
+    if tid != -1:
+        trace = next((t for t in session.traces() if t.id == tid), None)
+        sweep = session.viewed(tid) if trace is not None else None
+    u_settings = _u_settings(session, session.display.chart_z0_ohm)
+    key = (settings, trace, sweep, u_settings)
+    cached = getattr(session, "_limit_cache", None)
+    if cached is not None:
+        (c_settings, c_trace, c_sweep, c_u), result = cached
+        if c_settings == settings and c_trace is trace and c_sweep is sweep and c_u == u_settings:
+            return result
+    u_cache = getattr(session, "_band_cache", None)
+    result = plot_limits.checks(settings.expressions, trace, sweep, u_settings=u_settings, u_cache=u_cache)
+    try:
+        session._limit_cache = (key, result)
+    except AttributeError:
+        pass
+    return result

@@ -135,6 +135,8 @@ class PlotView:
     """Every curve, in drawing order."""
     note: str
     """A short note beside the plot ("R solid, X dashed", "needs a two-port sweep")."""
+    bands: tuple = ()
+    """Shaded value ± expanded uncertainty around curves (``plot_bands.BandView``), when the ± is on."""
 
 
 @dataclass(frozen=True, eq=False)
@@ -191,6 +193,8 @@ class Scene:
     """The stored trace, when one is stored."""
     chart_z0_ohm: float | None = None
     """The reference impedance chosen for the chart and readings; ``None``: each file's own."""
+    limits: tuple = ()
+    """The user's limits tested on the current trace (``plot_limits.LimitCheck``), in typed order."""
 
     def trace(self, trace_id: int) -> TraceView:
         """The view of a trace (KeyError for an unknown id)."""

@@ -121,3 +121,12 @@ class UncertaintySettings:
     """Standard uncertainty of the offset line's impedance."""
     method: str = "auto"
     """``"auto"`` (linear; Monte Carlo where the linearisation is poor), ``"linear"`` or ``"monte-carlo"``."""
+
+
+@register("limits")
+@dataclass(frozen=True)
+class LimitsSettings:
+    """Limits tested on the current trace and drawn on the plots (the limits panel)."""
+
+    expressions: tuple = ()
+    """Limit expressions as typed, e.g. "vswr <= 2 over 140MHz:150MHz" (grammar: ``analysis.limits``)."""

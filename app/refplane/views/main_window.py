@@ -189,6 +189,8 @@ class MainWindow(QMainWindow):
         cable_panel.install(self)
         from refplane.views.panels import uncertainty_panel
         uncertainty_panel.install(self)
+        from refplane.views.panels import limits_panel
+        limits_panel.install(self)
         from refplane.views import time_domain
         time_domain.install(self)
         self.add_tool_action("Calibrate from standards…", self._open_calibration, shortcut="Ctrl+K")

@@ -27,6 +27,11 @@ from refplane.session.model import Session
 from refplane.views.theme import LIGHT, Theme, quiet_label
 
 
+#: Edges of a shaded area are drawn with no line; their path (which pyqtgraph leaves empty for
+#: ``pen=None``) is what the fill follows.
+_NO_PEN = pg.mkPen(None)
+
+
 class BandViewBox(pg.ViewBox):
     """A view box where a Shift-drag (or any left drag in band mode) sweeps out a band.
 
@@ -189,6 +194,9 @@ class FrequencyPlot(QWidget):
         self.setFocusPolicy(Qt.StrongFocus)
 
         self._curves: list[pg.PlotDataItem] = []
+        self._used = 0
+        self._bands: list[tuple] = []  # (lower edge, upper edge, fill) per uncertainty band
+        self._limit_items: list = []  # limit lines, their shading and labels
         self._lines: dict[int, pg.InfiniteLine] = {}
         self._region: pg.LinearRegionItem | None = None  # made when a band is first chosen
 
@@ -215,6 +223,9 @@ class FrequencyPlot(QWidget):
         bind(self, state.bandChanged, self._on_band_changed)
         bind(self, state.displayChanged, self._on_display_changed)
         bind(self, state.memoryChanged, self.schedule_redraw)
+        bind(self, state.toolChanged, self._on_tool_changed)
+        # The limits are decided on the current trace: another one redraws their shading.
+        bind(self, state.currentTraceChanged, lambda _id: self.schedule_redraw())
         self.log_x = state.display.log_frequency
         self.log_y = self._wants_log_y()
         if self.log_x or self.log_y:
@@ -342,6 +353,13 @@ class FrequencyPlot(QWidget):
         elif name == "chart_z0_ohm":
             self.schedule_redraw()
 
+    #: Tool records whose change alters what the plots draw (uncertainty bands, limit lines).
+    DRAWN_TOOLS = ("uncertainty", "limits")
+
+    def _on_tool_changed(self, name: str) -> None:
+        if name in self.DRAWN_TOOLS:
+            self.schedule_redraw()
+
     def set_log_x(self, log_x: bool) -> None:
         """Logarithmic or linear frequency axis (a session display option, shared by both plots)."""
         self.state.set_display(log_frequency=bool(log_x))
@@ -419,9 +437,7 @@ class FrequencyPlot(QWidget):
         """Draw every visible trace's curves for the chosen quantity (now)."""
         started = time.perf_counter()
         self._redraw_timer.stop()
-        for item in self._curves:
-            self.plot.removeItem(item)
-        self._curves = []
+        self._used = 0  # curves are reused by index; those left over are removed at the end
         view = self.state.scene().plots[0 if self.slot == "upper" else 1]
         q = plot_series.BY_KEY[view.quantity]
         unit = q.unit
@@ -448,6 +464,11 @@ class FrequencyPlot(QWidget):
             # on that theme's background.
             colour.setAlphaF(curve.alpha if curve.alpha >= 1.0 else self.theme.faded_alpha)
             self._add_curve(x, y, pg.mkPen(colour, width=curve.width, style=styles[curve.style]))
+        for item in self._curves[self._used:]:
+            self.plot.removeItem(item)
+        del self._curves[self._used:]
+        self._draw_bands(view.bands)
+        self._draw_limits(self.state.scene().limits, view.quantity)
         self.note.setText(view.note)
         self.note.setToolTip(view.note)  # the whole note, when the plot is too narrow for it
         self._sync_lines()
@@ -456,7 +477,23 @@ class FrequencyPlot(QWidget):
         self.redrawn.emit()
 
     def _add_curve(self, x: np.ndarray, y: np.ndarray, pen) -> pg.PlotDataItem:
+        """Draw one curve, reusing the item at the next index when there is one.
+
+        Updating an item's data (and its pen only when the pen changed) costs far less than
+        removing every item and adding new ones on each redraw, which re-lays the view box's
+        bounds and the scene's index for every item.
+        """
         pen, mode = line_mode(pen)
+        index = self._used
+        self._used += 1
+        if index < len(self._curves):
+            item = self._curves[index]
+            if item.curve.opts.get("segmentedLineMode") != mode:
+                item.curve.setSegmentedLineMode(mode)
+            if item.opts["pen"] != pen:
+                item.setPen(pen)
+            item.setData(x, y)
+            return item
         item = pg.PlotDataItem(x, y, pen=pen, connect="finite", antialias=True)
         item.curve.setSegmentedLineMode(mode)
         self.plot.addItem(item)
@@ -468,6 +505,115 @@ class FrequencyPlot(QWidget):
         item.setClipToView(True)
         self._curves.append(item)
         return item
+
+    #: Opacity of an uncertainty band's fill (the trace's colour; light enough for both themes).
+    BAND_ALPHA = 0.22
+
+    def _draw_bands(self, bands) -> None:
+        """Shade value ± U around the curves (the session's bands), reusing items by index."""
+        for i, band in enumerate(bands):
+            x, lo = plot_series.finite_for_plot(band.freq_hz, band.lower, self.log_x)
+            _, hi = plot_series.finite_for_plot(band.freq_hz, band.upper, self.log_x)
+            if self.log_y:
+                lo = np.where(lo > 0, lo, np.nan)
+                hi = np.where(hi > 0, hi, np.nan)
+            colour = QColor(band.colour)
+            colour.setAlphaF(self.BAND_ALPHA)
+            if i < len(self._bands):
+                low, high, fill = self._bands[i]
+                low.setData(x, lo)
+                high.setData(x, hi)
+            else:
+                low = pg.PlotDataItem(x, lo, pen=_NO_PEN, connect="finite")
+                high = pg.PlotDataItem(x, hi, pen=_NO_PEN, connect="finite")
+                for edge in (low, high):
+                    self.plot.addItem(edge)
+                    edge.setDownsampling(auto=True, method="peak")
+                    edge.setClipToView(True)
+                fill = pg.FillBetweenItem(low, high)
+                fill.setZValue(-1)  # behind the curves, in front of the grid
+                # Its edges carry the bounds; the fill's own rectangle starts at the origin
+                # until its path is made, which would stretch the auto-range to zero.
+                self.plot.addItem(fill, ignoreBounds=True)
+                self._bands.append((low, high, fill))
+            fill.setBrush(pg.mkBrush(colour))
+        for items in self._bands[len(bands):]:
+            for item in items:
+                self.plot.removeItem(item)
+        del self._bands[len(bands):]
+
+    #: Colour of a limit line and its shading per decision; mid tones that read on the light
+    #: and the dark theme alike. Indeterminate is drawn in the failing family (not a pass) but
+    #: dashed; a limit not yet decided (no current trace) is grey and dashed.
+    LIMIT_COLOURS = {"pass": "#2f9e55", "fail": "#d8413a", "indeterminate": "#e07a1f", None: "#8a919c"}
+    LIMIT_WORDS = {"pass": "pass", "fail": "FAIL", "indeterminate": "indeterminate", None: ""}
+    LIMIT_ALPHA = 0.30
+
+    def _draw_limits(self, checks, quantity: str) -> None:
+        """Each limit on this plot's quantity: a line over its band, the readings' side shaded.
+
+        The shading fills between the limit and the current trace's readings in the band
+        (the points ``analysis.limits`` tested), in the decision's colour, so the margin shows
+        where it is smallest. A few items per limit: made anew on each redraw.
+        """
+        for item in self._limit_items:
+            self.plot.removeItem(item)
+        self._limit_items = []
+        placed = 0
+        for check in checks:
+            if check.limit is None or check.plot != quantity:
+                continue
+            lim = check.limit
+            colour = QColor(self.LIMIT_COLOURS.get(check.decision, self.LIMIT_COLOURS[None]))
+            style = Qt.SolidLine if check.decision in ("pass", "fail") else Qt.DashLine
+            f = np.asarray(lim.band_hz, dtype=float)
+            x, y = plot_series.finite_for_plot(f, np.full(2, lim.value), self.log_x)
+            if self.log_y and lim.value <= 0:
+                continue  # a log axis has no place for it
+            line = pg.PlotDataItem(x, y, pen=pg.mkPen(colour, width=2.2, style=style))
+            line.setZValue(2)  # over the curves: the limit is what is being judged
+            line.limit_text = check.text
+            self.plot.addItem(line)
+            self._limit_items.append(line)
+            result = check.result
+            if result is not None:
+                fx, edge = plot_series.finite_for_plot(result.freq_hz, np.full(result.freq_hz.size, lim.value),
+                                                       self.log_x)
+                _, values = plot_series.finite_for_plot(result.freq_hz, result.values, self.log_x)
+                if self.log_y:
+                    values = np.where(values > 0, values, np.nan)
+                low = pg.PlotDataItem(fx, edge, pen=_NO_PEN)
+                high = pg.PlotDataItem(fx, values, pen=_NO_PEN, connect="finite")
+                shade = QColor(colour)
+                shade.setAlphaF(self.LIMIT_ALPHA)
+                fill = pg.FillBetweenItem(low, high, brush=pg.mkBrush(shade))
+                fill.setZValue(-1)
+                fill.decision = result.decision
+                for item in (low, high, fill):
+                    # The readings are the curve's, already counted in the view's range; the
+                    # fill's rectangle would reach to the origin (see _draw_bands).
+                    self.plot.addItem(item, ignoreBounds=item is not low)
+                self._limit_items += [low, high, fill]
+            word = self.LIMIT_WORDS.get(check.decision, "")
+            # Labels alternate between the band's start and its end, so limits over the same
+            # band at close values do not print over each other.
+            at_end = placed % 2 == 1
+            placed += 1
+            text = pg.TextItem(f"{'≤' if lim.op == '<=' else '≥'} {lim.value:g}  {word}".strip(),
+                               color=colour, anchor=(1, 1) if at_end else (0, 1))
+            # A text item sits in view coordinates: log10 of the data on a log axis.
+            text.setPos(self._x(float(x[-1] if at_end else x[0])),
+                        math.log10(lim.value) if self.log_y else lim.value)
+            self.plot.addItem(text, ignoreBounds=True)
+            self._limit_items.append(text)
+
+    def limit_items(self) -> list:
+        """Every item drawing the limits (lines, shading, labels), for tests."""
+        return list(self._limit_items)
+
+    def band_items(self) -> list[tuple[pg.PlotDataItem, pg.PlotDataItem, pg.FillBetweenItem]]:
+        """The uncertainty bands drawn: (lower edge, upper edge, fill) each (for tests and export)."""
+        return list(self._bands)
 
     def _sync_lines(self) -> None:
         markers = self.state.scene().markers
