@@ -96,6 +96,11 @@ def test_save_quit_reopen_finds_everything_as_it_was(qtbot, tmp_path, files):
     assert "fitted model" in t0.overlays and again.state.fit.overlay_trace == t0.id
     assert t0.velocity_factor(1) == 0.66
     assert again.session_path == path
+    # The fit panel shows the fit again (same settings, same sweep: the same result).
+    panel_again = again.fit_panel()
+    qtbot.waitUntil(lambda: panel_again.result is not None, timeout=20000)
+    assert panel_again.result.model_id == panel.result.model_id
+    assert panel_again.result.params == pytest.approx(panel.result.params, rel=1e-9)
 
 
 def test_a_missing_file_is_offered_to_locate_or_skip(qtbot, tmp_path, files):

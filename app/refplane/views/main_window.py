@@ -702,10 +702,22 @@ class MainWindow(QMainWindow):
             self.show_error("This session could not be opened", str(exc))
             return
         self.plots.flush()
+        self._refit_restored()
         problems = notes + load["errors"]
         if problems:
             self.show_error("The session was opened with some differences", "\n".join(problems))
         self.statusBar().showMessage(f"Opened session {os.path.basename(doc.path)}", 5000)
+
+    def _refit_restored(self) -> None:
+        """Fit the trace that carried the fitted curve again, so the fit panel shows its result
+        (the session keeps the settings and the curve, not the fit's tables)."""
+        owner = self.state.fit.overlay_trace
+        if owner is None or owner not in self.state.trace_ids():
+            return
+        current = self.state.current_trace
+        self.state.set_current_trace(owner)
+        self.fit_panel().fit()  # same settings, same sweep: the same fit, off the UI thread
+        self.state.set_current_trace(current if current in self.state.trace_ids() else owner)
 
     def _on_busy(self, busy: bool, text: str) -> None:
         self.progress.setVisible(busy)
