@@ -222,13 +222,7 @@ class TimeDomainView(QWidget):
 
     def wait(self, msecs: int = 30000) -> bool:
         """Run any pending refresh and wait until its result is shown (tests)."""
-        from PySide6.QtCore import QCoreApplication
-
-        if self._timer.isActive():
-            self.refresh()
-        done = self.workers.wait(msecs)
-        QCoreApplication.sendPostedEvents()
-        return done
+        return tw.wait_for(self, msecs)
 
     def add_marker(self, distance_m: float | None = None) -> None:
         """Add a marker at ``distance_m`` (default: the strongest event, else the middle of the view)."""

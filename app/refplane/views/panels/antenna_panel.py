@@ -247,13 +247,7 @@ class AntennaPanel(QWidget):
 
     def wait(self, msecs: int = 30000) -> bool:
         """Run any pending refresh and wait until its results are shown (tests, closing)."""
-        from PySide6.QtCore import QCoreApplication
-
-        if self._timer.isActive():
-            self.refresh()
-        done = self.workers.wait(msecs)
-        QCoreApplication.sendPostedEvents()  # results queued to the UI thread arrive now
-        return done
+        return tw.wait_for(self, msecs)
 
     def chosen_network(self):
         """(network, key) chosen in the list, or (None, "")."""

@@ -157,13 +157,7 @@ class CablePanel(QWidget):
 
     def wait(self, msecs: int = 30000) -> bool:
         """Run any pending refresh and wait until its result is shown (tests)."""
-        from PySide6.QtCore import QCoreApplication
-
-        if self._timer.isActive():
-            self.refresh()
-        done = self.workers.wait(msecs)
-        QCoreApplication.sendPostedEvents()
-        return done
+        return tw.wait_for(self, msecs)
 
     def rows(self) -> list[list[str]]:
         """What the result table shows."""

@@ -39,6 +39,18 @@ def put(widget, setter, value) -> None:
         widget.blockSignals(False)
 
 
+def wait_for(panel, msecs: int = 30000) -> bool:
+    """Run a tool panel's pending refresh (its ``_timer``), wait for its workers and deliver the
+    result (tests and closing)."""
+    from PySide6.QtCore import QCoreApplication
+
+    if panel._timer.isActive():
+        panel.refresh()
+    done = panel.workers.wait(msecs)
+    QCoreApplication.sendPostedEvents()
+    return done
+
+
 def caution(text: str) -> QLabel:
     """A wrapped caution, marked so it is not mistaken for a hint."""
     label = note(f"⚠ {text}", quiet=False)
