@@ -23,6 +23,7 @@ from refplane.analysis.antenna.matching import match_sweep
 from refplane.analysis.antenna.resonance import analyse
 from refplane.analysis.readings.impedance import readout
 from refplane.analysis.sweep import Sweep
+from timing import paired
 
 pytestmark = pytest.mark.benchmark
 
@@ -33,17 +34,7 @@ TARGET_MATCH = 8.0
 
 
 def _paired(reference, candidate, repeats: int = REPEATS) -> tuple[float, float]:
-    """Run reference and candidate alternately; the shortest time of each (as ``timeit`` advises)."""
-    ref_times, cand_times = [], []
-    for _ in range(repeats):
-        start = time.perf_counter()
-        reference()
-        middle = time.perf_counter()
-        candidate()
-        end = time.perf_counter()
-        ref_times.append(middle - start)
-        cand_times.append(end - middle)
-    return float(np.min(ref_times)), float(np.min(cand_times))
+    return paired(reference, candidate, repeats)
 
 
 def _antenna() -> Sweep:

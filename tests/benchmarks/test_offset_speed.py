@@ -18,6 +18,7 @@ import pytest
 
 from refplane.analysis.lines.deembed import LineOffset, remove_offsets
 from refplane.analysis.sweep import Sweep
+from timing import paired
 
 pytestmark = pytest.mark.benchmark
 
@@ -37,22 +38,7 @@ def _best_s(fn, repeats: int = REPEATS) -> float:
 
 
 def _paired(reference, candidate, repeats: int = REPEATS) -> tuple[float, float]:
-    """Run reference and candidate alternately; the shortest time of each.
-
-    Alternating keeps both under the same machine load (other processes come and go), and
-    the shortest run is the usual estimate of a piece of code's own cost (as ``timeit``
-    advises).
-    """
-    ref_times, cand_times = [], []
-    for i in range(repeats):
-        start = time.perf_counter()
-        reference(i)
-        middle = time.perf_counter()
-        candidate(i)
-        end = time.perf_counter()
-        ref_times.append(middle - start)
-        cand_times.append(end - middle)
-    return float(np.min(ref_times)), float(np.min(cand_times))
+    return paired(reference, candidate, repeats)
 
 
 def _sweeps():

@@ -39,6 +39,7 @@ import pytest
 
 from refplane.analysis.files import touchstone
 from refplane.analysis.sweep import Sweep
+from timing import paired
 
 pytestmark = pytest.mark.benchmark
 
@@ -67,16 +68,7 @@ def _write_big(folder):
 
 
 def _paired(reference, candidate, repeats: int = REPEATS) -> tuple[float, float]:
-    ref_times, cand_times = [], []
-    for _ in range(repeats):
-        start = time.perf_counter()
-        reference()
-        middle = time.perf_counter()
-        candidate()
-        end = time.perf_counter()
-        ref_times.append(middle - start)
-        cand_times.append(end - middle)
-    return float(np.min(ref_times)), float(np.min(cand_times))
+    return paired(reference, candidate, repeats)
 
 
 def _skrf_read(path):

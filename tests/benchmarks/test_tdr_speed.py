@@ -14,6 +14,7 @@ import pytest
 
 from refplane.analysis.lines.time_domain import gate, prepare_gate, time_response
 from refplane.analysis.sweep import Sweep
+from timing import paired
 
 pytestmark = pytest.mark.benchmark
 
@@ -24,17 +25,7 @@ C = 299_792_458.0
 
 
 def _paired(reference, candidate, repeats: int = REPEATS) -> tuple[float, float]:
-    """Run reference and candidate alternately; the shortest time of each (as ``timeit`` advises)."""
-    ref_times, cand_times = [], []
-    for _ in range(repeats):
-        start = time.perf_counter()
-        reference()
-        middle = time.perf_counter()
-        candidate()
-        end = time.perf_counter()
-        ref_times.append(middle - start)
-        cand_times.append(end - middle)
-    return float(np.min(ref_times)), float(np.min(cand_times))
+    return paired(reference, candidate, repeats)
 
 
 def _sweep() -> Sweep:
