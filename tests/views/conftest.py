@@ -20,3 +20,21 @@ def _private_settings(tmp_path_factory):
     for fmt in (QSettings.NativeFormat, QSettings.IniFormat):
         QSettings.setPath(fmt, QSettings.UserScope, folder)
     yield
+
+
+@pytest.fixture
+def window(qtbot):
+    """The main window, shown offscreen, with problems swallowed instead of opening dialogs.
+
+    Test files that need another set-up (errors recorded, a size) define their own ``window``.
+    """
+    from refplane.views.main_window import MainWindow
+
+    w = MainWindow()
+    w.show_error = lambda title, message: None
+    qtbot.addWidget(w)
+    w.show()
+    qtbot.waitExposed(w)
+    yield w
+    w.loader.cancel()
+    w.loader.wait()

@@ -5,21 +5,10 @@ from __future__ import annotations
 
 import pytest
 
-from refplane.views.main_window import MainWindow
 
 from model_sweeps import resistor_with_leads, series_rc
 
 
-@pytest.fixture
-def window(qtbot):
-    w = MainWindow()
-    w.show_error = lambda title, message: None
-    qtbot.addWidget(w)
-    w.show()
-    qtbot.waitExposed(w)
-    yield w
-    w.loader.cancel()
-    w.loader.wait()
 
 
 def _texts(menu):

@@ -11,7 +11,6 @@ from PySide6.QtWidgets import QInputDialog
 
 from refplane.analysis.readings.impedance import z_to_gamma
 from refplane.analysis.sweep import Sweep
-from refplane.views.main_window import MainWindow
 
 L_H, C_F = 100e-9, 10e-12
 F0 = 1.0 / (2.0 * math.pi * math.sqrt(L_H * C_F))  # series resonance, 1/(2π√(LC)) (textbook)
@@ -24,16 +23,6 @@ def series_rlc(r_ohm=30.0):
     return Sweep(freq_hz=f, s=z_to_gamma(z, 50.0).reshape(-1, 1, 1), z0_ohm=50.0, name="rlc")
 
 
-@pytest.fixture
-def window(qtbot):
-    w = MainWindow()
-    w.show_error = lambda title, message: None
-    qtbot.addWidget(w)
-    w.show()
-    qtbot.waitExposed(w)
-    yield w
-    w.loader.cancel()
-    w.loader.wait()
 
 
 def _action(menu, text):
