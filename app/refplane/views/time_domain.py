@@ -67,10 +67,7 @@ class TimeDomainView(QWidget):
         self._gate_ticket = None
         self._overlay_trace: int | None = None   # the trace carrying the gated-sweep overlay
         self.gated = None             # the GatedSweep drawn as that overlay
-        self._timer = QTimer(self)
-        self._timer.setSingleShot(True)
-        self._timer.setInterval(0)
-        self._timer.timeout.connect(self.refresh)
+        self._timer = tw.next_turn(self, self.refresh)
 
         # ---- controls (a narrow column left of the plot)
         controls = QWidget()

@@ -21,7 +21,7 @@ marker, the offsets, the trace or the settings change; a newer request supersede
 from __future__ import annotations
 
 import numpy as np
-from PySide6.QtCore import QTimer, Signal
+from PySide6.QtCore import Signal
 from PySide6.QtGui import QGuiApplication
 from PySide6.QtWidgets import (QCheckBox, QComboBox, QDoubleSpinBox, QHBoxLayout, QLineEdit, QPushButton,
                                QSizePolicy, QVBoxLayout, QWidget)
@@ -56,15 +56,9 @@ class AntennaPanel(QWidget):
         self._ticket = None
         self.results: tool_jobs.AntennaResults | None = None
         self.path_gamma: np.ndarray | None = None
-        self._timer = QTimer(self)
-        self._timer.setSingleShot(True)
-        self._timer.setInterval(0)
-        self._timer.timeout.connect(self.refresh)
+        self._timer = tw.next_turn(self, self.refresh)
 
-        content = QWidget()
-        column = QVBoxLayout(content)
-        column.setContentsMargins(4, 4, 4, 4)
-        column.setSpacing(6)
+        content, column = tw.column_widget()
         self.message = tw.note("")
         column.addWidget(self.message)
 

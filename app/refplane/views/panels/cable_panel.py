@@ -13,7 +13,7 @@ Settings are the session's ``"cable"`` tool record
 
 from __future__ import annotations
 
-from PySide6.QtCore import QTimer, Signal
+from PySide6.QtCore import Signal
 from PySide6.QtWidgets import (QComboBox, QDoubleSpinBox, QLineEdit, QPushButton, QSizePolicy, QVBoxLayout,
                                QWidget)
 
@@ -44,15 +44,9 @@ class CablePanel(QWidget):
         self._job = 0
         self.result = None
         self._result_for: tuple | None = None
-        self._timer = QTimer(self)
-        self._timer.setSingleShot(True)
-        self._timer.setInterval(0)
-        self._timer.timeout.connect(self.refresh)
+        self._timer = tw.next_turn(self, self.refresh)
 
-        content = QWidget()
-        column = QVBoxLayout(content)
-        column.setContentsMargins(4, 4, 4, 4)
-        column.setSpacing(6)
+        content, column = tw.column_widget()
         column.addWidget(tw.note("Sweep the cable twice at the same frequencies: far end open, then "
                                  "shorted. Choose the two traces here."))
         self.open_combo, self.short_combo = QComboBox(), QComboBox()

@@ -30,6 +30,25 @@ def note(text: str = "", *, quiet: bool = True, selectable: bool = True) -> QLab
     return label
 
 
+def next_turn(owner, slot) -> QTimer:
+    """A single-shot timer running ``slot`` on the next turn of the event loop: several changes
+    that arrive together make one refresh."""
+    timer = QTimer(owner)
+    timer.setSingleShot(True)
+    timer.setInterval(0)
+    timer.timeout.connect(slot)
+    return timer
+
+
+def column_widget() -> tuple[QWidget, QVBoxLayout]:
+    """A content widget and its vertical layout, spaced as every tool panel is."""
+    content = QWidget()
+    column = QVBoxLayout(content)
+    column.setContentsMargins(4, 4, 4, 4)
+    column.setSpacing(6)
+    return content, column
+
+
 def put(widget, setter, value) -> None:
     """Show a session value in a widget with its signals held, so nothing echoes back."""
     widget.blockSignals(True)

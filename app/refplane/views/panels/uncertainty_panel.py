@@ -16,7 +16,7 @@ from __future__ import annotations
 
 import os
 
-from PySide6.QtCore import QTimer, Signal
+from PySide6.QtCore import Signal
 from PySide6.QtWidgets import (QCheckBox, QComboBox, QDoubleSpinBox, QFileDialog, QHBoxLayout, QLineEdit,
                                QPushButton, QSizePolicy, QVBoxLayout, QWidget)
 
@@ -57,15 +57,9 @@ class UncertaintyPanel(QWidget):
         self.workers = workers if workers is not None else Workers(self, threads=1)
         self._job = 0
         self.uncertainty = None
-        self._timer = QTimer(self)
-        self._timer.setSingleShot(True)
-        self._timer.setInterval(0)
-        self._timer.timeout.connect(self.refresh)
+        self._timer = tw.next_turn(self, self.refresh)
 
-        content = QWidget()
-        column = QVBoxLayout(content)
-        column.setContentsMargins(4, 4, 4, 4)
-        column.setSpacing(6)
+        content, column = tw.column_widget()
         self.enabled_check = QCheckBox("Show ± on every reading (k = 2, about 95 %)")
         column.addWidget(self.enabled_check)
 
