@@ -12,14 +12,17 @@ numbers, a non-finite value, a count that does not fit — returns None, and the
 from __future__ import annotations
 
 import re
+from functools import partial
 
 import numpy as np
 
+from refplane.analysis.errors import SweepFileError
 from refplane.analysis.files.touchstone.convert import bad_point, to_s
 from refplane.analysis.files.touchstone.header import (
     FREQ_UNITS, Header, decode_line, header_line, split_comment)
+from refplane.analysis.files.touchstone.blocks import Blocks
 from refplane.analysis.files.touchstone.numbers import any_width, fixed_width
-from refplane.analysis.files.touchstone.source import LineTooLong, Source
+from refplane.analysis.files.touchstone.source import LinesUncounted, LineTooLong, Source
 
 _COMMENT = re.compile(rb"![^\n]*")
 _END_ONLY = re.compile(rb"\s*\[\s*end\s*\]\s*", re.IGNORECASE)
@@ -33,7 +36,7 @@ def fast(src: Source, name: str, ext_ports: int | None):
     """Read the file in bulk; returns (header, freq_hz, s), or None for the careful pass."""
     try:
         return _fast(src, name, ext_ports)
-    except (_Irregular, LineTooLong):
+    except (_Irregular, LineTooLong, LinesUncounted):
         return None
 
 
@@ -65,71 +68,169 @@ def _fast(src: Source, name: str, ext_ports: int | None):
     if not first:
         return None  # no numbers at all: the careful pass words the error
     per_point = head.numbers_per_point()
-    parts: list[np.ndarray] = []
+    one_line = head.ports <= 2
     tail = b""
-    count = 0
-    block = first + src.block()
-    while block:
-        body, rest = _clean(block, head)
-        if body:
-            count = _numbers(body, parts, count, per_point, head.ports <= 2)
-        if rest is not None:
-            tail = rest + b"".join(iter(src.block, b""))
-            break
-        block = src.block()
+    # One- and two-port points are whole lines, so each block converts its own points to
+    # S on a worker thread; bigger networks' points may straddle two blocks and are
+    # converted once all the numbers are in.
+    parse = partial(_block_points, head=head, per_point=per_point) if one_line else _parse
+    points = _Points(head.ports) if one_line else None
+    numbers: list = []
+
+    def take(result) -> None:
+        if result is None:
+            raise _Irregular
+        if points is not None:
+            points.add(*result)
+        else:
+            numbers.append(result)
+
+    block = first + src.block(count_lines=False)
+    with Blocks(parse) as blocks:
+        while block:
+            body, rest = _clean(block, head)
+            if body:
+                if points is not None and points.freq is None:
+                    points.reserve(body, src.size)
+                blocks.add(body)
+                for result in blocks.ready():
+                    take(result)
+            if rest is not None:
+                tail = rest + b"".join(iter(partial(src.block, False), b""))
+                break
+            if blocks.failed:
+                raise _Irregular
+            block = src.block(count_lines=False)
+        for result in blocks.results():
+            take(result)
     if head.version == 2 and not _END_ONLY.fullmatch(tail):
         return None  # [Noise Data], or no [End]: the careful pass checks them
-    values = np.concatenate(parts) if len(parts) != 1 else parts[0]
-    del parts
-    if values.size == 0 or values.size % per_point:
+    found = points.finish() if points is not None else _join_numbers(numbers, head, per_point)
+    if found is None:
         return None
-    n_points = values.size // per_point
-    if head.version == 2 and n_points != head.n_freq:
+    freq, s = found
+    if freq.size == 0 or freq[0] < 0:
         return None
-    values = values.reshape(n_points, per_point)
-    if not np.isfinite(values).all():
-        return None
-    with np.errstate(over="ignore"):
-        freq = values[:, 0] * FREQ_UNITS[head.unit]
-    if not np.isfinite(freq).all() or freq[0] < 0:
-        return None
-    if n_points > 1 and not np.all(freq[1:] > freq[:-1]):
-        return None
-    s = to_s(head, values)
-    # Finite RI and MA numbers give finite S; dB magnitudes and Y/Z/G/H conversions can
-    # overflow.
-    if (head.fmt == "db" or head.param != "s") and bad_point(s) is not None:
+    if head.version == 2 and freq.size != head.n_freq:
         return None
     return head, freq, s
 
 
-def _numbers(body: bytes, parts: list, count: int, per_point: int, one_line: bool) -> int:
-    """Parse one block, check that every point starts a line (and that a one- or two-port
-    point is exactly one line), append the numbers; returns the running count."""
-    values = fixed_width(body)
-    if values is not None:
-        per_line = values.size // (len(body) // (body.find(b"\n") + 1))
-        first = np.zeros(values.size, dtype=bool)
-        first[::per_line] = True
-    else:
-        found = any_width(body)
-        if found is None:
+def _block_points(body: bytes, head: Header, per_point: int):
+    """Frequencies and S-parameters of one block of one-line points (a worker's job), or
+    None when anything in it is irregular."""
+    parsed = _parse(body)
+    if parsed is None:
+        return None
+    values, first = parsed
+    if values.size % per_point:
+        return None
+    grid = first.reshape(-1, per_point)
+    if not grid[:, 0].all() or grid[:, 1:].any():
+        return None  # a point split over two lines, or two points on one line
+    return _points(values.reshape(-1, per_point), head)
+
+
+def _points(values: np.ndarray, head: Header):
+    """(freq_hz, s) of a (points × numbers) table, or None when a number is not finite,
+    the frequencies do not rise, or a conversion overflows."""
+    if not np.isfinite(values).all():
+        return None
+    with np.errstate(over="ignore"):
+        freq = values[:, 0] * FREQ_UNITS[head.unit]
+    if not np.isfinite(freq).all():
+        return None
+    if freq.size > 1 and not np.all(freq[1:] > freq[:-1]):
+        return None
+    try:
+        s = to_s(head, values)
+    except SweepFileError:
+        return None  # e.g. a singular Z matrix: the careful pass names its line
+    # Finite RI and MA numbers give finite S; dB magnitudes and Y/Z/G/H conversions can
+    # overflow.
+    if (head.fmt == "db" or head.param != "s") and bad_point(s) is not None:
+        return None
+    return freq, s
+
+
+class _Points:
+    """The sweep's points, gathered block by block into arrays that grow in place.
+
+    The arrays are sized from the file's length and the first block's bytes per line, and
+    each block's points are copied in as soon as they are ready, so the peak memory stays
+    near the final arrays' size (no list of parts and no second, joined copy).
+    """
+
+    def __init__(self, ports: int):
+        self.ports = ports
+        self.freq: np.ndarray | None = None
+        self.s: np.ndarray | None = None
+        self.n = 0
+
+    def reserve(self, body: bytes, file_size: int) -> None:
+        """Size the arrays for a file of ``file_size`` bytes whose lines look like ``body``."""
+        per_line = len(body) / max(1, body.count(b"\n"))
+        self._resize(int(file_size / per_line * 1.01) + 16)
+
+    def add(self, freq: np.ndarray, s: np.ndarray) -> None:
+        """Append one block's points; the frequencies must go on rising across blocks."""
+        k = freq.size
+        if not k:
+            return
+        if self.n and not freq[0] > self.freq[self.n - 1]:
             raise _Irregular
-        values, first = found
-    if values.size:
-        if one_line:  # one- and two-port files: one point per line, exactly
-            # Blocks hold whole lines, so here every block starts with a point.
-            if count % per_point or values.size % per_point:
-                raise _Irregular
-            grid = first.reshape(-1, per_point)
-            if not grid[:, 0].all() or grid[:, 1:].any():
-                raise _Irregular
+        if self.n + k > self.freq.size:
+            self._resize(max(self.n + k, int(self.freq.size * 1.25)))
+        self.freq[self.n:self.n + k] = freq
+        self.s[self.n:self.n + k] = s
+        self.n += k
+
+    def finish(self) -> tuple[np.ndarray, np.ndarray] | None:
+        """The arrays cut to the points read (in place), or None when there are none."""
+        if not self.n:
+            return None
+        self._resize(self.n)
+        return self.freq, self.s
+
+    def _resize(self, size: int) -> None:
+        if self.freq is None:
+            self.freq = np.empty(size)
+            self.s = np.empty((size, self.ports, self.ports), dtype=np.complex128)
         else:
+            # In place (realloc): no second copy of the arrays is made.
+            self.freq.resize(size, refcheck=False)
+            self.s.resize((size, self.ports, self.ports), refcheck=False)
+
+
+def _join_numbers(parts: list, head: Header, per_point: int):
+    """(freq_hz, s) from the blocks' numbers of a network with more than two ports, whose
+    points may run over several lines and blocks; None when irregular."""
+    chunks: list[np.ndarray] = []
+    count = 0
+    for values, first in parts:
+        if values.size:
             offset = (-count) % per_point  # the first point that starts in this block
             if not first[offset::per_point].all():
-                raise _Irregular
-        parts.append(values)
-    return count + values.size
+                return None
+            chunks.append(values)
+            count += values.size
+    if count == 0 or count % per_point:
+        return None
+    values = np.concatenate(chunks) if len(chunks) != 1 else chunks[0]
+    del chunks
+    return _points(values.reshape(-1, per_point), head)
+
+
+def _parse(body: bytes) -> tuple[np.ndarray, np.ndarray] | None:
+    """The numbers of one block of whole lines and which of them begin a line; None when
+    the block is not plain numbers. Runs in a worker thread: it touches nothing shared."""
+    values = fixed_width(body)
+    if values is not None:
+        lines = len(body) // (body.find(b"\n") + 1)
+        first = np.zeros(values.size, dtype=bool)
+        first[::values.size // lines] = True
+        return values, first
+    return any_width(body)
 
 
 def _clean(block: bytes, head: Header) -> tuple[bytes, bytes | None]:

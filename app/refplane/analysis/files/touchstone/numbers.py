@@ -25,6 +25,11 @@ import numpy as np
 from refplane.analysis.files.touchstone.header import NUMBER
 
 _MAX_FIXUPS = 2000
+#: Lines of one layout converted together (bounds the intermediates' memory).
+_LINES_AT_ONCE = 8192
+#: Digits a mantissa may have in the fast conversion: 19 fit in uint64; up to five more are
+#: accepted when they are leading zeros (checked line by line).
+_MOST_DIGITS = 24
 _NUMBER_BYTES = frozenset(b"0123456789+-.eE")
 _POW10_LD: list = []
 
@@ -134,7 +139,7 @@ def _layout(template: bytes) -> _Layout | None:
                 start = None
         for a, b in spans:
             t = _template_token(template[a:b], a)
-            if t is None or len(t[1]) > 19:
+            if t is None or len(t[1]) > _MOST_DIGITS:
                 tokens = None
                 break
             tokens.append(t)
@@ -210,8 +215,19 @@ def fixed_width(body: bytes) -> np.ndarray | None:
     if width <= 1 or len(body) % width:
         return None
     rows = np.frombuffer(body, dtype=np.uint8).reshape(-1, width)
-    values = _fixed_rows(rows, body[:width])
-    return None if values is None else values.reshape(-1)
+    if rows.shape[0] <= _LINES_AT_ONCE:
+        values = _fixed_rows(rows, body[:width])
+        return None if values is None else values.reshape(-1)
+    # A few thousand lines at a time: the digits, mantissas and extended-precision
+    # intermediates are several times the text's size, and blocks are parsed on several
+    # threads at once, so converting a whole block in one go would multiply the peak memory.
+    parts = []
+    for start in range(0, rows.shape[0], _LINES_AT_ONCE):
+        part = _fixed_rows(rows[start:start + _LINES_AT_ONCE], body[:width])
+        if part is None:
+            return None
+        parts.append(part)
+    return np.concatenate(parts, axis=0).reshape(-1)
 
 
 def _fixed_rows(rows: np.ndarray, template: bytes) -> np.ndarray | None:
@@ -240,7 +256,14 @@ def _fixed_rows(rows: np.ndarray, template: bytes) -> np.ndarray | None:
         digits -= np.uint8(48)
         if digits.max() >= 10:  # a byte below '0' wraps round to a large value
             return None
-        m = _mantissa(digits.reshape(n_lines, width_g, grp.nd))
+        digits = digits.reshape(n_lines, width_g, grp.nd)
+        if grp.nd > 19:
+            # More digits than uint64 holds: read only if the extra leading ones are zeros on
+            # every line (shortest round-trip text of a small number, 0.000123…, has them).
+            if digits[..., :grp.nd - 19].any():
+                return None
+            digits = digits[..., grp.nd - 19:]
+        m = _mantissa(digits)
         if grp.ne:
             e = np.zeros((n_lines, width_g), dtype=np.int16)
             for cols_j in grp.ecols_by_digit:
@@ -256,11 +279,16 @@ def _fixed_rows(rows: np.ndarray, template: bytes) -> np.ndarray | None:
             elif grp.esign_pos.size:
                 e[:, grp.esign_pos] *= np.int16(44) - rows[:, grp.esign_cols]
             e = e - grp.nfrac
+            low_e, high_e = int(e.min()), int(e.max())
         else:
-            e = np.broadcast_to(-grp.nfrac, (n_lines, width_g))
-        low_e, high_e = int(e.min()), int(e.max())
+            # No exponent digits: the exponent is minus the count of digits after the point,
+            # the same on every line; a (lines × numbers) array only when it differs.
+            low_e, high_e = -int(grp.nfrac.max()), -int(grp.nfrac.min())
+            e = np.broadcast_to(-grp.nfrac, (n_lines, width_g)) if low_e != high_e else None
         big = None
         if low_e < -27 or high_e > 27:
+            if e is None:
+                e = np.full((n_lines, width_g), low_e, dtype=np.int64)
             big = np.abs(e) > 27
             e = np.where(big, 0, e)
             low_e, high_e = int(e.min()), int(e.max())
@@ -316,6 +344,7 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
         edges = np.concatenate(([0], edges))
     if a.size and ink[-1]:
         edges = np.concatenate((edges, [a.size]))
+    del ink  # blocks are parsed on several threads at once: free what is done with early
     # Between numbers only spaces, tabs and line ends (no other control bytes).
     control = int(np.count_nonzero(a < 32))
     if control:
@@ -341,21 +370,28 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
         after = np.searchsorted(starts, np.flatnonzero(a == 10))
         first[long_gap] = False
         first[after[after < n]] = True
-    # Shape key: width, leading sign, and the offsets of the point and the exponent letter.
+    # Shape key: width, leading sign, the offset of the point and where the exponent
+    # letter sits counted from the number's end (a short range: keeps the key below 2**17,
+    # so the count of keys present is cheap). The key only groups numbers; each group's
+    # layout is then checked byte by byte, so a coarse key costs speed, never correctness.
     dot_at = _offsets(np.flatnonzero(a == 46), starts, ends)
-    if b"e" in block or b"E" in block:
-        e_at = _offsets(np.flatnonzero((a | 32) == 101), starts, ends)
-    else:
-        e_at = 0
-    if dot_at is None or e_at is None:
+    if dot_at is None:
         return None
+    key = widths.astype(np.uint32) << 11
+    key |= dot_at.astype(np.uint32) << 5
+    letters = block.count(b"e") + block.count(b"E")
+    if letters:
+        if letters <= _FEW_LETTERS:
+            found = np.array(_find_all(block, b"e") + _find_all(block, b"E"), dtype=np.intp)
+        else:
+            found = np.flatnonzero((a | 32) == 101)
+        owner = np.searchsorted(starts, found, side="right") - 1
+        from_end = np.zeros(n, dtype=np.uint32)
+        from_end[owner] = np.minimum(ends[owner] - found, 7)
+        key |= from_end
     lead = a[starts]
-    key = widths.astype(np.uint32)
-    key |= dot_at.astype(np.uint32) << 6
-    if isinstance(e_at, np.ndarray):
-        key |= e_at.astype(np.uint32) << 12
-    key |= (lead == 45).astype(np.uint32) << 18
-    key |= (lead == 43).astype(np.uint32) << 19
+    key |= (lead == 45).astype(np.uint32) << 3
+    key |= (lead == 43).astype(np.uint32) << 4
     # Number the shapes present 0, 1, 2 … so that a 16-bit radix sort groups them.
     present = np.flatnonzero(np.bincount(key))
     if present.size > 65535:
@@ -366,10 +402,7 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
     order = np.argsort(key, kind="stable")
     key = key[order]
     bounds = np.concatenate(([0], np.flatnonzero(np.diff(key)) + 1, [n])).tolist()
-    padded = np.concatenate((a, np.full(longest, 32, dtype=np.uint8)))
-    # Each number's bytes as one row: overlapping windows of the block, one per start.
-    windows = np.ndarray(shape=(a.size,), dtype=f"V{longest}", buffer=padded, strides=(1,))
-    tokens = windows[starts[order]].view(np.uint8).reshape(n, longest)
+    tokens = _windows(a, starts[order], longest)
     values = np.empty(n, dtype=np.float64)
     for lo, hi in zip(bounds[:-1], bounds[1:]):
         width = int(widths[order[lo]])
@@ -381,6 +414,42 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
                 return None
         values[order[lo:hi]] = part.reshape(-1)
     return values, first
+
+
+def _windows(a: np.ndarray, starts: np.ndarray, width: int) -> np.ndarray:
+    """The ``width`` bytes from each start as the rows of a (starts × width) array: overlapping
+    windows of ``a`` gathered in one step. Windows that would run past the end of ``a`` come
+    from a short copy of its tail padded with spaces (no padded copy of the whole block)."""
+    size = a.size
+    out = np.empty((starts.size, width), dtype=np.uint8)
+    inside = starts <= size - width
+    if size >= width:
+        windows = np.ndarray(shape=(size - width + 1,), dtype=f"V{width}", buffer=a, strides=(1,))
+        if inside.all():
+            return windows[starts].view(np.uint8).reshape(-1, width)
+        out[inside] = windows[starts[inside]].view(np.uint8).reshape(-1, width)
+    cut = max(0, size - width)
+    tail = np.full(size - cut + width, 32, dtype=np.uint8)
+    tail[:size - cut] = a[cut:]
+    rest = ~inside
+    tail_windows = np.ndarray(shape=(size - cut + 1,), dtype=f"V{width}", buffer=tail, strides=(1,))
+    out[rest] = tail_windows[starts[rest] - cut].view(np.uint8).reshape(-1, width)
+    return out
+
+
+#: Up to this many exponent letters in a block are found with ``bytes.find`` (faster than
+#: a pass over every byte when they are rare, as in most sweeps).
+_FEW_LETTERS = 512
+
+
+def _find_all(block: bytes, letter: bytes) -> list[int]:
+    """Every position of ``letter`` in ``block``."""
+    found = []
+    at = block.find(letter)
+    while at >= 0:
+        found.append(at)
+        at = block.find(letter, at + 1)
+    return found
 
 
 def _offsets(found: np.ndarray, starts: np.ndarray, ends: np.ndarray) -> np.ndarray | None:

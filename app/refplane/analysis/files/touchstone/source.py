@@ -11,6 +11,8 @@ if they were line feeds.
 
 from __future__ import annotations
 
+import os
+
 from refplane.analysis.errors import SweepFileError
 from refplane.analysis.files.fileio import MAX_INPUT_BYTES, open_input, path_problem, too_big
 from refplane.analysis.files.touchstone.header import MAX_LINE
@@ -24,6 +26,11 @@ class LineTooLong(Exception):
     """A line is longer than MAX_LINE (the careful pass says where)."""
 
 
+class LinesUncounted(Exception):
+    """A NUL byte was met after blocks whose lines were not counted (the careful pass,
+    which counts them, says at which line)."""
+
+
 class Source:
     """Sequential access to one file's bytes; use as a context manager."""
 
@@ -35,6 +42,11 @@ class Source:
         self.lines_before = 0  # line ends in the bytes handed out so far
         self.cr_only: bool | None = None
         self.at_end = False
+
+    @property
+    def size(self) -> int:
+        """The file's size in bytes when opened."""
+        return os.fstat(self.handle.fileno()).st_size
 
     def __enter__(self) -> "Source":
         return self
@@ -64,6 +76,8 @@ class Source:
             raise SweepFileError(too_big(), file=self.name)
         nul = data.find(b"\x00")
         if nul >= 0:
+            if self.lines_before is None:
+                raise LinesUncounted
             line = self.lines_before + self.buf.count(b"\n") + data.count(b"\n", 0, nul) + 1
             raise SweepFileError("the file holds NUL bytes: it looks like a binary file, not a "
                                  "Touchstone text file", file=self.name, line=line)
@@ -89,8 +103,13 @@ class Source:
                 return line
             self.buf += more
 
-    def block(self) -> bytes:
-        """The next run of whole lines, about one chunk long; b"" at the end."""
+    def block(self, count_lines: bool = True) -> bytes:
+        """The next run of whole lines, about one chunk long; b"" at the end.
+
+        With ``count_lines`` false the line ends are not counted (a whole-file pass over
+        the bytes saved in the bulk pass, which never names a line); ``lines_before`` is
+        then None from here on.
+        """
         pieces = [self.buf]
         size = len(self.buf)
         self.buf = b""
@@ -108,5 +127,8 @@ class Source:
             if size > MAX_LINE:
                 raise LineTooLong
         data = b"".join(pieces)
-        self.lines_before += data.count(b"\n")
+        if not count_lines:
+            self.lines_before = None
+        elif self.lines_before is not None:
+            self.lines_before += data.count(b"\n")
         return data
