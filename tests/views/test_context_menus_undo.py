@@ -33,7 +33,7 @@ def test_trace_list_menu_hides_stores_and_closes_and_undo_brings_it_back(window,
     assert window.undo_action.isEnabled() and window.undo_action.text() == "Undo close leaded"
     window.undo_action.trigger()
     assert [t.name for t in window.state.traces()] == ["leaded"] and len(window.state.markers()) == 1
-    assert window.trace_list.table.rowCount() == 1 and window.chart.trace_count() == 1
+    assert window.trace_list.rows.rowCount() == 1 and window.chart.trace_count() == 1
     assert not window.undo_action.isEnabled()
     assert "No trace here" in _texts(window.trace_list.context_menu(-1))[0]
 
