@@ -63,13 +63,18 @@ def _rows_of(scene, columns: list[str], previous: dict[tuple, Row]) -> list[Row]
         rows.append(Row(key, header, tuple(values.get(c, "") for c in columns), (m, label, header)))
     if len(markers) >= 2:
         delta = scene.delta
+        # The difference is made afresh with every scene: it is the same when both of its
+        # markers' views are the same objects.
+        by_id = {m.id: m for m in markers}
+        source = (by_id.get(delta.a), by_id.get(delta.b), delta.label) if delta is not None else (None,)
         old = previous.get(("difference",))
-        if old is not None and old.source and old.source[0] is delta:
+        if old is not None and len(old.source) == len(source) \
+                and all(x is y for x, y in zip(old.source[:2], source[:2])) and old.source[2:] == source[2:]:
             rows.append(old)
         else:
             values = {**delta.cells, "Trace": delta.label} if delta is not None else {}
             rows.append(Row(("difference",), "Δ" if delta is not None else "Difference",
-                            tuple(values.get(c, "") for c in columns), (delta,)))
+                            tuple(values.get(c, "") for c in columns), source))
     overlays = {t.id: t.overlays for t in scene.traces}
     for m in markers:
         for ov in overlays.get(m.trace_id, ()):
