@@ -243,8 +243,7 @@ class MarkerTable(QWidget):
         state = self.state
         for signal in (state.tracesChanged, state.traceChanged, state.offsetsChanged,
                        state.overlaysChanged, state.markersChanged, state.markerMoving,
-                       state.markerMoved, state.currentMarkerChanged, state.displayChanged,
-                       state.toolChanged):
+                       state.currentMarkerChanged, state.displayChanged, state.toolChanged):
             bind(self, signal, refresh)
         refresh()
 

@@ -37,6 +37,18 @@ class PortDelegate(QStyledItemDelegate):
         style.drawComplexControl(QStyle.CC_ComboBox, box, painter, option.widget)
         style.drawControl(QStyle.CE_ComboBoxLabel, box, painter, option.widget)
 
+    def sizeHint(self, option, index: QModelIndex):
+        size = super().sizeHint(option, index)
+        if not index.flags() & Qt.ItemIsEditable:
+            return size
+        # Wide enough for a combo box showing the widest choice, arrow and frame included.
+        box = QStyleOptionComboBox()
+        box.rect = option.rect
+        widest = port_text(int(index.data(N_PORTS_ROLE) or 1))
+        text = option.fontMetrics.size(Qt.TextSingleLine, widest)
+        style = option.widget.style() if option.widget is not None else QApplication.style()
+        return style.sizeFromContents(QStyle.CT_ComboBox, box, text, option.widget).expandedTo(size)
+
     def createEditor(self, parent: QWidget, option, index: QModelIndex) -> QWidget:
         combo = QComboBox(parent)
         for p in range(1, int(index.data(N_PORTS_ROLE) or 1) + 1):
