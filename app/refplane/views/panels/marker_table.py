@@ -45,8 +45,9 @@ class MarkerTable(QWidget):
         self.table.setEditTriggers(QAbstractItemView.NoEditTriggers)
         self.table.setSelectionMode(QAbstractItemView.ContiguousSelection)
         self.table.setWordWrap(False)
-        # Column widths follow the contents after each change that ends (not on every step of
-        # a drag: measuring every cell at each step is what makes a table feel slow).
+        # Column widths follow the contents when rows come or go, and otherwise once the table
+        # has been still for a quarter of a second (not on every step of a drag: measuring every
+        # cell at each step is what makes a table feel slow).
         self._widths_timer = QTimer(self)
         self._widths_timer.setSingleShot(True)
         self._widths_timer.setInterval(250)
@@ -113,6 +114,8 @@ class MarkerTable(QWidget):
         self.table.setContextMenuPolicy(Qt.CustomContextMenu)
         self.table.customContextMenuRequested.connect(
             lambda pos: self.context_menu(self.table.rowAt(pos.y())).exec(self.table.viewport().mapToGlobal(pos)))
+        # The one place the table takes scenes by itself; drop this line once the window's
+        # controller calls set_scene.
         self._follow_session()
 
     # ---------------------------------------------------------------- public
