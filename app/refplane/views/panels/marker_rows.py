@@ -16,12 +16,16 @@ from PySide6.QtCore import QAbstractTableModel, QModelIndex, QObject, Qt
 from PySide6.QtGui import QFont
 
 #: The role that gives the marker id of a marker row or of a model row (None on the difference row).
-MARKER_ID_ROLE = Qt.UserRole
+MARKER_ID_ROLE = int(Qt.UserRole)
 #: The role that gives a row's kind: "marker", "difference" or "model".
-ROW_KIND_ROLE = Qt.UserRole + 1
+ROW_KIND_ROLE = int(Qt.UserRole) + 1
 
+# Roles as plain ints: Qt asks data() for seven roles of every cell on each repaint, and
+# comparing ints is several times quicker than looking up and comparing Qt's enums.
+_DISPLAY, _ALIGNMENT = int(Qt.DisplayRole), int(Qt.TextAlignmentRole)
 _LEFT = int(Qt.AlignLeft | Qt.AlignVCenter)
 _RIGHT = int(Qt.AlignRight | Qt.AlignVCenter)
+_FLAGS = Qt.ItemIsEnabled | Qt.ItemIsSelectable
 
 
 @dataclass(frozen=True)
@@ -135,23 +139,22 @@ class MarkerRows(QAbstractTableModel):
         return 0 if parent.isValid() else len(self._columns)
 
     def flags(self, index: QModelIndex):
-        if not index.isValid():
-            return Qt.NoItemFlags
-        return Qt.ItemIsEnabled | Qt.ItemIsSelectable
+        return _FLAGS if index.isValid() else Qt.NoItemFlags
 
-    def data(self, index: QModelIndex, role=Qt.DisplayRole):
-        if not index.isValid() or not 0 <= index.row() < len(self._rows):
+    def data(self, index: QModelIndex, role: int = _DISPLAY):
+        if role == _DISPLAY:
+            row, col = index.row(), index.column()
+            if 0 <= row < len(self._rows) and 0 <= col < len(self._columns):
+                return self._rows[row].texts[col]
             return None
-        r = self._rows[index.row()]
-        col = index.column()
-        if role == Qt.DisplayRole:
-            return r.texts[col] if 0 <= col < len(r.texts) else None
-        if role == Qt.TextAlignmentRole:
-            return _LEFT if self._columns[col] == "Trace" else _RIGHT
-        if role == MARKER_ID_ROLE:
-            return r.marker_id
-        if role == ROW_KIND_ROLE:
-            return r.kind
+        if role == _ALIGNMENT:
+            return _LEFT if index.column() == 0 else _RIGHT  # the trace column reads left to right
+        if role == MARKER_ID_ROLE or role == ROW_KIND_ROLE:
+            row = index.row()
+            if not (index.isValid() and 0 <= row < len(self._rows)):
+                return None
+            r = self._rows[row]
+            return r.marker_id if role == MARKER_ID_ROLE else r.kind
         return None
 
     def headerData(self, section: int, orientation, role=Qt.DisplayRole):
