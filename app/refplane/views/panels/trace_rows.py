@@ -15,9 +15,14 @@ from refplane.session.model import Session
 from refplane.views.binding import bind
 
 #: The role that gives a row's trace id, in every column.
-TRACE_ID_ROLE = Qt.UserRole
+TRACE_ID_ROLE = int(Qt.UserRole)
 #: The role that gives the number of ports of a row's sweep (for the port chooser).
-N_PORTS_ROLE = Qt.UserRole + 1
+N_PORTS_ROLE = int(Qt.UserRole) + 1
+
+# Roles as plain ints (Qt hands data() an int; comparing with Qt's enums is much slower).
+_DISPLAY, _EDIT, _DECORATION, _TOOLTIP = (int(Qt.DisplayRole), int(Qt.EditRole), int(Qt.DecorationRole),
+                                          int(Qt.ToolTipRole))
+_CHECK, _ALIGNMENT, _ACCESSIBLE = int(Qt.CheckStateRole), int(Qt.TextAlignmentRole), int(Qt.AccessibleTextRole)
 
 _swatches: dict[tuple[str, int], QIcon] = {}
 
@@ -102,7 +107,7 @@ class TraceRows(QAbstractTableModel):
                 flags |= Qt.ItemIsEditable
         return flags
 
-    def data(self, index: QModelIndex, role=Qt.DisplayRole):
+    def data(self, index: QModelIndex, role: int = _DISPLAY):
         if not index.isValid():
             return None
         t = self._trace(index.row())
@@ -114,38 +119,38 @@ class TraceRows(QAbstractTableModel):
             return t.raw.n_ports
         col = index.column()
         if col == self.COL_NAME:
-            if role in (Qt.DisplayRole, Qt.EditRole):
+            if role in (_DISPLAY, _EDIT):
                 return t.name
-            if role == Qt.CheckStateRole:
+            if role == _CHECK:
                 return Qt.Checked if t.visible else Qt.Unchecked
-            if role == Qt.ToolTipRole:
+            if role == _TOOLTIP:
                 return t.source or t.name
         elif col == self.COL_OFFSETS:
-            if role == Qt.DisplayRole:
+            if role == _DISPLAY:
                 return "offsets" if t.corrected else ""
-            if role == Qt.ToolTipRole and t.corrected:
+            if role == _TOOLTIP and t.corrected:
                 return ("Reference-plane offsets are removed from this trace; its measurement "
                         "as read is drawn faded (Reference plane panel)")
         elif col == self.COL_PORT:
-            if role == Qt.DisplayRole:
+            if role == _DISPLAY:
                 return port_text(t.port)
-            if role == Qt.EditRole:
+            if role == _EDIT:
                 return t.port
-            if role == Qt.ToolTipRole and t.raw.n_ports > 1:
+            if role == _TOOLTIP and t.raw.n_ports > 1:
                 return "Click to choose the port whose reflection is drawn"
         elif col == self.COL_COLOUR:
-            if role == Qt.DecorationRole:
+            if role == _DECORATION:
                 return swatch(t.colour)
-            if role in (Qt.EditRole, Qt.AccessibleTextRole):
+            if role in (_EDIT, _ACCESSIBLE):
                 return t.colour
-            if role == Qt.ToolTipRole:
+            if role == _TOOLTIP:
                 return f"Colour {t.colour}: click to change"
         elif col == self.COL_CLOSE:
-            if role == Qt.DisplayRole:
+            if role == _DISPLAY:
                 return "✕"
-            if role == Qt.ToolTipRole:
+            if role == _TOOLTIP:
                 return "Close this trace (Ctrl+Z brings it back)"
-            if role == Qt.TextAlignmentRole:
+            if role == _ALIGNMENT:
                 return int(Qt.AlignCenter)
         return None
 
