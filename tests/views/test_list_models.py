@@ -344,3 +344,78 @@ def test_the_model_checker_passes_while_traces_and_markers_come_and_go(qtbot):
     assert traces.rows.rowCount() == 0 and table.rows.rowCount() == 0 and table.rows.columnCount() == 0
     assert table.rows.rowCount(table.rows.index(0, 0)) == 0 and not traces.rows.index(0, 0).isValid()
     assert traces.rows.rowCount(QModelIndex()) == 0
+
+
+def test_a_drag_step_changes_the_markers_model_row_and_not_the_others(markers):
+    state, widget, _tester = markers
+    tid = state.add_sweep(resistor_with_leads())
+    other = state.add_sweep(series_rc())
+    a = state.add_marker(tid, 200e6)
+    b = state.add_marker(other, 100e6)
+    c = state.add_marker(other, 200e6)
+    state.set_overlay(tid, "fit", resistor_with_leads(l_h=10e-9))
+    rows = widget.rows
+    assert [rows.headerData(r, Qt.Vertical) for r in range(rows.rowCount())] == ["1", "2", "3", "Δ", "1 model"]
+    seen = Recorder(rows)
+    state.move_marker(a, 250e6, finished=False)
+    assert {e[1] for e in seen.events} == {0, 4} and seen.kinds() == {"data"}
+    # The model row reads the model at the marker's new frequency: X = ωL with L = 10 nH
+    # (textbook reactance of an inductor): 2π·250 MHz·10 nH = 15.71 Ω.
+    assert widget.model_cells(a, "fit")["X"] == f"{2 * np.pi * 250e6 * 10e-9:.2f} Ω" == "15.71 Ω"
+    assert widget.cells(b)["Frequency"] == "100 MHz" and widget.cells(c)["Frequency"] == "200 MHz"
+
+
+def test_difference_choosers_pick_the_pair_and_the_row_follows(markers):
+    state, widget, _tester = markers
+    tid = state.add_sweep(resistor_with_leads())
+    ids = [state.add_marker(tid, f) for f in (100e6, 300e6, 600e6)]
+    assert widget.delta_row()["Trace"] == "marker 3 − marker 2"
+    widget.delta_a.setCurrentIndex(widget.delta_a.findData(ids[0]))
+    assert state.display.delta_markers == (ids[0], ids[2])
+    assert widget.delta_row()["Trace"] == "marker 3 − marker 1"
+    assert widget.delta_row()["Frequency"] == "+500 MHz"
+    # Chosen elsewhere (the row's right-click menu), the combo boxes follow.
+    state.set_display(delta_markers=(ids[1], ids[0]))
+    assert (widget.delta_a.currentData(), widget.delta_b.currentData()) == (ids[1], ids[0])
+    assert widget.delta_row()["Frequency"] == "−200 MHz"
+    state.remove_marker(ids[1])
+    state.remove_marker(ids[0])
+    assert widget.delta_row() == {} and not widget.delta_a.isEnabled()
+    assert "Needs two markers" in widget.delta_b.toolTip()
+
+
+def test_every_trace_list_cell_is_in_sight_on_a_1280x800_laptop(qtbot):
+    from PySide6.QtCore import QRect
+
+    from refplane.views.main_window import MainWindow
+
+    w = MainWindow()
+    w.show_error = lambda title, message: None
+    qtbot.addWidget(w)
+    tid = w.state.add_sweep(two_port_attenuator(), name="a sweep with a rather long name, as files are named")
+    from refplane.analysis.lines.deembed import LineOffset
+
+    w.state.set_offsets(tid, [LineOffset(delay_s=50e-12), LineOffset()])
+    # 1280×800 less a 40 px task bar (common practice, as tests/views/test_screens.py).
+    w.fit_to(QRect(0, 0, 1280, 760))
+    w.show()
+    qtbot.waitExposed(w)
+    tl = w.trace_list
+    view = tl.table.viewport().rect()
+    for col in (tl.COL_OFFSETS, tl.COL_PORT, tl.COL_COLOUR, tl.COL_CLOSE):
+        rect = tl.table.visualRect(tl.rows.index(0, col))
+        assert view.contains(rect), (col, rect, view)
+    # The port cell is wide enough for its combo box's text and arrow.
+    index = tl.rows.index(0, tl.COL_PORT)
+    assert tl.table.visualRect(index).width() >= tl.port_delegate.sizeHint(_option(tl.table), index).width()
+    w.loader.cancel()
+    w.loader.wait()
+
+
+def _option(view):
+    from PySide6.QtWidgets import QStyleOptionViewItem
+
+    option = QStyleOptionViewItem()
+    option.initFrom(view)
+    option.widget = view
+    return option
