@@ -302,13 +302,15 @@ def test_set_scene_alone_drives_the_model(qtbot):
     for f in (50e6, 100e6, 200e6):
         two.add_marker(t2, f)
     model = MarkerRows()
-    QAbstractItemModelTester(model, QAbstractItemModelTester.FailureReportingMode.Fatal)
+    # Held in a name: a tester that Python collects checks nothing.
+    tester = QAbstractItemModelTester(model, QAbstractItemModelTester.FailureReportingMode.Fatal)
     model.set_scene(one.scene())
     assert model.rowCount() == 1
     model.set_scene(two.scene())
     assert [model.headerData(r, Qt.Vertical) for r in range(model.rowCount())] == ["1", "2", "3", "Δ"]
     model.set_scene(one.scene())
     assert model.rowCount() == 1 and model.columnCount() == len(model.columns())
+    assert tester.model() is model
 
 
 def test_the_model_checker_passes_while_traces_and_markers_come_and_go(qtbot):
@@ -319,8 +321,8 @@ def test_the_model_checker_passes_while_traces_and_markers_come_and_go(qtbot):
     qtbot.addWidget(traces)
     qtbot.addWidget(table)
     fatal = QAbstractItemModelTester.FailureReportingMode.Fatal
-    QAbstractItemModelTester(traces.rows, fatal)
-    QAbstractItemModelTester(table.rows, fatal)
+    # Held in names: a tester that Python collects checks nothing.
+    testers = [QAbstractItemModelTester(traces.rows, fatal), QAbstractItemModelTester(table.rows, fatal)]
     a = state.add_sweep(resistor_with_leads(), name="a")
     pad = state.add_sweep(two_port_attenuator(), name="pad", order=0.5)
     c = state.add_sweep(series_rc(), name="c")
@@ -344,6 +346,7 @@ def test_the_model_checker_passes_while_traces_and_markers_come_and_go(qtbot):
     assert traces.rows.rowCount() == 0 and table.rows.rowCount() == 0 and table.rows.columnCount() == 0
     assert table.rows.rowCount(table.rows.index(0, 0)) == 0 and not traces.rows.index(0, 0).isValid()
     assert traces.rows.rowCount(QModelIndex()) == 0
+    assert [t.model() for t in testers] == [traces.rows, table.rows]
 
 
 def test_a_drag_step_changes_the_markers_model_row_and_not_the_others(markers):
