@@ -33,7 +33,7 @@ def test_trace_list_menu_hides_stores_and_closes_and_undo_brings_it_back(window,
     assert window.undo_action.isEnabled() and window.undo_action.text() == "Undo close leaded"
     window.undo_action.trigger()
     assert [t.name for t in window.state.traces()] == ["leaded"] and len(window.state.markers()) == 1
-    assert window.trace_list.table.rowCount() == 1 and window.chart.trace_count() == 1
+    assert window.trace_list.rows.rowCount() == 1 and window.chart.trace_count() == 1
     assert not window.undo_action.isEnabled()
     assert "No trace here" in _texts(window.trace_list.context_menu(-1))[0]
 
@@ -48,7 +48,7 @@ def test_marker_menus_remove_and_undo_restores_the_number(window):
     assert [m.id for m in window.state.markers()] == [ids[0], ids[2]]
     window.undo()
     assert [m.id for m in window.state.markers()] == ids
-    assert window.marker_table.table.verticalHeaderItem(1).text() == "2"
+    assert window.marker_table.header(1) == "2"
     # On the chart: right-click on a marker offers to remove it.
     chart_menu = window.chart.context_menu(window.state.scene().marker(ids[0]).gamma, ids[0])
     _trigger(chart_menu, "Remove marker 1")
@@ -63,7 +63,7 @@ def test_following_markers_can_stop_following_from_the_menu(window):
     menu = window.marker_table.context_menu(0)
     _trigger(menu, "Stop following the best match")
     assert window.state.marker(mid).follows is None
-    assert window.marker_table.table.verticalHeaderItem(0).text() == "1"
+    assert window.marker_table.header(0) == "1"
 
 
 def test_chart_and_plot_menus_offer_the_common_actions(window):

@@ -25,9 +25,9 @@ def test_model_row_equals_the_analysis_reading_of_the_overlay(table):
     model = resistor_with_leads(l_h=10e-9, name="fitted")
     tid = state.add_sweep(measured)
     mid = state.add_marker(tid, 470e6)
-    assert widget.table.rowCount() == 1
+    assert widget.rows.rowCount() == 1
     state.set_overlay(tid, "fit", model)
-    assert widget.table.rowCount() == 2
+    assert widget.rows.rowCount() == 2
     expected = readout_cells(read_points(model, [470e6]).readout.at(0))
     assert widget.model_cells(mid, "fit") == expected
     # The measured row is untouched and still the measurement's own reading.
@@ -47,4 +47,4 @@ def test_model_row_follows_a_moved_marker_and_goes_with_the_overlay(table):
     assert widget.model_cells(mid, "fit") == readout_cells(read_points(model, [200e6]).readout.at(0))
     assert "1 model" in widget.as_tsv()
     state.set_overlay(tid, "fit", None)
-    assert widget.table.rowCount() == 1
+    assert widget.rows.rowCount() == 1

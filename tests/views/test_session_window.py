@@ -64,7 +64,8 @@ def test_traces_keep_the_order_files_were_named_in(qtbot, tmp_path, monkeypatch,
     w.open_files([big, files[0], files[1]])
     _wait_loaded(qtbot, w, 3)
     assert [t.name for t in w.state.traces()] == ["big", "r75", "rc"]
-    assert [w.trace_list.table.item(r, w.trace_list.COL_NAME).text() for r in range(3)] == ["big", "r75", "rc"]
+    rows = w.trace_list.rows
+    assert [rows.index(r, rows.COL_NAME).data() for r in range(3)] == ["big", "r75", "rc"]
 
 
 def test_save_quit_reopen_finds_everything_as_it_was(qtbot, tmp_path, files):

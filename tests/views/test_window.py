@@ -49,7 +49,7 @@ def test_open_files_and_count_traces(qtbot, window, files):
     _open(qtbot, window, [files["r75"], files["rc"], files["pad"]])
     assert len(window.state.traces()) == 3
     assert window.chart.trace_count() == 3
-    assert window.trace_list.table.rowCount() == 3
+    assert window.trace_list.rows.rowCount() == 3
     # Every drawn trace is the file's reflection, point for point.
     # Files load in parallel, so they may arrive in any order.
     tid = next(t.id for t in window.state.traces() if t.name == "r75")
@@ -61,8 +61,14 @@ def test_open_files_and_count_traces(qtbot, window, files):
 def test_two_port_file_port_choice_switches_trace(qtbot, window, files):
     _open(qtbot, window, [files["pad"]])
     tid = window.state.trace_ids()[0]
-    combo = window.trace_list.table.cellWidget(0, window.trace_list.COL_PORT)
+    tl = window.trace_list
+    # The port is chosen in a combo box that the cell opens when clicked.
+    index = tl.rows.index(0, tl.COL_PORT)
+    tl.table.edit(index)
+    combo = tl.table.indexWidget(index)
+    assert [combo.itemText(i) for i in range(combo.count())] == ["S11", "S22"]
     combo.setCurrentIndex(1)
+    combo.activated.emit(1)
     assert window.state.trace(tid).port == 2
     x, y = window.chart.trace_item(tid).curve.getData()
     np.testing.assert_allclose(x + 1j * y, read_sweep(files["pad"]).reflection(2))
@@ -221,15 +227,20 @@ def test_trace_list_hide_rename_recolour_close(qtbot, window, files):
     _open(qtbot, window, [files["r75"], files["rc"]])
     tl = window.trace_list
     a, b = window.state.trace_ids()
-    item = tl.table.item(0, tl.COL_NAME)
-    item.setCheckState(Qt.Unchecked)
+    name = tl.rows.index(0, tl.COL_NAME)
+    assert tl.rows.setData(name, Qt.Unchecked, Qt.CheckStateRole)
     assert not window.state.trace(a).visible and not window.chart.trace_item(a).isVisible()
-    tl.table.item(0, tl.COL_NAME).setText("resistor")
+    assert tl.rows.setData(name, "resistor", Qt.EditRole)
     assert window.state.trace(a).name == "resistor"
+
+    def click(row, col):
+        rect = tl.table.visualRect(tl.rows.index(row, col))
+        qtbot.mouseClick(tl.table.viewport(), Qt.LeftButton, pos=rect.center())
+
     tl.ask_colour = lambda current: "#112233"
-    tl.table.cellWidget(1, tl.COL_COLOUR).click()
+    click(1, tl.COL_COLOUR)
     assert window.state.trace(b).colour == "#112233"
-    tl.table.cellWidget(1, tl.COL_CLOSE).click()
+    click(1, tl.COL_CLOSE)
     qtbot.waitUntil(lambda: window.state.trace_ids() == [a])
     assert window.chart.trace_count() == 1
 

@@ -7,15 +7,15 @@ a row below the markers shows the model's reading at the same frequency, for com
 
 from __future__ import annotations
 
-from PySide6.QtCore import Qt
+from PySide6.QtCore import Qt, QTimer
 from PySide6.QtGui import QGuiApplication
 from PySide6.QtWidgets import (QAbstractItemView, QComboBox, QHBoxLayout, QHeaderView, QLabel,
-                               QLineEdit, QPushButton, QTableWidget, QTableWidgetItem, QVBoxLayout,
-                               QWidget)
+                               QLineEdit, QPushButton, QTableView, QVBoxLayout, QWidget)
 
-from refplane.views.binding import bind
 from refplane.analysis.errors import AnalysisError
 from refplane.session.model import Session
+from refplane.views.binding import bind
+from refplane.views.panels.marker_rows import MarkerRows
 from refplane.views.theme import quiet_label
 
 
@@ -39,11 +39,19 @@ class MarkerTable(QWidget):
         self.found.setObjectName("found")
         self.found.setWordWrap(True)
         self.found.setTextInteractionFlags(Qt.TextSelectableByMouse)
-        self.table = QTableWidget(0, 0)
+        self.rows = MarkerRows(self)
+        self.table = QTableView()
+        self.table.setModel(self.rows)
         self.table.setEditTriggers(QAbstractItemView.NoEditTriggers)
         self.table.setSelectionMode(QAbstractItemView.ContiguousSelection)
-        # Column widths follow the contents after each change that ends (not on every step of
-        # a drag: measuring every cell at each step is what makes a table feel slow).
+        self.table.setWordWrap(False)
+        # Column widths follow the contents when rows come or go, and otherwise once the table
+        # has been still for a quarter of a second (not on every step of a drag: measuring every
+        # cell at each step is what makes a table feel slow).
+        self._widths_timer = QTimer(self)
+        self._widths_timer.setSingleShot(True)
+        self._widths_timer.setInterval(250)
+        self._widths_timer.timeout.connect(self._fit_columns)
         self.table.horizontalHeader().setSectionResizeMode(QHeaderView.Interactive)
         self.table.horizontalHeader().setStretchLastSection(False)
         self.table.verticalHeader().setDefaultSectionSize(22)
@@ -92,9 +100,9 @@ class MarkerTable(QWidget):
         self.message.hide()
         self.found.hide()
 
-        self._ids: list[int] = []
-        self._cols: list[str] = []
-        self._model_rows: list[tuple[int, str]] = []  # (marker id, overlay name), after the markers
+        self._scene = None
+        self._combos: tuple | None = None
+        self._had_markers: bool | None = None
         self.entry.returnPressed.connect(self.add_from_entry)
         self.add_button.clicked.connect(self.add_from_entry)
         self.copy_button.clicked.connect(self.copy_to_clipboard)
@@ -102,22 +110,13 @@ class MarkerTable(QWidget):
         self.clear_button.clicked.connect(state.clear_markers)
         self.delta_a.currentIndexChanged.connect(lambda _i: self._on_delta_chosen())
         self.delta_b.currentIndexChanged.connect(lambda _i: self._on_delta_chosen())
-        bind(self, state.displayChanged, self._on_display_changed)
-        self.table.currentCellChanged.connect(self._on_current_cell)
+        self.table.selectionModel().currentRowChanged.connect(self._on_current_row)
         self.table.setContextMenuPolicy(Qt.CustomContextMenu)
         self.table.customContextMenuRequested.connect(
             lambda pos: self.context_menu(self.table.rowAt(pos.y())).exec(self.table.viewport().mapToGlobal(pos)))
-        # The ± of every reading follows the uncertainty settings.
-        bind(self, state.toolChanged, lambda name: name == "uncertainty" and self.rebuild())
-        bind(self, state.markersChanged, self.rebuild)
-        bind(self, state.tracesChanged, self.rebuild)
-        bind(self, state.traceChanged, lambda _id: self.rebuild())
-        bind(self, state.offsetsChanged, lambda _id: self.rebuild())
-        bind(self, state.overlaysChanged, lambda _id: self.rebuild())
-        bind(self, state.markerMoving, self.refresh_marker)
-        bind(self, state.markerMoved, self._on_marker_moved)
-        bind(self, state.currentMarkerChanged, self._select_current)
-        self.rebuild()
+        # The one place the table takes scenes by itself; drop this line once the window's
+        # controller calls set_scene.
+        self._follow_session()
 
     # ---------------------------------------------------------------- public
     def add_from_entry(self) -> int | None:
@@ -142,30 +141,31 @@ class MarkerTable(QWidget):
 
     def row_of(self, marker_id: int) -> int:
         """Table row of a marker."""
-        return self._ids.index(marker_id)
+        return self.rows.row_of(("marker", marker_id))
+
+    def header(self, row: int) -> str:
+        """The header of a row as shown ("1", "2 · best match", "Δ", "1 model")."""
+        return self.rows.headerData(row, Qt.Vertical)
 
     def cells(self, marker_id: int) -> dict[str, str]:
         """What the table shows for a marker, column label → text (without the trace column)."""
-        row = self.row_of(marker_id)
-        return {label: self.table.item(row, col).text()
-                for col, label in enumerate(self._cols) if label != "Trace"}
+        cells = self.rows.cells(self.row_of(marker_id))
+        cells.pop("Trace", None)
+        return cells
 
     def model_cells(self, marker_id: int, overlay: str) -> dict[str, str]:
         """What the model row of ``overlay`` at a marker shows, column label → text."""
-        row = self._first_model_row() + self._model_rows.index((marker_id, overlay))
-        return {label: self.table.item(row, col).text()
-                for col, label in enumerate(self._cols) if label != "Trace"}
-
-    def _first_model_row(self) -> int:
-        return len(self._ids) + (1 if len(self._ids) >= 2 else 0)
+        cells = self.rows.cells(self.rows.row_of(("model", marker_id, overlay)))
+        cells.pop("Trace", None)
+        return cells
 
     def delta_row(self) -> dict[str, str]:
         """What the difference row shows, column label → text (empty when not shown)."""
-        row = len(self._ids)
-        if self.table.rowCount() <= row:
+        try:
+            cells = self.rows.cells(self.rows.row_of(("difference",)))
+        except ValueError:
             return {}
-        return {label: self.table.item(row, col).text() for col, label in enumerate(self._cols)
-                if self.table.item(row, col) is not None and self.table.item(row, col).text()}
+        return {label: text for label, text in cells.items() if text}
 
     def as_tsv(self, delimiter: str = "\t") -> str:
         """The table as tab-separated numbers a spreadsheet computes with: units in the header
@@ -173,7 +173,7 @@ class MarkerTable(QWidget):
         (``delimiter=","`` gives the same as CSV)."""
         from refplane.session.present import difference_values, sheet_rows, sheet_text
 
-        scene = self.state.scene()
+        scene = self._scene if self._scene is not None else self.state.scene()
         rows = [(str(m.number), scene.trace(m.trace_id).label, m.readout) for m in scene.markers]
         if scene.delta is not None:
             a, b = scene.marker(scene.delta.a), scene.marker(scene.delta.b)
@@ -203,90 +203,31 @@ class MarkerTable(QWidget):
         else:
             timer.stop()
 
-    # ----------------------------------------------------------------- slots
-    def rebuild(self) -> None:
-        scene = self.state.scene()
-        markers = scene.markers
-        self._ids = [m.id for m in markers]
-        self._cols = ["Trace"] + (list(markers[0].cells) if markers else [])
-        show_delta = len(markers) >= 2
-        self._model_rows = [(m.id, ov.name) for m in markers
-                            for ov in scene.trace(m.trace_id).overlays]
-        self.table.setColumnCount(len(self._cols) if markers else 0)
-        self.table.setRowCount(len(markers) + (1 if show_delta else 0) + len(self._model_rows))
-        self.table.setHorizontalHeaderLabels(self._cols)
-        numbers = {m.id: str(m.number) for m in markers}
-        headers = {m.id: f"{m.number} · {m.follows_text}" if m.follows_text else str(m.number) for m in markers}
-        rows = ([headers[m.id] for m in markers] + (["Difference"] if show_delta else [])
-                + [f"{numbers[mid]} model" for mid, _name in self._model_rows])
-        self.table.setVerticalHeaderLabels(rows)
-        for m in markers:
-            self.refresh_marker(m.id)
-        delta = scene.delta
-        for combo, chosen in ((self.delta_a, delta.a if delta else None), (self.delta_b, delta.b if delta else None)):
-            combo.blockSignals(True)
-            combo.clear()
-            for m in markers:
-                combo.addItem(str(m.number), m.id)
-            combo.setCurrentIndex(combo.findData(chosen) if chosen is not None else -1)
-            combo.setEnabled(show_delta)
-            combo.blockSignals(False)
-        # A control that cannot act says why in its tooltip (shown on a disabled control too).
-        why = "" if markers else "No marker yet: click near a trace, type a frequency, or use Find. "
-        for button, does in ((self.remove_button, "Remove the current marker (Ctrl+Z brings it back)"),
-                             (self.clear_button, "Remove every marker (Ctrl+Z brings them back)"),
-                             (self.copy_button, "Copy every cell as numbers for a spreadsheet")):
-            button.setEnabled(bool(markers))
-            button.setToolTip(why + ("" if markers else "(") + does + ("" if markers else ")"))
-        for combo in (self.delta_a, self.delta_b):
-            combo.setToolTip("The difference row shows marker b − marker a" if show_delta
-                             else "Needs two markers")
-        self._fill_delta()
-        self._select_current(self.state.current_marker)
-        self.table.resizeColumnsToContents()
-        lines = list(scene.found)
-        if scene.chart_z0_ohm is not None:
-            lines.insert(0, f"Readings against {scene.chart_z0_ohm:g} Ω, the chart's reference "
-                            "(View ▸ Chart reference impedance…).")
-        self.found.setText("\n".join(lines))
-        self.found.setVisible(bool(lines))
+    # ------------------------------------------------------------- the scene
+    def set_scene(self, scene) -> None:
+        """Show a resolved scene: the readouts, the difference row, the model rows, the
+        difference choosers, what the buttons can do and what searches found.
 
-    def refresh_marker(self, marker_id: int) -> None:
-        if marker_id not in self._ids:
+        Only what changed is redrawn; a drag step changes the dragged marker's cells alone.
+        Column widths follow the contents at once when rows or columns come or go, else once
+        the table has been still for a moment (not on every step of a drag: measuring every
+        cell at each step is what makes a table feel slow)."""
+        if scene is self._scene:
             return
-        row = self._ids.index(marker_id)
-        scene = self.state.scene()
-        m = scene.marker(marker_id)
-        values = {"Trace": scene.trace(m.trace_id).label, **m.cells}
-        for col, label in enumerate(self._cols):
-            self._set(row, col, values.get(label, ""), left=(label == "Trace"))
-        if any(mid == marker_id for mid, _name in self._model_rows):
-            models = m.model_cells
-            first = self._first_model_row()
-            for i, (mid, name) in enumerate(self._model_rows):
-                if mid != marker_id:
-                    continue
-                cells = {"Trace": name, **models.get(name, {})}
-                for col, label in enumerate(self._cols):
-                    self._set(first + i, col, cells.get(label, "—" if label != "Trace" else ""),
-                              left=(label == "Trace"))
-        self._fill_delta()
-
-    def _fill_find_menu(self) -> None:
-        if not self.find_menu.actions():
-            from refplane.views.find_menu import fill_find_menu
-
-            fill_find_menu(self.find_menu, self.state, self, self._say)
-
-    def _on_display_changed(self, name: str) -> None:
-        if name == "delta_markers":
-            self._fill_delta()
-        elif name == "chart_z0_ohm":
-            self.rebuild()  # every reading is now against the chart's reference
-
-    def _on_marker_moved(self, _marker_id: int) -> None:
-        self.table.resizeColumnsToContents()
-        scene = self.state.scene()
+        self._scene = scene
+        if self.rows.set_scene(scene):
+            self._fit_columns()
+        else:
+            self._widths_timer.start()
+        markers = scene.markers
+        delta = scene.delta
+        combos = (tuple((m.id, m.number) for m in markers), (delta.a, delta.b) if delta else None)
+        if combos != self._combos:
+            self._combos = combos
+            self._fill_combos(markers, delta)
+        if bool(markers) != self._had_markers:
+            self._had_markers = bool(markers)
+            self._explain_buttons(bool(markers))
         lines = list(scene.found)
         if scene.chart_z0_ohm is not None:
             lines.insert(0, f"Readings against {scene.chart_z0_ohm:g} Ω, the chart's reference "
@@ -294,73 +235,89 @@ class MarkerTable(QWidget):
         found = "\n".join(lines)
         if found != self.found.text():
             self.found.setText(found)
-            self.found.setVisible(bool(found))
+        self.found.setVisible(bool(found))
 
-    def _set(self, row: int, col: int, text: str, left: bool = False) -> None:
-        item = self.table.item(row, col)
-        if item is None:
-            item = QTableWidgetItem(text)
-            item.setTextAlignment((Qt.AlignLeft if left else Qt.AlignRight) | Qt.AlignVCenter)
-            self.table.setItem(row, col, item)
-        elif item.text() != text:
-            item.setText(text)
+    def _follow_session(self) -> None:
+        """Until the window's controller pushes scenes, take one from the session on each of
+        its events (the session resolves once per change and hands every view the same)."""
+        def refresh(*_args) -> None:
+            self.set_scene(self.state.scene())
+
+        state = self.state
+        for signal in (state.tracesChanged, state.traceChanged, state.offsetsChanged,
+                       state.overlaysChanged, state.markersChanged, state.markerMoving,
+                       state.currentMarkerChanged, state.displayChanged, state.toolChanged):
+            bind(self, signal, refresh)
+        refresh()
+
+    def _fit_columns(self) -> None:
+        self._widths_timer.stop()
+        self.table.resizeColumnsToContents()
+
+    def _fill_combos(self, markers, delta) -> None:
+        show_delta = len(markers) >= 2
+        for combo, chosen in ((self.delta_a, delta.a if delta else None), (self.delta_b, delta.b if delta else None)):
+            combo.blockSignals(True)
+            combo.clear()
+            for m in markers:
+                combo.addItem(str(m.number), m.id)
+            combo.setCurrentIndex(combo.findData(chosen) if chosen is not None else -1)
+            combo.setEnabled(show_delta)
+            combo.setToolTip("The difference row shows marker b − marker a" if show_delta
+                             else "Needs two markers")
+            combo.blockSignals(False)
+
+    def _explain_buttons(self, any_marker: bool) -> None:
+        # A control that cannot act says why in its tooltip (shown on a disabled control too).
+        why = "" if any_marker else "No marker yet: click near a trace, type a frequency, or use Find. "
+        for button, does in ((self.remove_button, "Remove the current marker (Ctrl+Z brings it back)"),
+                             (self.clear_button, "Remove every marker (Ctrl+Z brings them back)"),
+                             (self.copy_button, "Copy every cell as numbers for a spreadsheet")):
+            button.setEnabled(any_marker)
+            button.setToolTip(why + ("" if any_marker else "(") + does + ("" if any_marker else ")"))
+
+    def _fill_find_menu(self) -> None:
+        if not self.find_menu.actions():
+            from refplane.views.find_menu import fill_find_menu
+
+            fill_find_menu(self.find_menu, self.state, self, self._say)
 
     def _on_delta_chosen(self) -> None:
         a, b = self.delta_a.currentData(), self.delta_b.currentData()
         if a is not None and b is not None:
             self.state.set_display(delta_markers=(a, b))
 
-    def _fill_delta(self) -> None:
-        row = len(self._ids)
-        if self.table.rowCount() <= row:
-            return
-        delta = self.state.scene().delta
-        if delta is None or delta.a not in self._ids or delta.b not in self._ids:
-            return
-        for combo, chosen in ((self.delta_a, delta.a), (self.delta_b, delta.b)):
-            if combo.currentData() != chosen:
-                combo.blockSignals(True)
-                combo.setCurrentIndex(combo.findData(chosen))
-                combo.blockSignals(False)
-        cells = {**delta.cells, "Trace": delta.label}
-        self.table.verticalHeaderItem(row).setText("Δ")
-        for col, label in enumerate(self._cols):
-            self._set(row, col, cells.get(label, ""), left=(label == "Trace"))
-
     def context_menu(self, row: int):
         """The right-click menu of a row of the table (any row, or −1 for none)."""
         from PySide6.QtWidgets import QMenu
 
         menu = QMenu(self)
-        if 0 <= row < len(self._ids):
-            mid = self._ids[row]
-            m = self.state.scene().marker(mid)
+        scene = self._scene if self._scene is not None else self.state.scene()
+        kind = self.rows.row(row).kind if 0 <= row < self.rows.rowCount() else None
+        if kind == "marker":
+            mid = self.rows.row(row).marker_id
+            m = scene.marker(mid)
             menu.addAction(f"Remove marker {m.number} (Ctrl+Z brings it back)", lambda: self.state.remove_marker(mid))
             if m.follows:
                 menu.addAction(f"Stop following the {m.follows_text}", lambda: self.state.unfollow_marker(mid))
-            others = [x for x in self.state.scene().markers if x.id != mid]
+            others = [x for x in scene.markers if x.id != mid]
             if others:
                 diff = menu.addMenu("Difference from this marker to")
                 for other in others:
                     diff.addAction(f"marker {other.number}",
                                    lambda a=mid, b=other.id: self.state.set_display(delta_markers=(a, b)))
             menu.addSeparator()
-        menu.addAction("Copy table", self.copy_to_clipboard).setEnabled(bool(self._ids))
-        menu.addAction("Remove all markers", self.state.clear_markers).setEnabled(bool(self._ids))
+        menu.addAction("Copy table", self.copy_to_clipboard).setEnabled(bool(scene.markers))
+        menu.addAction("Remove all markers", self.state.clear_markers).setEnabled(bool(scene.markers))
         return menu
 
     def _remove_current(self) -> None:
         if self.state.current_marker != -1:
             self.state.remove_marker(self.state.current_marker)
 
-    def _on_current_cell(self, row: int, col: int, *_):
-        if 0 <= row < len(self._ids) and self.state.current_marker != self._ids[row]:
-            self.state.set_current_marker(self._ids[row])
-
-    def _select_current(self, marker_id: int) -> None:
-        for r in range(len(self._ids)):
-            header = self.table.verticalHeaderItem(r)
-            if header is not None:
-                font = header.font()
-                font.setBold(self._ids[r] == marker_id)
-                header.setFont(font)
+    def _on_current_row(self, current, _previous) -> None:
+        if self.rows.changing or not current.isValid():
+            return
+        r = self.rows.row(current.row())
+        if r.kind == "marker" and self.state.current_marker != r.marker_id:
+            self.state.set_current_marker(r.marker_id)

@@ -1,149 +1,146 @@
-"""The list of open traces: show/hide, rename, recolour, choose the port, close."""
+"""The list of open traces: show/hide, rename, recolour, choose the port, close.
+
+A table view over :class:`~refplane.views.panels.trace_rows.TraceRows`; the rows follow the
+session and edits go back through it. The port of a multi-port sweep is chosen in a combo box
+that exists only while the choice is being made (a delegate), not one widget per row.
+"""
 
 from __future__ import annotations
 
-from PySide6.QtCore import Qt, Signal
-from PySide6.QtGui import QColor, QIcon, QPixmap
-from PySide6.QtWidgets import (QAbstractItemView, QColorDialog, QComboBox, QHeaderView,
-                               QMenu, QTableWidget, QTableWidgetItem, QToolButton, QVBoxLayout, QWidget)
+from PySide6.QtCore import QModelIndex, Qt, Signal
+from PySide6.QtGui import QColor
+from PySide6.QtWidgets import (QAbstractItemView, QApplication, QColorDialog, QComboBox, QHeaderView,
+                               QMenu, QStyle, QStyledItemDelegate, QStyleOptionComboBox, QTableView,
+                               QVBoxLayout, QWidget)
 
-from refplane.views.binding import bind
 from refplane.session.model import Session
+from refplane.views.binding import bind
+from refplane.views.panels.trace_rows import N_PORTS_ROLE, TraceRows, port_text
 
 
-def swatch(colour: str, size: int = 14) -> QIcon:
-    """A small square of colour, for lists and buttons."""
-    pix = QPixmap(size, size)
-    pix.fill(QColor(colour))
-    return QIcon(pix)
+
+class PortDelegate(QStyledItemDelegate):
+    """The port cell: drawn as a combo box where there is a choice, edited with a real one."""
+
+    def paint(self, painter, option, index: QModelIndex) -> None:
+        if not index.flags() & Qt.ItemIsEditable:
+            super().paint(painter, option, index)
+            return
+        # Draw the selection background as any cell, then a combo box's frame and text on it.
+        super().paint(painter, option, QModelIndex())
+        box = QStyleOptionComboBox()
+        box.rect = option.rect.adjusted(1, 1, -1, -1)
+        box.state = option.state | QStyle.State_Enabled
+        box.currentText = str(index.data(Qt.DisplayRole) or "")
+        box.palette = option.palette
+        style = option.widget.style() if option.widget is not None else QApplication.style()
+        style.drawComplexControl(QStyle.CC_ComboBox, box, painter, option.widget)
+        style.drawControl(QStyle.CE_ComboBoxLabel, box, painter, option.widget)
+
+    def sizeHint(self, option, index: QModelIndex):
+        size = super().sizeHint(option, index)
+        if not index.flags() & Qt.ItemIsEditable:
+            return size
+        # Wide enough for a combo box showing the widest choice, arrow and frame included.
+        box = QStyleOptionComboBox()
+        box.rect = option.rect
+        widest = port_text(int(index.data(N_PORTS_ROLE) or 1))
+        text = option.fontMetrics.size(Qt.TextSingleLine, widest)
+        style = option.widget.style() if option.widget is not None else QApplication.style()
+        return style.sizeFromContents(QStyle.CT_ComboBox, box, text, option.widget).expandedTo(size)
+
+    def createEditor(self, parent: QWidget, option, index: QModelIndex) -> QWidget:
+        combo = QComboBox(parent)
+        for p in range(1, int(index.data(N_PORTS_ROLE) or 1) + 1):
+            combo.addItem(port_text(p), p)
+        # A choice takes effect at once, as the always-shown combo box of old did.
+        combo.activated.connect(lambda _i, c=combo: self._commit(c))
+        return combo
+
+    def _commit(self, combo: QComboBox) -> None:
+        self.commitData.emit(combo)
+        self.closeEditor.emit(combo, QStyledItemDelegate.NoHint)
+
+    def setEditorData(self, editor: QComboBox, index: QModelIndex) -> None:
+        editor.setCurrentIndex(max(0, editor.findData(index.data(Qt.EditRole))))
+
+    def setModelData(self, editor: QComboBox, model, index: QModelIndex) -> None:
+        if editor.currentData() is not None:
+            model.setData(index, editor.currentData(), Qt.EditRole)
+
+    def updateEditorGeometry(self, editor: QWidget, option, index: QModelIndex) -> None:
+        editor.setGeometry(option.rect)
 
 
 class TraceList(QWidget):
     """One row per open trace: a check box to show it, its name (double-click to rename),
-    the port whose reflection is drawn, its colour, and a button to close it."""
+    whether offsets are removed, the port whose reflection is drawn, its colour (click to
+    change) and a ✕ to close it."""
 
     closeRequested = Signal(int)
 
-    COL_NAME, COL_PORT, COL_COLOUR, COL_CLOSE = range(4)
+    COL_NAME, COL_OFFSETS, COL_PORT, COL_COLOUR, COL_CLOSE = (
+        TraceRows.COL_NAME, TraceRows.COL_OFFSETS, TraceRows.COL_PORT, TraceRows.COL_COLOUR,
+        TraceRows.COL_CLOSE)
 
     def __init__(self, state: Session, parent: QWidget | None = None):
         super().__init__(parent)
         self.setObjectName("panel")
         self.state = state
-        self.table = QTableWidget(0, 4)
-        self.table.setHorizontalHeaderLabels(["Trace", "Port", "", ""])
+        self.rows = TraceRows(state, self)
+        self.table = QTableView()
+        self.table.setModel(self.rows)
         self.table.verticalHeader().setVisible(False)
         self.table.setSelectionBehavior(QAbstractItemView.SelectRows)
         self.table.setSelectionMode(QAbstractItemView.SingleSelection)
         self.table.setEditTriggers(QAbstractItemView.DoubleClicked | QAbstractItemView.EditKeyPressed)
         self.table.setShowGrid(False)
+        self.table.setWordWrap(False)
+        self.port_delegate = PortDelegate(self.table)
+        self.table.setItemDelegateForColumn(self.COL_PORT, self.port_delegate)
         header = self.table.horizontalHeader()
         header.setSectionResizeMode(self.COL_NAME, QHeaderView.Stretch)
-        for col in (self.COL_PORT, self.COL_COLOUR, self.COL_CLOSE):
+        for col in (self.COL_OFFSETS, self.COL_PORT, self.COL_COLOUR, self.COL_CLOSE):
             header.setSectionResizeMode(col, QHeaderView.ResizeToContents)
+        header.setMinimumSectionSize(24)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(4, 4, 4, 4)
         layout.addWidget(self.table)
-        self._ids: list[int] = []
-        self._widgets: dict[int, tuple] = {}
-        self._updating = False
 
         self.table.setContextMenuPolicy(Qt.CustomContextMenu)
         self.table.customContextMenuRequested.connect(
             lambda pos: self._exec_menu(self.context_menu(self.table.rowAt(pos.y())), pos))
-        self.table.itemChanged.connect(self._on_item_changed)
-        self.table.currentCellChanged.connect(self._on_current_cell)
-        # Queued: the close button must not be deleted while its own click is being handled.
+        self.table.clicked.connect(self._on_clicked)
+        self.table.selectionModel().currentRowChanged.connect(self._on_current_row)
+        # A reset forgets the selection: show the current trace again.
+        self.rows.modelReset.connect(lambda: self._select_current(self.state.current_trace))
+        self.rows.rowsInserted.connect(lambda *_: self._select_current(self.state.current_trace))
+        # Queued: a click on ✕ must not remove its own row while the click is being handled.
         self.closeRequested.connect(state.remove_trace, Qt.QueuedConnection)
-        bind(self, state.tracesChanged, self.rebuild)
-        bind(self, state.traceChanged, lambda _id: self.rebuild())
-        bind(self, state.offsetsChanged, lambda _id: self.rebuild())
         bind(self, state.currentTraceChanged, self._select_current)
-        self.rebuild()
+        self._updating = False
+        self._select_current(state.current_trace)
 
     def row_of(self, trace_id: int) -> int:
         """The row showing a trace."""
-        return self._ids.index(trace_id)
+        return self.rows.row_of(trace_id)
 
     def ask_colour(self, current: str) -> str | None:
         """Ask for a colour (a method so tests can replace the dialog)."""
         colour = QColorDialog.getColor(QColor(current), self, "Trace colour")
         return colour.name() if colour.isValid() else None
 
-    def rebuild(self) -> None:
-        self._updating = True
-        try:
-            traces = self.state.traces()
-            ids = [t.id for t in traces]
-            if ids != self._ids:
-                # Rows changed: start the table afresh (closing a trace is rare and cheap).
-                self.table.setRowCount(0)
-                self._widgets.clear()
-            self._ids = ids
-            self.table.setRowCount(len(traces))
-            for row, t in enumerate(traces):
-                # Items are updated in place: this may run inside the item's own change signal.
-                item = self.table.item(row, self.COL_NAME)
-                if item is None:
-                    item = QTableWidgetItem()
-                    item.setFlags(Qt.ItemIsEnabled | Qt.ItemIsSelectable | Qt.ItemIsEditable
-                                  | Qt.ItemIsUserCheckable)
-                    self.table.setItem(row, self.COL_NAME, item)
-                item.setText(t.name + ("  (offsets)" if t.corrected else ""))
-                item.setCheckState(Qt.Checked if t.visible else Qt.Unchecked)
-                item.setIcon(swatch(t.colour))
-                item.setToolTip(t.source or t.name)
-                self._row_widgets(row, t)
-            self._select_current(self.state.current_trace)
-        finally:
-            self._updating = False
-
-    def _row_widgets(self, row: int, t) -> None:
-        # Cell widgets are made once per trace and then only updated: replacing a widget
-        # inside its own signal (a port chosen, say) would delete it while it is in use.
-        widgets = self._widgets.get(t.id)
-        if widgets is None or widgets[0] != row:
-            port = None
-            if t.raw.n_ports > 1:
-                port = QComboBox()
-                for p in range(1, t.raw.n_ports + 1):
-                    port.addItem(f"S{p}{p}", p)
-                port.currentIndexChanged.connect(
-                    lambda i, tid=t.id, c=port: self.state.set_port(tid, c.itemData(i)))
-                self.table.setCellWidget(row, self.COL_PORT, port)
-            else:
-                self.table.removeCellWidget(row, self.COL_PORT)
-                item = QTableWidgetItem("S11")
-                item.setFlags(Qt.ItemIsEnabled | Qt.ItemIsSelectable)
-                self.table.setItem(row, self.COL_PORT, item)
-            colour = QToolButton()
-            colour.setToolTip("Change colour")
-            colour.clicked.connect(lambda _=False, tid=t.id: self._recolour(tid))
-            self.table.setCellWidget(row, self.COL_COLOUR, colour)
-            close = QToolButton()
-            close.setText("✕")
-            close.setToolTip("Close this trace")
-            close.clicked.connect(lambda _=False, tid=t.id: self.closeRequested.emit(tid))
-            self.table.setCellWidget(row, self.COL_CLOSE, close)
-            widgets = self._widgets[t.id] = (row, port, colour, close)
-        _, port, colour, _ = widgets
-        if port is not None and port.currentIndex() != t.port - 1:
-            port.blockSignals(True)
-            port.setCurrentIndex(t.port - 1)
-            port.blockSignals(False)
-        colour.setIcon(swatch(t.colour))
-
     def context_menu(self, row: int) -> QMenu:
         """The right-click menu of a row (or of the empty list when ``row`` is −1)."""
         menu = QMenu(self)
-        if not 0 <= row < len(self._ids):
+        if not 0 <= row < self.rows.rowCount():
             menu.addAction("No trace here: File ▸ Open sweeps… opens one").setEnabled(False)
             return menu
-        tid = self._ids[row]
+        tid = self.rows.trace_id(row)
         t = self.state.trace(tid)
         menu.addAction("Make current", lambda: self.state.set_current_trace(tid))
         menu.addAction("Hide" if t.visible else "Show", lambda: self.state.set_visible(tid, not t.visible))
-        menu.addAction("Rename…", lambda: self.table.editItem(self.table.item(row, self.COL_NAME)))
+        menu.addAction("Rename…", lambda: self._rename(tid))
         menu.addAction("Change colour…", lambda: self._recolour(tid))
         menu.addSeparator()
         menu.addAction("Store as memory", lambda: self.state.store_memory(tid))
@@ -159,32 +156,48 @@ class TraceList(QWidget):
         menu.addAction("Close (Ctrl+Z brings it back)", lambda: self.closeRequested.emit(tid))
         return menu
 
+    # ----------------------------------------------------------------- slots
     def _exec_menu(self, menu: QMenu, pos) -> None:
         menu.exec(self.table.viewport().mapToGlobal(pos))
+
+    def _rename(self, trace_id: int) -> None:
+        if trace_id in self.rows.ids():
+            self.table.edit(self.rows.index(self.rows.row_of(trace_id), self.COL_NAME))
 
     def _recolour(self, trace_id: int) -> None:
         colour = self.ask_colour(self.state.trace(trace_id).colour)
         if colour:
             self.state.set_colour(trace_id, colour)
 
-    def _on_item_changed(self, item: QTableWidgetItem) -> None:
-        if self._updating or item.column() != self.COL_NAME:
+    def _on_clicked(self, index: QModelIndex) -> None:
+        """A click on the colour swatch, the ✕ or a port with a choice acts as a button would."""
+        if not index.isValid():
             return
-        tid = self._ids[item.row()]
-        visible = item.checkState() == Qt.Checked
-        text = item.text().replace("  (offsets)", "").strip()
-        if visible != self.state.trace(tid).visible:
-            self.state.set_visible(tid, visible)
-        elif text and text != self.state.trace(tid).name:
-            self.state.set_name(tid, text)
+        tid = self.rows.trace_id(index.row())
+        col = index.column()
+        if col == self.COL_COLOUR:
+            self._recolour(tid)
+        elif col == self.COL_CLOSE:
+            self.closeRequested.emit(tid)
+        elif col == self.COL_PORT and index.flags() & Qt.ItemIsEditable:
+            self.table.edit(index)
+            editor = self.table.indexWidget(index)
+            if isinstance(editor, QComboBox):
+                editor.showPopup()
 
-    def _on_current_cell(self, row: int, *_):
-        if not self._updating and 0 <= row < len(self._ids):
-            self.state.set_current_trace(self._ids[row])
+    def _on_current_row(self, current: QModelIndex, _previous: QModelIndex) -> None:
+        if self._updating or self.rows.changing or not current.isValid():
+            return
+        tid = self.rows.trace_id(current.row())
+        if tid != self.state.current_trace:
+            self.state.set_current_trace(tid)
 
     def _select_current(self, trace_id: int) -> None:
-        if trace_id in self._ids:
-            was = self._updating
-            self._updating = True
-            self.table.selectRow(self._ids.index(trace_id))
+        if trace_id not in self.rows.ids():
+            return
+        was = self._updating
+        self._updating = True
+        try:
+            self.table.selectRow(self.rows.row_of(trace_id))
+        finally:
             self._updating = was
