@@ -762,7 +762,7 @@ class SmithChart(QWidget):
             if item is None:
                 item = self._markers[m.id] = MarkerItem(m.id, m.number, m.colour, self.theme)
                 item.sigDragged.connect(self._on_marker_dragged)
-                item.sigClicked.connect(self.state.set_current_marker)
+                item.sigClicked.connect(self._on_marker_clicked)
                 self.plot.addItem(item)
             if self._drawn_markers.get(m.id) is not m:
                 item._number = str(m.number)
@@ -802,6 +802,9 @@ class SmithChart(QWidget):
         return self._regions.get(marker_id)
 
     # ----------------------------------------------------------------- input
+    def _on_marker_clicked(self, marker_id: int) -> None:
+        self.state.set_current_marker(marker_id)
+
     def _on_marker_dragged(self, marker_id: int, scene_pos: QPointF, finished: bool) -> None:
         p = self.view.mapSceneToView(scene_pos)
         self.drag_marker_to(marker_id, complex(p.x(), p.y()), finished)

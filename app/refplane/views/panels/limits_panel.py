@@ -85,7 +85,8 @@ class LimitsPanel(QWidget):
 
     # ------------------------------------------------------------------ edits
     def expressions(self) -> tuple[str, ...]:
-        return tuple(self.state.tool(TOOL).expressions)
+        """The limits as typed, in order (one check per expression in the Scene)."""
+        return tuple(check.text for check in self._scene.limits)
 
     def add_typed(self) -> bool:
         """Add the typed limit when it parses; otherwise say why in one line. Returns True when added."""
