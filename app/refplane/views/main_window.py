@@ -37,6 +37,7 @@ from refplane.views.workers import Workers
 from refplane.views.panels.marker_table import MarkerTable
 from refplane.views.panels.trace_list import TraceList
 from refplane.views.plots import CompanionPlots
+from refplane.views.scene_controller import SceneController
 from refplane.views.smith_chart import SmithChart
 from refplane.session.model import Session
 from refplane.views.theme import THEMES, Theme
@@ -80,6 +81,9 @@ class MainWindow(QMainWindow):
         """``files`` start reading at once (with ``markers_hz`` as in :meth:`open_files`)."""
         super().__init__()
         self.state = state if state is not None else Session()
+        # One controller resolves the session once per change and hands the frozen Scene to
+        # every view (chart, plots, panels that take one); the views send edits to the session.
+        self.scene_controller = SceneController(self.state, self)
         # One worker facility for every job of the window: reads, fits, estimates.
         self.workers = Workers(self)
         # Start reading before the widgets are built: the worker reads while the window is
@@ -105,8 +109,8 @@ class MainWindow(QMainWindow):
             self.state.set_display(theme=chosen)
         self.theme: Theme = THEMES.get(self.state.display.theme, THEMES["light"])
 
-        self.chart = SmithChart(self.state, theme=self.theme)
-        self.plots = CompanionPlots(self.state, theme=self.theme)
+        self.chart = SmithChart(self.state, theme=self.theme, controller=self.scene_controller)
+        self.plots = CompanionPlots(self.state, theme=self.theme, controller=self.scene_controller)
         self.splitter = QSplitter(Qt.Horizontal)
         self.splitter.addWidget(self.chart)
         self.splitter.addWidget(self.plots)
@@ -117,6 +121,8 @@ class MainWindow(QMainWindow):
 
         self.trace_list = TraceList(self.state)
         self.marker_table = MarkerTable(self.state)
+        for view in (self.trace_list, self.marker_table):
+            self.attach_view(view)
         self.docks: dict[str, QDockWidget] = {}
         self._panels_menu = None
         self._build_menus()
@@ -144,6 +150,11 @@ class MainWindow(QMainWindow):
         bind(self, self.state.tracesChanged, self._watch_files)
         self.apply_theme(self.theme, widgets=False)  # chart and plots were built in this theme
         self.resize(*DEFAULT_SIZE)
+
+    def attach_view(self, view) -> None:
+        """Give ``view`` the window's Scenes when it takes them (has ``set_scene``) and has no controller of its own."""
+        if callable(getattr(view, "set_scene", None)) and getattr(view, "controller", None) is None:
+            self.scene_controller.attach(view)
 
     def fit_to(self, available: QRect) -> None:
         """Shrink the window to fit ``available`` (a screen's free area) and centre it there.
@@ -308,7 +319,8 @@ class MainWindow(QMainWindow):
         markers.addSeparator()
         from refplane.views.find_menu import fill_find_menu
 
-        self.find_menu = fill_find_menu(markers.addMenu("Find"), self.state, self, self._say_found)
+        self.find_menu = fill_find_menu(markers.addMenu("Find"), self.state, self, self._say_found,
+                                        controller=self.scene_controller)
 
         self.tools_menu = bar.addMenu("&Tools")
         self.tools_menu.menuAction().setVisible(False)  # shown once a tool is added
@@ -651,9 +663,10 @@ class MainWindow(QMainWindow):
                     from dataclasses import replace
 
                     files[i] = replace(f, path=located, status="changed")
-        self.state.clear(undoable=False)
-        self.state.clear_markers(undoable=False)
-        self.state.forget_undo()
+        with self.scene_controller.held():  # one Scene for the views, not one per step
+            self.state.clear(undoable=False)
+            self.state.clear_markers(undoable=False)
+            self.state.forget_undo()
         self.session_path = os.path.abspath(path)
         requests = {}
         self._session_load = {"doc": doc, "requests": requests, "sweeps": {}, "errors": [],
@@ -697,7 +710,8 @@ class MainWindow(QMainWindow):
         doc = load["doc"]
         doc = SessionDocument(path=doc.path, data=doc.data, files=tuple(load["files"]))
         try:
-            _session, notes = build_session(doc, load["sweeps"], self.state)
+            with self.scene_controller.held():  # the views draw the restored work once
+                _session, notes = build_session(doc, load["sweeps"], self.state)
         except AnalysisError as exc:
             self.show_error("This session could not be opened", str(exc))
             return
@@ -838,7 +852,7 @@ class MainWindow(QMainWindow):
             from refplane.views.render import draw_session
 
             return draw_session(self.state, path, size=size or (self.chart.width(), self.chart.height() + 140),
-                                overwrite=overwrite, theme=self.theme)
+                                overwrite=overwrite, theme=self.theme, scene=self.scene_controller.scene())
         if what == "plots":
             widget = self.plots
             for plot in self.plots.plots():
@@ -861,8 +875,8 @@ class MainWindow(QMainWindow):
             twin.deleteLater()
 
     def _twin(self, what: str) -> QWidget:
-        # The twin reads the same session, so it shows the same quantities, axes and band.
-        return CompanionPlots(self.state, theme=self.theme)
+        # The twin takes the same Scenes, so it shows the same quantities, axes and band.
+        return CompanionPlots(self.state, theme=self.theme, controller=self.scene_controller)
 
     # ================================================================= view
     def ask_vswr(self) -> None:

@@ -19,7 +19,6 @@ from PySide6.QtGui import QColor, QPainter, QPainterPath
 from PySide6.QtWidgets import (QCheckBox, QComboBox, QGraphicsItem, QHBoxLayout, QLabel,
                                QPushButton, QSizePolicy, QToolButton, QVBoxLayout, QWidget)
 
-from refplane.views.binding import bind
 from refplane.session import plot_series
 from refplane.views.line_drawing import line_mode
 from refplane.views.plot_area import PlotArea, PlotView
@@ -146,9 +145,10 @@ class FrequencyPlot(QWidget):
     redrawn = Signal()
 
     def __init__(self, state: Session, quantity: str = "return_loss", parent: QWidget | None = None,
-                 theme: Theme = LIGHT, slot: str = "upper"):
+                 theme: Theme = LIGHT, slot: str = "upper", *, controller=None):
         super().__init__(parent)
         self.state = state
+        """Where the user's edits go (markers placed and dragged, band, zoom, quantity); never read to draw."""
         self.slot = slot
         """Which of the session's two plots this is: "upper" or "lower"."""
         self.theme = theme
@@ -156,10 +156,11 @@ class FrequencyPlot(QWidget):
         self.last_redraw_s = 0.0
         """How long the latest redraw took, in seconds."""
         self._labelled: str | None = None
+        self._scene = None  # the Scene drawn last (everything drawn comes from it)
+        self._drawn_markers: dict[int, object] = {}
         self.chooser = QComboBox()
         for q in plot_series.QUANTITIES:
             self.chooser.addItem(q.title, q.key)
-        self.chooser.setCurrentIndex(self.chooser.findData(self._session_quantity()))
         self.viewbox = BandViewBox(enableMenu=False)
         self.plot = PlotView(self.viewbox, background=theme.chart_bg)
         self.plot.setLabel("bottom", "Frequency", units="Hz")
@@ -200,9 +201,10 @@ class FrequencyPlot(QWidget):
         self._lines: dict[int, pg.InfiniteLine] = {}
         self._region: pg.LinearRegionItem | None = None  # made when a band is first chosen
 
-        # State changes redraw on the next turn of the event loop, once however many signals
+        # New curves are drawn on the next turn of the event loop, once however many Scenes
         # arrived: a new 100 000-point trace then costs the UI thread several short steps
-        # (chart, each plot, painting) instead of one long one.
+        # (chart, each plot, painting) instead of one long one. Marker lines and the band
+        # follow each Scene at once (a drag step shows in the same turn).
         self._redraw_timer = QTimer(self)
         self._redraw_timer.setSingleShot(True)
         self._redraw_timer.setInterval(0)
@@ -214,19 +216,42 @@ class FrequencyPlot(QWidget):
         self._applying_view = False
         self.viewbox.sigBand.connect(self._on_band_dragged)
         self.plot.scene().sigMouseClicked.connect(self._on_clicked)
-        bind(self, state.tracesChanged, self.schedule_redraw)
-        bind(self, state.markersChanged, self._sync_lines)
-        for sig in (state.traceChanged, state.offsetsChanged, state.overlaysChanged):
-            sig.connect(lambda _id: self.schedule_redraw())
-        bind(self, state.markerMoving, self._on_marker_moving)
-        bind(self, state.bandChanging, self._on_band_changed)
-        bind(self, state.bandChanged, self._on_band_changed)
-        bind(self, state.displayChanged, self._on_display_changed)
-        bind(self, state.memoryChanged, self.schedule_redraw)
-        bind(self, state.toolChanged, self._on_tool_changed)
-        # The limits are decided on the current trace: another one redraws their shading.
-        bind(self, state.currentTraceChanged, lambda _id: self.schedule_redraw())
-        self.log_x = state.display.log_frequency
+        self.log_y = False
+        from refplane.views.scene_controller import controller_for
+
+        self.controller = controller_for(state, self, controller)
+        self.controller.attach(self)
+
+    # ---------------------------------------------------------------- scene
+    @property
+    def _index(self) -> int:
+        return 0 if self.slot == "upper" else 1
+
+    def set_scene(self, scene) -> None:
+        """Show ``scene``: display options, marker lines and band at once; new curves on the next turn.
+
+        Parts are compared with the Scene drawn last by identity (resolve keeps unchanged parts
+        as the same objects), so a marker drag step moves one line and touches no curve.
+        """
+        old = self._scene
+        self._scene = scene
+        if old is None:
+            self._first_scene(scene)
+            return
+        redrawn = False
+        if old.display is not scene.display:
+            redrawn = self._apply_display(old.display, scene.display)
+        if not redrawn and (old.plots[self._index] is not scene.plots[self._index]
+                            or old.limits is not scene.limits):
+            self.schedule_redraw()
+        if old.markers != scene.markers:
+            self._sync_lines()
+        if old.band != scene.band:
+            self._on_band_changed()
+
+    def _first_scene(self, scene) -> None:
+        self._sync_chooser()
+        self.log_x = scene.display.log_frequency
         self.log_y = self._wants_log_y()
         if self.log_x or self.log_y:
             self.plot.setLogMode(x=self.log_x, y=self.log_y)
@@ -234,6 +259,29 @@ class FrequencyPlot(QWidget):
         self.redraw()
         if self._session_view() is not None:
             self._apply_view()
+
+    def _apply_display(self, old, new) -> bool:
+        """Follow changed display options; True when the curves were redrawn on the way."""
+        redrawn = False
+        view_changed = getattr(old, f"{self.slot}_view") != getattr(new, f"{self.slot}_view")
+        if getattr(old, f"{self.slot}_plot") != getattr(new, f"{self.slot}_plot"):
+            # A zoom that arrives with the new quantity (a session opened) is kept.
+            self._on_quantity_changed(keep_view=view_changed)
+            redrawn = True
+        if old.log_y != new.log_y:
+            redrawn = self._apply_log_y() or redrawn
+        if view_changed and not self._applying_view:
+            self._apply_view()
+        if old.log_frequency != new.log_frequency:
+            redrawn = self._set_log_x(new.log_frequency) or redrawn
+        return redrawn
+
+    def _sync_chooser(self) -> None:
+        key = self._session_quantity()
+        if self.chooser.currentData() != key:
+            self.chooser.blockSignals(True)
+            self.chooser.setCurrentIndex(self.chooser.findData(key))
+            self.chooser.blockSignals(False)
 
     # ---------------------------------------------------------------- public
     @property
@@ -246,11 +294,11 @@ class FrequencyPlot(QWidget):
         self.state.set_display(**{f"{self.slot}_plot": key})
 
     def _session_quantity(self) -> str:
-        return getattr(self.state.display, f"{self.slot}_plot")
+        return getattr(self._scene.display, f"{self.slot}_plot")
 
     # ------------------------------------------------------------- y axis
     def _wants_log_y(self) -> bool:
-        return self._session_quantity() in self.state.display.log_y
+        return self._session_quantity() in self._scene.display.log_y
 
     def set_log_y(self, on: bool) -> None:
         """Draw this plot's quantity on a logarithmic value axis (a session option, per quantity)."""
@@ -259,7 +307,7 @@ class FrequencyPlot(QWidget):
         key = self._session_quantity()
         if key not in LOG_Y_QUANTITIES:
             return
-        chosen = set(self.state.display.log_y)
+        chosen = set(self._scene.display.log_y)
         chosen = chosen | {key} if on else chosen - {key}
         self.state.set_display(log_y=tuple(chosen))
 
@@ -275,20 +323,22 @@ class FrequencyPlot(QWidget):
                                   "their plots can use a log scale")
         self.log_y_box.blockSignals(False)
 
-    def _apply_log_y(self) -> None:
+    def _apply_log_y(self) -> bool:
         wanted = self._wants_log_y()
         self._sync_log_box()
-        if wanted != self.log_y:
-            self.log_y = wanted
-            self.plot.setLogMode(x=self.log_x, y=self.log_y)
-            self.redraw()
-            if self._session_view() is None:
-                self.viewbox.autoRange(padding=None)
-                self.plot.enableAutoRange()
+        if wanted == self.log_y:
+            return False
+        self.log_y = wanted
+        self.plot.setLogMode(x=self.log_x, y=self.log_y)
+        self.redraw()
+        if self._session_view() is None:
+            self.viewbox.autoRange(padding=None)
+            self.plot.enableAutoRange()
+        return True
 
     # --------------------------------------------------------------- zoom
     def _session_view(self):
-        return getattr(self.state.display, f"{self.slot}_view")
+        return getattr(self._scene.display, f"{self.slot}_view")
 
     def reset_zoom(self) -> None:
         """Fit the plot to its visible traces again, and keep fitting (forgets the zoom)."""
@@ -326,47 +376,29 @@ class FrequencyPlot(QWidget):
         if key is not None:
             self.set_quantity(key)
 
-    def _on_display_changed(self, name: str) -> None:
-        if name == f"{self.slot}_plot":
-            key = self._session_quantity()
-            if self.chooser.currentData() != key:
-                self.chooser.blockSignals(True)
-                self.chooser.setCurrentIndex(self.chooser.findData(key))
-                self.chooser.blockSignals(False)
-            self._sync_log_box()
-            if self._wants_log_y() != self.log_y:
-                self._apply_log_y()
-            else:
-                self.redraw()
-            # A new quantity has its own scale: fit it.
-            if self._session_view() is not None:
-                self.state.set_display(**{f"{self.slot}_view": None})
-            else:
-                self.viewbox.autoRange(padding=None)
-                self.plot.enableAutoRange()
-        elif name == "log_y":
+    def _on_quantity_changed(self, *, keep_view: bool = False) -> None:
+        self._sync_chooser()
+        self._sync_log_box()
+        if self._wants_log_y() != self.log_y:
             self._apply_log_y()
-        elif name == f"{self.slot}_view" and not self._applying_view:
-            self._apply_view()
-        elif name == "log_frequency":
-            self._set_log_x(self.state.display.log_frequency)
-        elif name == "chart_z0_ohm":
-            self.schedule_redraw()
-
-    #: Tool records whose change alters what the plots draw (uncertainty bands, limit lines).
-    DRAWN_TOOLS = ("uncertainty", "limits")
-
-    def _on_tool_changed(self, name: str) -> None:
-        if name in self.DRAWN_TOOLS:
-            self.schedule_redraw()
+        else:
+            self.redraw()
+        if keep_view:
+            return
+        # A new quantity has its own scale: fit it.
+        if self._session_view() is not None:
+            self.state.set_display(**{f"{self.slot}_view": None})
+        else:
+            self.viewbox.autoRange(padding=None)
+            self.plot.enableAutoRange()
 
     def set_log_x(self, log_x: bool) -> None:
         """Logarithmic or linear frequency axis (a session display option, shared by both plots)."""
         self.state.set_display(log_frequency=bool(log_x))
 
-    def _set_log_x(self, log_x: bool) -> None:
+    def _set_log_x(self, log_x: bool) -> bool:
         if bool(log_x) == self.log_x:
-            return
+            return False
         self.log_x = bool(log_x)
         self.plot.setLogMode(x=self.log_x, y=self.log_y)
         self.redraw()
@@ -374,6 +406,7 @@ class FrequencyPlot(QWidget):
         # as log10 hertz, say), which the axis cannot label.
         self.viewbox.autoRange(padding=None)
         self.plot.enableAutoRange()
+        return True
 
     def set_theme(self, theme: Theme) -> None:
         self.theme = theme
@@ -438,7 +471,7 @@ class FrequencyPlot(QWidget):
         started = time.perf_counter()
         self._redraw_timer.stop()
         self._used = 0  # curves are reused by index; those left over are removed at the end
-        view = self.state.scene().plots[0 if self.slot == "upper" else 1]
+        view = self._scene.plots[self._index]
         q = plot_series.BY_KEY[view.quantity]
         unit = q.unit
         axis = self.plot.getAxis("left")
@@ -468,9 +501,10 @@ class FrequencyPlot(QWidget):
             self.plot.removeItem(item)
         del self._curves[self._used:]
         self._draw_bands(view.bands)
-        self._draw_limits(self.state.scene().limits, view.quantity)
+        self._draw_limits(self._scene.limits, view.quantity)
         self.note.setText(view.note)
         self.note.setToolTip(view.note)  # the whole note, when the plot is too narrow for it
+        self._drawn_markers.clear()  # the frequency axis may have changed: place every line again
         self._sync_lines()
         self._on_band_changed()
         self.last_redraw_s = time.perf_counter() - started
@@ -616,12 +650,17 @@ class FrequencyPlot(QWidget):
         return list(self._bands)
 
     def _sync_lines(self) -> None:
-        markers = self.state.scene().markers
+        """Marker lines for the Scene's markers: added, removed, and updated where the marker changed."""
+        markers = self._scene.markers
         ids = {m.id for m in markers}
         for mid in list(self._lines):
             if mid not in ids:
                 self.plot.removeItem(self._lines.pop(mid))
+                self._drawn_markers.pop(mid, None)
         for m in markers:
+            if self._drawn_markers.get(m.id) is m:
+                continue
+            self._drawn_markers[m.id] = m
             number = m.number
             t = m
             line = self._lines.get(m.id)
@@ -636,20 +675,14 @@ class FrequencyPlot(QWidget):
             line.setPen(pg.mkPen(t.colour, width=1.4, style=Qt.DashLine))
             line.setHoverPen(pg.mkPen(self.theme.accent, width=2.5))
             line.setVisible(t.visible)
-            self._place_line(m.id)
+            self._place_line(line, m.freq_hz)
 
-    def _place_line(self, marker_id: int) -> None:
-        line = self._lines[marker_id]
-        x = self._x(self.state.marker(marker_id).freq_hz) if (
-            not self.log_x or self.state.marker(marker_id).freq_hz > 0) else None
-        if x is not None:
-            line.blockSignals(True)
-            line.setValue(x)
-            line.blockSignals(False)
-
-    def _on_marker_moving(self, marker_id: int) -> None:
-        if marker_id in self._lines:
-            self._place_line(marker_id)
+    def _place_line(self, line: pg.InfiniteLine, freq_hz: float) -> None:
+        if self.log_x and freq_hz <= 0:
+            return
+        line.blockSignals(True)
+        line.setValue(self._x(freq_hz))
+        line.blockSignals(False)
 
     def _on_line_dragged(self, marker_id: int, line: pg.InfiniteLine, finished: bool) -> None:
         self.state.set_current_marker(marker_id)
@@ -671,7 +704,7 @@ class FrequencyPlot(QWidget):
     _syncing_region = False
 
     def _on_band_changed(self) -> None:
-        band = self.state.band
+        band = self._scene.band
         self._syncing_region = True
         try:
             if band is None or (self.log_x and band[0] <= 0):
@@ -690,7 +723,7 @@ class FrequencyPlot(QWidget):
         from refplane.session.model import LOG_Y_QUANTITIES
 
         menu = QMenu(self)
-        tid = self.state.current_trace
+        tid = self._scene.current_trace
         add = menu.addAction("Add marker here on the current trace",
                              lambda: self._add_marker_at(freq_hz))
         add.setEnabled(tid != -1 and freq_hz is not None)
@@ -699,14 +732,14 @@ class FrequencyPlot(QWidget):
         log.setCheckable(True)
         log.setChecked(self._wants_log_y())
         log.setEnabled(self._session_quantity() in LOG_Y_QUANTITIES)
-        if self.state.band is not None:
+        if self._scene.band is not None:
             menu.addAction("Clear band", lambda: self.state.set_band(None))
         return menu
 
     def _add_marker_at(self, freq_hz: float | None) -> None:
         from refplane.analysis.errors import AnalysisError
 
-        tid = self.state.current_trace
+        tid = self._scene.current_trace
         if tid == -1 or freq_hz is None:
             return
         try:
@@ -730,17 +763,17 @@ class FrequencyPlot(QWidget):
             return
         if any(isinstance(i, pg.InfiniteLine) for i in self.plot.scene().items(ev.scenePos())):
             return
-        tid = self.state.current_trace
+        tid = self._scene.current_trace
         if tid == -1:
             return
         f = self._freq(self.viewbox.mapSceneToView(ev.scenePos()).x())
-        freq = self.state.displayed(tid).freq_hz
+        freq = self._scene.trace(tid).freq_hz
         if freq[0] <= f <= freq[-1]:
             self.setFocus()
             self.state.add_marker(tid, f)
 
     def keyPressEvent(self, ev) -> None:
-        mid = self.state.current_marker
+        mid = self._scene.current_marker
         if ev.key() in (Qt.Key_Left, Qt.Key_Right) and mid != -1:
             step = 1 if ev.key() == Qt.Key_Right else -1
             if ev.modifiers() & Qt.ShiftModifier:
@@ -754,11 +787,17 @@ class FrequencyPlot(QWidget):
 class CompanionPlots(QWidget):
     """Two frequency plots, stacked, sharing the frequency axis, a log/linear switch and band tools."""
 
-    def __init__(self, state: Session, parent: QWidget | None = None, theme: Theme = LIGHT):
+    def __init__(self, state: Session, parent: QWidget | None = None, theme: Theme = LIGHT, *,
+                 controller=None):
         super().__init__(parent)
         self.state = state
-        self.upper = FrequencyPlot(state, theme=theme, slot="upper")
-        self.lower = FrequencyPlot(state, theme=theme, slot="lower")
+        from refplane.views.scene_controller import controller_for
+
+        # One controller for both plots and the bar (the window passes its own).
+        self.controller = controller_for(state, self, controller)
+        self._scene = None
+        self.upper = FrequencyPlot(state, theme=theme, slot="upper", controller=self.controller)
+        self.lower = FrequencyPlot(state, theme=theme, slot="lower", controller=self.controller)
         # After a slow redraw of the upper plot (long sweeps), the lower plot's pending redraw
         # waits a little, so the event loop (and the user) gets a turn and the upper plot is
         # painted in between; otherwise the two redraws and all the painting would run back
@@ -786,14 +825,20 @@ class CompanionPlots(QWidget):
         layout.addLayout(bar)
         layout.addWidget(self.upper, 1)
         layout.addWidget(self.lower, 1)
-        self.log_box.setChecked(state.display.log_frequency)
         self.log_box.toggled.connect(self.set_log_x)
-        bind(self, state.displayChanged, self._on_display_changed)
         self.band_button.toggled.connect(self._set_band_mode)
         self.clear_band.clicked.connect(lambda: state.set_band(None))
-        bind(self, state.bandChanging, self._show_band)
-        bind(self, state.bandChanged, self._show_band)
-        self._show_band()
+        self.controller.attach(self)
+
+    def set_scene(self, scene) -> None:
+        """Follow ``scene`` in the bar: the log-frequency box and the band's text."""
+        old, self._scene = self._scene, scene
+        if self.log_box.isChecked() != scene.display.log_frequency:
+            self.log_box.blockSignals(True)
+            self.log_box.setChecked(scene.display.log_frequency)
+            self.log_box.blockSignals(False)
+        if old is None or old.band != scene.band:
+            self._show_band()
 
     #: An upper-plot redraw slower than this holds the lower plot's back by :attr:`STAGGER_MS`.
     SLOW_REDRAW_S = 0.010
@@ -818,12 +863,6 @@ class CompanionPlots(QWidget):
         """Log or linear frequency on both plots (a session display option)."""
         self.state.set_display(log_frequency=bool(log_x))
 
-    def _on_display_changed(self, name: str) -> None:
-        if name == "log_frequency" and self.log_box.isChecked() != self.state.display.log_frequency:
-            self.log_box.blockSignals(True)
-            self.log_box.setChecked(self.state.display.log_frequency)
-            self.log_box.blockSignals(False)
-
     def set_theme(self, theme: Theme) -> None:
         for p in self.plots():
             p.set_theme(theme)
@@ -835,7 +874,7 @@ class CompanionPlots(QWidget):
     def _show_band(self) -> None:
         from refplane.analysis.units import format_frequency
 
-        band = self.state.band
+        band = self._scene.band
         self.clear_band.setEnabled(band is not None)
         self.clear_band.setToolTip("Forget the selected band" if band is not None else
                                    "No band chosen: Shift-drag across a plot, or Pick band then drag")

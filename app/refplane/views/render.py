@@ -1,10 +1,10 @@
 """Drawing a chart picture: the chart, its markers and a readout legend, from a session's Scene.
 
 Used by ``refplane render`` (with or without ``--session``) and by the window's
-File ▸ Save chart picture: the picture is the window's own :class:`SmithChart` on a
-:class:`Session`, with a legend whose lines are the resolved scene's legend
+File ▸ Save chart picture: the picture is the window's own :class:`SmithChart` drawing one
+frozen Scene, with a legend whose lines are that Scene's legend
 (:mod:`refplane.session.present` rules, the same text path as the marker table). No hover line,
-buttons or choosers are drawn.
+buttons or choosers are drawn. Like every view, the picture draws only the Scene it is given.
 """
 
 from __future__ import annotations
@@ -23,14 +23,27 @@ from refplane.views.theme import LIGHT, Theme
 
 
 class ChartPicture(QWidget):
-    """A chart with a legend underneath: one line per trace, one per marker."""
+    """A chart with a legend underneath: one line per trace, one per marker.
 
-    def __init__(self, state: Session, theme: Theme = LIGHT, title: str | None = None):
+    With ``scene`` it draws that Scene and nothing else (a picture of one moment); without
+    it, it follows the session through ``controller`` (or one of its own).
+    """
+
+    def __init__(self, state: Session, theme: Theme = LIGHT, title: str | None = None, *,
+                 scene=None, controller=None):
         super().__init__()
         self.state = state
+        self._scene = None
         self.setAutoFillBackground(True)
         self.setStyleSheet(f"background: {theme.chart_bg}; color: {theme.text};")
-        self.chart = SmithChart(state, theme=theme)
+        if scene is None:
+            from refplane.views.scene_controller import controller_for
+
+            self.controller = controller_for(state, self, controller)
+            self.chart = SmithChart(state, theme=theme, controller=self.controller)
+        else:
+            self.controller = None
+            self.chart = SmithChart(state, theme=theme, scene=scene)
         self.chart.hover.hide()
         self.legend = QLabel()
         self.legend.setTextFormat(Qt.RichText)
@@ -45,14 +58,25 @@ class ChartPicture(QWidget):
             layout.addWidget(head)
         layout.addWidget(self.chart, 1)
         layout.addWidget(self.legend)
-        self.legend.setText(self.legend_html())
+        if scene is None:
+            self.controller.attach(self)
+        else:
+            self.set_scene(scene)
+
+    def set_scene(self, scene) -> None:
+        """Write the legend of ``scene`` (the chart above takes the same Scene itself)."""
+        old, self._scene = self._scene, scene
+        if old is None or (old.traces, old.markers, old.memory, old.chart_z0_ohm, old.found) != (
+                scene.traces, scene.markers, scene.memory, scene.chart_z0_ohm, scene.found):
+            self.legend.setText(self.legend_html())
 
     def legend_lines(self) -> list[str]:
         """The legend as plain text lines (trace lines, then "n  summary" marker lines)."""
-        return list(self.state.scene().legend)
+        return list(self._scene.legend)
 
     def legend_html(self) -> str:
-        scene = self.state.scene()
+        """The legend as rich text: a coloured square per trace, a coloured number per marker, notes."""
+        scene = self._scene
         rows = []
         for t in scene.traces:
             rows.append(f"<span style='color:{t.colour}'>■</span>&nbsp;{html.escape(t.label)}")
@@ -100,19 +124,21 @@ def ensure_app():
 
 
 def draw_session(session: Session, path: str | os.PathLike, *, size: tuple[int, int] = (900, 1000),
-                 overwrite: bool = False, theme: Theme | None = None):
+                 overwrite: bool = False, theme: Theme | None = None, scene=None):
     """Draw a session's scene (traces, offsets, markers, grid options, zoom) and save a PNG or SVG.
 
     The window's File ▸ Save chart picture and ``refplane render --session`` both come here,
-    so a saved session renders exactly as the window showed it.
+    so a saved session renders exactly as the window showed it. ``scene`` is the Scene to
+    draw (the window passes the one its views show); by default the session's own.
     """
     from refplane.views import export
     from refplane.views.theme import THEMES
 
     export.check_target(path, overwrite=overwrite)
     app = ensure_app()
-    theme = theme or THEMES.get(session.display.theme, LIGHT)
-    picture = ChartPicture(session, theme)
+    scene = scene if scene is not None else session.scene()
+    theme = theme or THEMES.get(scene.display.theme, LIGHT)
+    picture = ChartPicture(session, theme, scene=scene)
     try:
         picture.chart.show_current_marker(False)  # no "current marker" halo in a picture
         picture.setAttribute(Qt.WA_DontShowOnScreen, True)

@@ -10,9 +10,11 @@ One graphics item per visual element, each fed precomputed arrays:
   drags, the chart turns them into frequencies and tells the state.
 - :class:`VswrCircleItem` — the constant-VSWR circle.
 
-:class:`SmithChart` observes a :class:`~refplane.session.model.Session`; its slots only move
-data from the state into items (and the cursor's Γ through ``impedance.gamma_to_z`` for the
-hover line).
+:class:`SmithChart` draws the frozen :class:`~refplane.session.scene.Scene` handed to its
+``set_scene`` (by a :class:`~refplane.views.scene_controller.SceneController`), redrawing only
+the parts that differ from the Scene drawn before; it never reads the session to draw. User
+edits (marker drags and clicks, zoom, menu actions) go to session methods. The only maths
+here is the cursor's Γ through ``impedance.gamma_to_z`` for the hover line.
 """
 
 from __future__ import annotations
@@ -25,7 +27,6 @@ from PySide6.QtCore import QPointF, QRectF, Qt, Signal
 from PySide6.QtGui import QColor, QFont, QFontMetricsF, QPainter, QPainterPath, QPen
 from PySide6.QtWidgets import QGraphicsItem, QLabel, QSizePolicy, QVBoxLayout, QWidget
 
-from refplane.views.binding import bind
 from refplane.views import smith_grid
 from refplane.views.line_drawing import apply_line_mode
 from refplane.session.model import Session
@@ -416,15 +417,21 @@ class ChartView(pg.GraphicsView):
 
 
 class SmithChart(QWidget):
-    """The chart widget observing a :class:`Session`.
+    """The chart widget: draws the Scene it is given, sends the user's edits to the session.
 
     Mouse: wheel zooms, drag pans, click near a trace places a marker, drag a marker along
     its trace. Keys: Left/Right step the current marker one swept point, Home resets the view.
+
+    What it draws comes only through :meth:`set_scene` (from a
+    :class:`~refplane.views.scene_controller.SceneController`, or a fixed ``scene`` for a
+    picture); it never reads the session to draw. ``state`` is where edits go (marker drags
+    and clicks, zoom, the context menu's actions).
     """
 
     hoverTextChanged = Signal(str)
 
-    def __init__(self, state: Session, parent: QWidget | None = None, theme: Theme = LIGHT):
+    def __init__(self, state: Session, parent: QWidget | None = None, theme: Theme = LIGHT, *,
+                 controller=None, scene=None):
         super().__init__(parent)
         self.state = state
         self.theme = theme
@@ -469,32 +476,48 @@ class SmithChart(QWidget):
         self._overlays: dict[tuple[int, str], TraceItem] = {}
         self._markers: dict[int, MarkerItem] = {}
         self._regions: dict[int, pg.PlotCurveItem] = {}  # uncertainty regions around markers
-        self._data: dict[int, tuple[np.ndarray, np.ndarray, np.ndarray]] = {}
-        self._vswr: float | None = None
-
-        bind(self, state.tracesChanged, self._on_traces_changed)
-        bind(self, state.traceChanged, self._on_trace_changed)
-        bind(self, state.offsetsChanged, self._on_trace_changed)
-        bind(self, state.overlaysChanged, self._on_overlays_changed)
-        # The ± of every reading follows the uncertainty settings.
-        bind(self, state.toolChanged, lambda name: name == "uncertainty" and self._on_markers_changed())
-        bind(self, state.markersChanged, self._on_markers_changed)
-        bind(self, state.markerMoving, self._on_marker_moving)
-        bind(self, state.currentMarkerChanged, self._on_current_marker)
-        bind(self, state.displayChanged, self._on_display_changed)
-        bind(self, state.memoryChanged, self._on_memory_changed)
+        self._data: dict[int, tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]] = {}
         self._memory: TraceItem | None = None
+        self._vswr: float | None = None
+        # What was last drawn, to redraw only what the next Scene changes (resolve keeps
+        # unchanged parts as the same objects).
+        self._scene = None
+        self._drawn_traces: dict[int, object] = {}
+        self._drawn_markers: dict[int, object] = {}
+        self._shown_view: object = _NOT_SHOWN  # the chart view last shown (or set by hand)
         self.view.sigRangeChanged.connect(self._on_range_changed)
         self.view.sigRangeChangedManually.connect(self._on_zoomed_by_hand)
-        scene = self.plot.scene()
-        scene.sigMouseMoved.connect(self._on_mouse_moved)
-        scene.sigMouseClicked.connect(self._on_mouse_clicked)
+        gscene = self.plot.scene()
+        gscene.sigMouseMoved.connect(self._on_mouse_moved)
+        gscene.sigMouseClicked.connect(self._on_mouse_clicked)
         self._style_empty_note()
-        self._on_traces_changed()
-        self._on_markers_changed()
-        self._applying_view = False
-        for name in ("admittance_grid", "vswr_circle", "chart_view"):
-            self._on_display_changed(name)
+        if scene is not None:
+            self.controller = None  # a still: draws this Scene only (a picture)
+            self.set_scene(scene)
+        else:
+            from refplane.views.scene_controller import controller_for
+
+            self.controller = controller_for(state, self, controller)
+            self.controller.attach(self)
+
+    # ---------------------------------------------------------------- scene
+    def set_scene(self, scene) -> None:
+        """Draw ``scene``: only the parts that are not the ones drawn last (compared by identity)."""
+        old = self._scene
+        self._scene = scene
+        self._apply_display(old.display if old is not None else None, scene.display)
+        traces_changed = old is None or old.traces != scene.traces
+        if traces_changed:
+            self._draw_traces(scene.traces)
+        if old is None or old.memory is not scene.memory:
+            self._draw_memory(scene.memory)
+        if traces_changed or old.markers != scene.markers or old.current_marker != scene.current_marker:
+            self._draw_markers(scene)
+
+    @property
+    def scene_drawn(self):
+        """The Scene drawn last (None before the first)."""
+        return self._scene
 
     # ---------------------------------------------------------------- public
     def reset_view(self) -> None:
@@ -503,13 +526,13 @@ class SmithChart(QWidget):
         self._show_range(None)
 
     def apply_session_view(self) -> None:
-        """Show the session's zoom (or the whole chart)."""
-        self._show_range(self.state.display.chart_view)
+        """Show the Scene's zoom (or the whole chart)."""
+        self._show_range(self._scene.display.chart_view if self._scene is not None else None)
 
     def show_current_marker(self, shown: bool) -> None:
         """Draw (or, for pictures, leave out) the halo of the marker the keys move."""
         self._halo = bool(shown)
-        self._on_current_marker(self.state.current_marker)
+        self._show_current(self._scene.current_marker if self._scene is not None else -1)
 
     _halo = True
 
@@ -521,37 +544,31 @@ class SmithChart(QWidget):
         """Show the constant-VSWR circle of ``vswr`` (> 1), or hide it with None (a session option)."""
         self.state.set_display(vswr_circle=vswr)
 
-    def _on_display_changed(self, name: str) -> None:
-        d = self.state.display
-        if name == "admittance_grid":
+    def _apply_display(self, old, d) -> None:
+        if old is d:
+            return
+        if old is None or old.admittance_grid != d.admittance_grid:
             self.grid.set_admittance(smith_grid.admittance_grid() if d.admittance_grid else None)
-        elif name == "vswr_circle":
+        if old is None or old.vswr_circle != d.vswr_circle:
             self._vswr = d.vswr_circle
             if d.vswr_circle is None:
                 self.vswr_circle.set_circle(None, None)
             else:
                 self.vswr_circle.set_circle(*smith_grid.vswr_circle(d.vswr_circle))
-        elif name == "chart_view" and not self._applying_view:
+        # A zoom made by hand is already on screen; only a zoom from elsewhere (a session
+        # opened, Reset view) moves the view.
+        if (old is None or old.chart_view != d.chart_view) and d.chart_view != self._shown_view:
             self._show_range(d.chart_view)
-        elif name == "chart_z0_ohm":
-            # Every curve moves to the new chart centre.
-            for tid in list(self._traces):
-                self._on_trace_changed(tid)
-                self._on_overlays_changed(tid)
-            self._on_markers_changed()
-            self._on_memory_changed()
 
     def _show_range(self, view: tuple[float, float, float, float] | None) -> None:
+        self._shown_view = view
         x0, x1, y0, y1 = view if view is not None else (-HOME, HOME, -HOME, HOME)
         self.view.setRange(xRange=(x0, x1), yRange=(y0, y1), padding=0)
 
     def _on_zoomed_by_hand(self, *_args) -> None:
         (x0, x1), (y0, y1) = self.view.viewRange()
-        self._applying_view = True
-        try:
-            self.state.set_display(chart_view=(x0, x1, y0, y1))
-        finally:
-            self._applying_view = False
+        self._shown_view = (float(x0), float(x1), float(y0), float(y1))
+        self.state.set_display(chart_view=self._shown_view)
 
     @property
     def vswr(self) -> float | None:
@@ -568,9 +585,11 @@ class SmithChart(QWidget):
         for m in self._markers.values():
             m._theme = theme
             m.update()
-        for tid in list(self._traces):
-            self._on_trace_changed(tid)  # faded and model curves take the theme's colours
-        self._on_memory_changed()
+        if self._scene is not None:
+            # Faded, model and memory curves take the theme's colours.
+            self._drawn_traces.clear()
+            self._draw_traces(self._scene.traces)
+            self._draw_memory(self._scene.memory)
 
     def trace_item(self, trace_id: int) -> TraceItem:
         """The item drawing a trace (for tests and export)."""
@@ -586,13 +605,13 @@ class SmithChart(QWidget):
 
     def drag_marker_to(self, marker_id: int, gamma: complex, finished: bool = True) -> None:
         """Move a marker as a drag to chart position ``gamma`` would (used by the item and tests)."""
-        m = self.state.marker(marker_id)
+        m = self._scene.marker(marker_id)
         f = self._frequency_near(m.trace_id, gamma.real, gamma.imag)[0]
         self.state.move_marker(marker_id, f, finished=finished)
 
     # ------------------------------------------------------------------ keys
     def keyPressEvent(self, ev) -> None:
-        mid = self.state.current_marker
+        mid = self._scene.current_marker if self._scene is not None else -1
         if ev.key() in (Qt.Key_Right, Qt.Key_Up, Qt.Key_Left, Qt.Key_Down) and mid != -1:
             step = 1 if ev.key() in (Qt.Key_Right, Qt.Key_Up) else -1
             if ev.modifiers() & Qt.ShiftModifier:
@@ -608,12 +627,12 @@ class SmithChart(QWidget):
         else:
             super().keyPressEvent(ev)
 
-    # ----------------------------------------------------------------- slots
+    # ----------------------------------------------------------------- drawing
     def _trace_items(self):
         yield from self._traces.values()
         yield from self._raw.values()
         yield from self._overlays.values()
-        if getattr(self, "_memory", None) is not None:
+        if self._memory is not None:
             yield self._memory
 
     def _on_range_changed(self, *_args) -> None:
@@ -655,9 +674,10 @@ class SmithChart(QWidget):
         self.empty_note.move((self.plot.width() - self.empty_note.width()) // 2,
                              (self.plot.height() - self.empty_note.height()) // 2)
 
-    def _on_traces_changed(self) -> None:
-        self.empty_note.setVisible(not self.state.trace_ids())
-        ids = set(self.state.trace_ids())
+    def _draw_traces(self, traces) -> None:
+        """Add, update and remove trace items so they show ``traces`` (TraceViews)."""
+        self.empty_note.setVisible(not traces)
+        ids = {t.id for t in traces}
         for tid in list(self._traces):
             if tid not in ids:
                 for store in (self._traces, self._raw):
@@ -665,69 +685,57 @@ class SmithChart(QWidget):
                     if item is not None:
                         self.plot.removeItem(item)
                 self._data.pop(tid, None)
+                self._drawn_traces.pop(tid, None)
                 for key in [k for k in self._overlays if k[0] == tid]:
                     self.plot.removeItem(self._overlays.pop(key))
-        for tid in self.state.trace_ids():
-            if tid not in self._traces:
-                self._traces[tid] = TraceItem(self.state.trace(tid).colour)
-                self._traces[tid].setZValue(10)
-                self._add_trace_item(self._traces[tid])
-                self._on_trace_changed(tid)
-                self._on_overlays_changed(tid)
+        for t in traces:
+            if self._drawn_traces.get(t.id) is not t:
+                self._draw_trace(t)
+                self._drawn_traces[t.id] = t
 
-    def _on_trace_changed(self, trace_id: int) -> None:
-        if trace_id not in self._traces:
-            return
-        t = self.state.scene().trace(trace_id)
+    def _draw_trace(self, t) -> None:
+        item = self._traces.get(t.id)
+        if item is None:
+            item = self._traces[t.id] = TraceItem(t.colour)
+            item.setZValue(10)
+            self._add_trace_item(item)
         g = t.gamma
-        item = self._traces[trace_id]
         item.set_style(t.colour)
-        if self._data.get(trace_id, (None, None, None, None))[3] is not g:
+        if self._data.get(t.id, (None, None, None, None))[3] is not g:
             item.set_data(g.real, g.imag)
-            self._data[trace_id] = (t.freq_hz, g.real, g.imag, g)
+            self._data[t.id] = (t.freq_hz, g.real, g.imag, g)
         item.setVisible(t.visible)
-        raw = self._raw.get(trace_id)
+        raw = self._raw.get(t.id)
         if t.raw_gamma is not None:
             if raw is None:
-                raw = self._raw[trace_id] = TraceItem(t.colour, width=1.4, alpha=self.theme.faded_alpha,
-                                                      ends=False)
+                raw = self._raw[t.id] = TraceItem(t.colour, width=1.4, alpha=self.theme.faded_alpha, ends=False)
                 raw.setZValue(8)
                 self._add_trace_item(raw)
-            r = t.raw_gamma
             raw.set_style(t.colour, width=1.4, alpha=self.theme.faded_alpha)
-            raw.set_data(r.real, r.imag)
+            if getattr(raw, "_gamma", None) is not t.raw_gamma:
+                raw.set_data(t.raw_gamma.real, t.raw_gamma.imag)
+                raw._gamma = t.raw_gamma
             raw.setVisible(t.visible)
         elif raw is not None:
-            self.plot.removeItem(self._raw.pop(trace_id))
-        for key, ov in self._overlays.items():
-            if key[0] == trace_id:
-                ov.set_style(t.colour, width=1.8, outline=self.theme.model_outline)
-                ov.setVisible(t.visible)
-        for mid, mitem in self._markers.items():
-            if self.state.marker(mid).trace_id == trace_id:
-                mitem.set_colour(t.colour)
-                mitem.setVisible(t.visible)
-                self._place_marker(mid)
-
-    def _on_overlays_changed(self, trace_id: int) -> None:
-        t = self.state.scene().trace(trace_id)
+            self.plot.removeItem(self._raw.pop(t.id))
         names = {ov.name for ov in t.overlays}
-        for key in [k for k in self._overlays if k[0] == trace_id and k[1] not in names]:
+        for key in [k for k in self._overlays if k[0] == t.id and k[1] not in names]:
             self.plot.removeItem(self._overlays.pop(key))
         for ov in t.overlays:
-            key = (trace_id, ov.name)
-            if key not in self._overlays:
-                self._overlays[key] = TraceItem(t.colour, width=1.8, ends=False)
-                self._overlays[key].set_style(t.colour, width=1.8, outline=self.theme.model_outline)
-                self._overlays[key].setZValue(11)  # over its trace, which it may hide exactly
-                self._add_trace_item(self._overlays[key])
-            g = ov.gamma
-            self._overlays[key].set_data(g.real, g.imag)
-            self._overlays[key].setVisible(t.visible)
+            key = (t.id, ov.name)
+            item = self._overlays.get(key)
+            if item is None:
+                item = self._overlays[key] = TraceItem(t.colour, width=1.8, ends=False)
+                item.setZValue(11)  # over its trace, which it may hide exactly
+                self._add_trace_item(item)
+            item.set_style(t.colour, width=1.8, outline=self.theme.model_outline)
+            if getattr(item, "_gamma", None) is not ov.gamma:
+                item.set_data(ov.gamma.real, ov.gamma.imag)
+                item._gamma = ov.gamma
+            item.setVisible(t.visible)
 
-    def _on_memory_changed(self) -> None:
+    def _draw_memory(self, memory) -> None:
         """Draw the stored trace (trace memory) as a thin dashed curve in the theme's muted colour."""
-        memory = self.state.scene().memory
         if memory is None:
             if self._memory is not None:
                 self.plot.removeItem(self._memory)
@@ -740,12 +748,12 @@ class SmithChart(QWidget):
         self._memory.set_style(self.theme.muted, width=1.3, dashed=True)
         self._memory.set_data(memory.gamma.real, memory.gamma.imag)
 
-    def _on_markers_changed(self) -> None:
-        scene = self.state.scene()
+    def _draw_markers(self, scene) -> None:
         existing = {m.id for m in scene.markers}
         for mid in list(self._markers):
             if mid not in existing:
                 self.plot.removeItem(self._markers.pop(mid))
+                self._drawn_markers.pop(mid, None)
         for mid in list(self._regions):
             if mid not in existing:
                 self.plot.removeItem(self._regions.pop(mid))
@@ -754,14 +762,23 @@ class SmithChart(QWidget):
             if item is None:
                 item = self._markers[m.id] = MarkerItem(m.id, m.number, m.colour, self.theme)
                 item.sigDragged.connect(self._on_marker_dragged)
-                item.sigClicked.connect(self.state.set_current_marker)
+                item.sigClicked.connect(self._on_marker_clicked)
                 self.plot.addItem(item)
-            item._number = str(m.number)
-            item.set_colour(m.colour)
-            item.setVisible(m.visible)
-            item.set_current(self._halo and m.id == scene.current_marker)
-            item.setPos(m.gamma.real, m.gamma.imag)
-            self._show_region(m)
+            if self._drawn_markers.get(m.id) is not m:
+                item._number = str(m.number)
+                item.set_colour(m.colour)
+                item.setVisible(m.visible)
+                item.setPos(m.gamma.real, m.gamma.imag)
+                if m.region is not None or m.id in self._regions:
+                    self._show_region(m)
+                self._drawn_markers[m.id] = m
+        self._show_current(scene.current_marker)
+
+    def _show_current(self, marker_id: int) -> None:
+        for mid, item in self._markers.items():
+            wanted = self._halo and mid == marker_id
+            if item._current != wanted:
+                item.set_current(wanted)
 
     def _show_region(self, m) -> None:
         """The 95 % region of Γ around a marker (uncertainty on), outlined in its trace's colour."""
@@ -784,19 +801,9 @@ class SmithChart(QWidget):
         """The item outlining a marker's uncertainty region (for tests), or None."""
         return self._regions.get(marker_id)
 
-    def _on_marker_moving(self, marker_id: int) -> None:
-        if marker_id in self._markers:
-            self._place_marker(marker_id)
-
-    def _on_current_marker(self, marker_id: int) -> None:
-        for mid, item in self._markers.items():
-            item.set_current(self._halo and mid == marker_id)
-
-    def _place_marker(self, marker_id: int) -> None:
-        m = self.state.scene().marker(marker_id)
-        self._markers[marker_id].setPos(m.gamma.real, m.gamma.imag)
-        if m.region is not None or marker_id in self._regions:
-            self._show_region(m)
+    # ----------------------------------------------------------------- input
+    def _on_marker_clicked(self, marker_id: int) -> None:
+        self.state.set_current_marker(marker_id)
 
     def _on_marker_dragged(self, marker_id: int, scene_pos: QPointF, finished: bool) -> None:
         p = self.view.mapSceneToView(scene_pos)
@@ -833,9 +840,9 @@ class SmithChart(QWidget):
         from refplane.analysis.readings.impedance import gamma_to_z
         from refplane.session.present import hover_text
 
+        scene = self._scene
         near = self._nearest_trace(gamma.real, gamma.imag) if abs(gamma) <= 1.0 else None
-        tid = near[0] if near else self.state.current_trace
-        scene = self.state.scene()
+        tid = near[0] if near else (scene.current_trace if scene is not None else -1)
         z0 = 50.0
         if tid in self._traces:
             z0 = scene.trace(tid).z0_ohm
@@ -864,9 +871,10 @@ class SmithChart(QWidget):
         """The right-click menu at chart position ``gamma`` (on a marker when ``marker_id`` is given)."""
         from PySide6.QtWidgets import QMenu
 
+        scene = self._scene
         menu = QMenu(self)
         if marker_id is not None and marker_id in self._markers:
-            m = self.state.scene().marker(marker_id)
+            m = scene.marker(marker_id)
             menu.addAction(f"Remove marker {m.number} (Ctrl+Z brings it back)",
                            lambda: self.state.remove_marker(marker_id))
             if m.follows:
@@ -876,13 +884,14 @@ class SmithChart(QWidget):
         near = self._nearest_trace(gamma.real, gamma.imag) if abs(gamma) <= 1.0 else None
         add = menu.addAction("Add marker here", lambda: self.add_marker_near(gamma))
         add.setEnabled(near is not None and near[2] <= PICK_PX)
-        if self.state.current_trace != -1:
-            menu.addAction("Store current trace as memory",
-                           lambda: self.state.store_memory(self.state.current_trace))
+        current = scene.current_trace if scene is not None else -1
+        if current != -1:
+            menu.addAction("Store current trace as memory", lambda: self.state.store_memory(current))
         menu.addSeparator()
-        grid = menu.addAction("Admittance grid", lambda: self.set_admittance_grid(not self.state.display.admittance_grid))
+        shown = scene is not None and scene.display.admittance_grid
+        grid = menu.addAction("Admittance grid", lambda: self.set_admittance_grid(not shown))
         grid.setCheckable(True)
-        grid.setChecked(self.state.display.admittance_grid)
+        grid.setChecked(shown)
         menu.addAction("Reset chart view", self.reset_view)
         return menu
 
@@ -893,3 +902,7 @@ class SmithChart(QWidget):
             return None
         self.state.set_current_trace(near[0])
         return self.state.add_marker(near[0], near[1])
+
+
+#: The chart view before anything was shown (no zoom is equal to it).
+_NOT_SHOWN = object()

@@ -4,6 +4,8 @@ Each limit is tested on the current trace (:mod:`refplane.session.plot_limits`, 
 ``analysis.limits``): the list says pass, FAIL or indeterminate with the worst frequency and the
 margin, and the plot showing the limit's quantity draws it over its band, shaded in the
 decision's colour. The limits are the session's ``"limits"`` tool record, saved with it.
+What the list shows comes from the Scene handed to :meth:`LimitsPanel.set_scene`; typed and
+removed limits go to the session's record.
 """
 
 from __future__ import annotations
@@ -14,7 +16,6 @@ from PySide6.QtWidgets import (QHBoxLayout, QLineEdit, QListWidget, QListWidgetI
 from refplane.analysis.errors import AnalysisError
 from refplane.session import plot_limits
 from refplane.session.model import Session
-from refplane.views.binding import bind
 from refplane.views.panels import tool_widgets as tw
 
 TOOL = "limits"
@@ -26,10 +27,11 @@ MARKS = {"pass": "✓", "fail": "✗", "indeterminate": "?", None: "–"}
 class LimitsPanel(QWidget):
     """The session's limits: an entry line, the list with each decision, and a remove button."""
 
-    def __init__(self, state: Session, parent: QWidget | None = None):
+    def __init__(self, state: Session, parent: QWidget | None = None, *, controller=None):
         super().__init__(parent)
         self.setObjectName("panel")
         self.state = state
+        self._scene = None
         self.entry = QLineEdit()
         self.entry.setPlaceholderText("vswr <= 2 over 140MHz:150MHz")
         self.entry.setToolTip(
@@ -69,15 +71,22 @@ class LimitsPanel(QWidget):
         self.add_button.clicked.connect(self.add_typed)
         self.remove_button.clicked.connect(self.remove_selected)
         self.list.currentRowChanged.connect(lambda _row: self._sync_buttons())
-        bind(self, state.toolChanged, self._on_tool)
-        bind(self, state.tracesChanged, self.refresh)
-        for sig in (state.currentTraceChanged, state.traceChanged, state.offsetsChanged):
-            bind(self, sig, lambda *_a: self.refresh())
-        self.refresh()
+        from refplane.views.scene_controller import controller_for
+
+        self.controller = controller_for(state, self, controller)
+        self.controller.attach(self)
+
+    def set_scene(self, scene) -> None:
+        """Show the limits of ``scene`` when they, the current trace or the traces' labels changed."""
+        old, self._scene = self._scene, scene
+        if old is None or old.limits is not scene.limits or old.current_trace != scene.current_trace \
+                or old.traces != scene.traces:
+            self.refresh()
 
     # ------------------------------------------------------------------ edits
     def expressions(self) -> tuple[str, ...]:
-        return tuple(self.state.tool(TOOL).expressions)
+        """The limits as typed, in order (one check per expression in the Scene)."""
+        return tuple(check.text for check in self._scene.limits)
 
     def add_typed(self) -> bool:
         """Add the typed limit when it parses; otherwise say why in one line. Returns True when added."""
@@ -104,16 +113,13 @@ class LimitsPanel(QWidget):
             self.state.set_tool(TOOL, expressions=tuple(exprs))
 
     # ----------------------------------------------------------------- showing
-    def _on_tool(self, name: str) -> None:
-        if name in (TOOL, "uncertainty"):
-            self.refresh()
-
     def lines(self) -> list[str]:
         """The list's lines as shown (for tests)."""
         return [self.list.item(i).text() for i in range(self.list.count())]
 
     def refresh(self, *_args) -> None:
-        scene = self.state.scene()
+        """Fill the list and notes from the Scene given last."""
+        scene = self._scene
         checks = scene.limits
         row = self.list.currentRow()
         self.list.clear()
@@ -140,4 +146,4 @@ class LimitsPanel(QWidget):
 
 def install(window):
     """Add the limits panel to the window's side column, built when first shown."""
-    return tw.install_lazily(window, "Limits", lambda: LimitsPanel(window.state))
+    return tw.install_lazily(window, "Limits", lambda: LimitsPanel(window.state, controller=getattr(window, "scene_controller", None)))
