@@ -120,7 +120,7 @@ class MainWindow(QMainWindow):
         self.setCentralWidget(self.splitter)
 
         self.trace_list = TraceList(self.state)
-        self.marker_table = MarkerTable(self.state)
+        self.marker_table = MarkerTable(self.state, controller=self.scene_controller)
         for view in (self.trace_list, self.marker_table):
             self.attach_view(view)
         self.docks: dict[str, QDockWidget] = {}

@@ -22,7 +22,7 @@ from refplane.views.theme import quiet_label
 class MarkerTable(QWidget):
     """The marker readout table with an entry line for placing markers by frequency."""
 
-    def __init__(self, state: Session, parent: QWidget | None = None):
+    def __init__(self, state: Session, parent: QWidget | None = None, *, controller=None):
         super().__init__(parent)
         self.setObjectName("panel")
         self.state = state
@@ -114,9 +114,13 @@ class MarkerTable(QWidget):
         self.table.setContextMenuPolicy(Qt.CustomContextMenu)
         self.table.customContextMenuRequested.connect(
             lambda pos: self.context_menu(self.table.rowAt(pos.y())).exec(self.table.viewport().mapToGlobal(pos)))
-        # The one place the table takes scenes by itself; drop this line once the window's
-        # controller calls set_scene.
-        self._follow_session()
+        # In the window the scene controller hands the table every Scene; on its own (a test,
+        # a small tool) the table takes one from the session on each of its events.
+        self.controller = controller
+        if controller is not None:
+            controller.attach(self)
+        else:
+            self._follow_session()
 
     # ---------------------------------------------------------------- public
     def add_from_entry(self) -> int | None:
@@ -238,8 +242,8 @@ class MarkerTable(QWidget):
         self.found.setVisible(bool(found))
 
     def _follow_session(self) -> None:
-        """Until the window's controller pushes scenes, take one from the session on each of
-        its events (the session resolves once per change and hands every view the same)."""
+        """Without a controller, take a Scene from the session on each of its events (the
+        session resolves once per change and hands every view the same)."""
         def refresh(*_args) -> None:
             self.set_scene(self.state.scene())
 
@@ -280,7 +284,7 @@ class MarkerTable(QWidget):
         if not self.find_menu.actions():
             from refplane.views.find_menu import fill_find_menu
 
-            fill_find_menu(self.find_menu, self.state, self, self._say)
+            fill_find_menu(self.find_menu, self.state, self, self._say, controller=self.controller)
 
     def _on_delta_chosen(self) -> None:
         a, b = self.delta_a.currentData(), self.delta_b.currentData()

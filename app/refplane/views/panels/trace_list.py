@@ -151,7 +151,8 @@ class TraceList(QWidget):
             window = self.window()
             if hasattr(window, "_say_found"):
                 window._say_found(text, passing)
-        fill_find_menu(find, self.state, self, say, trace_id=tid)
+        fill_find_menu(find, self.state, self, say, trace_id=tid,
+                       controller=getattr(self.window(), "scene_controller", None))
         menu.addSeparator()
         menu.addAction("Close (Ctrl+Z brings it back)", lambda: self.closeRequested.emit(tid))
         return menu
