@@ -379,12 +379,8 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
         return None
     key = widths.astype(np.uint32) << 11
     key |= dot_at.astype(np.uint32) << 5
-    letters = block.count(b"e") + block.count(b"E")
-    if letters:
-        if letters <= _FEW_LETTERS:
-            found = np.array(_find_all(block, b"e") + _find_all(block, b"E"), dtype=np.intp)
-        else:
-            found = np.flatnonzero((a | 32) == 101)
+    if b"e" in block or b"E" in block:
+        found = np.flatnonzero(((a | 32) if b"E" in block else a) == 101)
         owner = np.searchsorted(starts, found, side="right") - 1
         from_end = np.zeros(n, dtype=np.uint32)
         from_end[owner] = np.minimum(ends[owner] - found, 7)
@@ -418,38 +414,26 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
 
 def _windows(a: np.ndarray, starts: np.ndarray, width: int) -> np.ndarray:
     """The ``width`` bytes from each start as the rows of a (starts × width) array: overlapping
-    windows of ``a`` gathered in one step. Windows that would run past the end of ``a`` come
-    from a short copy of its tail padded with spaces (no padded copy of the whole block)."""
+    windows of ``a`` gathered in one step. The few windows that would run past the end of
+    ``a`` are redone from a short copy of its tail padded with spaces (no padded copy of the
+    whole block)."""
     size = a.size
-    out = np.empty((starts.size, width), dtype=np.uint8)
-    inside = starts <= size - width
-    if size >= width:
-        windows = np.ndarray(shape=(size - width + 1,), dtype=f"V{width}", buffer=a, strides=(1,))
-        if inside.all():
-            return windows[starts].view(np.uint8).reshape(-1, width)
-        out[inside] = windows[starts[inside]].view(np.uint8).reshape(-1, width)
-    cut = max(0, size - width)
-    tail = np.full(size - cut + width, 32, dtype=np.uint8)
-    tail[:size - cut] = a[cut:]
-    rest = ~inside
-    tail_windows = np.ndarray(shape=(size - cut + 1,), dtype=f"V{width}", buffer=tail, strides=(1,))
-    out[rest] = tail_windows[starts[rest] - cut].view(np.uint8).reshape(-1, width)
+    last = size - width  # the last start whose window fits
+    if last < 0:
+        padded = np.full(size + width, 32, dtype=np.uint8)
+        padded[:size] = a
+        a, last = padded, size
+    windows = np.ndarray(shape=(last + 1,), dtype=f"V{width}", buffer=a, strides=(1,))
+    out = windows[np.minimum(starts, last)].view(np.uint8).reshape(-1, width)
+    late = np.flatnonzero(starts > last)
+    if late.size:
+        cut = int(starts[late].min())
+        tail = np.full(size - cut + width, 32, dtype=np.uint8)
+        tail[:size - cut] = a[cut:size]
+        tail_windows = np.ndarray(shape=(size - cut + 1,), dtype=f"V{width}", buffer=tail,
+                                  strides=(1,))
+        out[late] = tail_windows[starts[late] - cut].view(np.uint8).reshape(-1, width)
     return out
-
-
-#: Up to this many exponent letters in a block are found with ``bytes.find`` (faster than
-#: a pass over every byte when they are rare, as in most sweeps).
-_FEW_LETTERS = 512
-
-
-def _find_all(block: bytes, letter: bytes) -> list[int]:
-    """Every position of ``letter`` in ``block``."""
-    found = []
-    at = block.find(letter)
-    while at >= 0:
-        found.append(at)
-        at = block.find(letter, at + 1)
-    return found
 
 
 def _offsets(found: np.ndarray, starts: np.ndarray, ends: np.ndarray) -> np.ndarray | None:
