@@ -102,3 +102,29 @@ def test_demo_constant_is_one_name():
         assert read_sweep(path).n_points > 10
     else:
         pytest.skip("the demo sweep is not in this checkout yet")
+
+
+def test_start_up_leaves_the_tool_panels_and_session_files_unimported():
+    # Start-up speed: the tool panels, hashing and JSON are imported when first used, not
+    # when the window opens (the window benchmark's cold start depends on it). The panels
+    # themselves still open: the tool-panel tests build each one.
+    code = (
+        "import sys\n"
+        "from PySide6.QtWidgets import QApplication\n"
+        "app = QApplication(sys.argv[:1])\n"
+        "from refplane.views.main_window import MainWindow\n"
+        "w = MainWindow()\n"
+        "names = ['refplane.views.panels.antenna_panel', 'refplane.views.panels.cable_panel',\n"
+        "         'refplane.views.panels.uncertainty_panel', 'refplane.views.panels.limits_panel',\n"
+        "         'refplane.views.time_domain', 'hashlib', 'json']\n"
+        "print(sorted(n for n in names if n in sys.modules))\n"
+        "print(sorted(w.docks))\n"
+    )
+    env = dict(os.environ, QT_QPA_PLATFORM="offscreen")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, env=env,
+                         timeout=120)
+    assert out.returncode == 0, out.stderr
+    imported, docks = out.stdout.strip().splitlines()[-2:]
+    assert imported == "[]"
+    for title in ("Antenna", "Cable", "Uncertainty", "Limits", "Time domain"):
+        assert repr(title) in docks

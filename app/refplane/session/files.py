@@ -28,8 +28,6 @@ Traces and markers refer to each other by position in these lists (ids are not k
 from __future__ import annotations
 
 import dataclasses
-import hashlib
-import json
 import math
 import os
 from dataclasses import dataclass
@@ -51,6 +49,8 @@ SUFFIX = ".refplane"
 # ----------------------------------------------------------------------------- writing
 def file_digest(path: str | os.PathLike) -> tuple[int, str]:
     """(size in bytes, SHA-256 hex digest) of a file."""
+    import hashlib  # imported when used: the window checks session names at start-up
+
     h = hashlib.sha256()
     size = 0
     with open(path, "rb") as handle:
@@ -168,6 +168,8 @@ def save_session(session, path: str | os.PathLike, *, overwrite: bool = False) -
     from refplane.analysis.files.fileio import write_text_atomic
 
     doc = session_document(session, path)
+    import json
+
     text = json.dumps(doc, indent=1, allow_nan=False, ensure_ascii=False)
     return write_text_atomic(path, text + "\n", overwrite=overwrite)
 
@@ -435,6 +437,8 @@ def read_session(path: str | os.PathLike) -> SessionDocument:
             raw = handle.read()
     except OSError as exc:
         raise AnalysisError(exc.strerror or str(exc), file=file) from None
+    import json
+
     try:
         doc = json.loads(raw.decode("utf-8-sig"), parse_constant=lambda name: _bad_constant(name, file))
     except UnicodeDecodeError:

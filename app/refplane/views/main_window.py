@@ -22,6 +22,7 @@ to the rest of the window only through it.
 from __future__ import annotations
 
 import os
+from importlib import import_module
 from typing import Callable, Sequence
 
 from PySide6.QtCore import QFileSystemWatcher, QRect, QSettings, Qt, QTimer
@@ -38,6 +39,7 @@ from refplane.views.panels.marker_table import MarkerTable
 from refplane.views.panels.trace_list import TraceList
 from refplane.views.plots import CompanionPlots
 from refplane.views.scene_controller import SceneController
+from refplane.views.panels.tool_widgets import install_lazily
 from refplane.views.smith_chart import SmithChart
 from refplane.session.model import Session
 from refplane.views.theme import THEMES, Theme
@@ -48,6 +50,17 @@ DEFAULT_SIZE = (1440, 900)
 #: Sweeps up to this many points are drawn in the plots as soon as they arrive, so the next
 #: paint shows them complete; longer ones are drawn a plot at a time to keep the window lively.
 DRAW_AT_ONCE_POINTS = 20_000
+
+#: The tool panels: dock title, the module whose ``build(window)`` makes the panel, and where
+#: the dock goes (beside the reference-plane panel unless said otherwise).
+TOOL_DOCKS = (
+    ("Antenna", "refplane.views.panels.antenna_panel", {}),
+    ("Cable", "refplane.views.panels.cable_panel", {}),
+    ("Uncertainty", "refplane.views.panels.uncertainty_panel", {}),
+    ("Limits", "refplane.views.panels.limits_panel", {}),
+    ("Time domain", "refplane.views.time_domain",
+     {"beside": "Markers", "area": Qt.BottomDockWidgetArea}),
+)
 
 
 def _settings() -> QSettings:
@@ -195,15 +208,9 @@ class MainWindow(QMainWindow):
         fit.visibilityChanged.connect(self._build_fit_panel)
         self.tabifyDockWidget(plane, fit)
         plane.raise_()
-        from refplane.views.panels import antenna_panel, cable_panel
-        antenna_panel.install(self)
-        cable_panel.install(self)
-        from refplane.views.panels import uncertainty_panel
-        uncertainty_panel.install(self)
-        from refplane.views.panels import limits_panel
-        limits_panel.install(self)
-        from refplane.views import time_domain
-        time_domain.install(self)
+        # The tool panels' modules are imported when a panel is first shown, not at start-up.
+        for title, module, where in TOOL_DOCKS:
+            install_lazily(self, title, lambda m=module: import_module(m).build(self), **where)
         self.add_tool_action("Calibrate from standards…", self._open_calibration, shortcut="Ctrl+K")
 
     def _build_fit_panel(self, visible: bool) -> None:

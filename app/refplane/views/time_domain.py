@@ -488,13 +488,16 @@ class TimeDomainView(QWidget):
         self.note_item.setPos(x1, y1)
 
 
+def build(window) -> "TimeDomainView":
+    """The time-domain view for ``window``; the first time, its dock is given more height."""
+    view = TimeDomainView(window.state, workers=window.workers)
+    # The plot wants more height than the marker table's strip; give it some when first shown.
+    dock = window.docks["Time domain"]
+    QTimer.singleShot(0, lambda: window.resizeDocks([dock], [300], Qt.Vertical))
+    return view
+
+
 def install(window):
     """Add the time-domain view as a dock beside the marker table, built when first shown."""
-    def build():
-        view = TimeDomainView(window.state, workers=window.workers)
-        # The plot wants more height than the marker table's strip; give it some when first shown.
-        dock = window.docks["Time domain"]
-        QTimer.singleShot(0, lambda: window.resizeDocks([dock], [300], Qt.Vertical))
-        return view
-
-    return tw.install_lazily(window, "Time domain", build, beside="Markers", area=Qt.BottomDockWidgetArea)
+    return tw.install_lazily(window, "Time domain", lambda: build(window), beside="Markers",
+                             area=Qt.BottomDockWidgetArea)

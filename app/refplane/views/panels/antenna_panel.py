@@ -514,17 +514,18 @@ def path_item(theme=None):
     return item
 
 
+def build(window) -> "AntennaPanel":
+    """The antenna panel for ``window``, with its matching path drawn on the chart."""
+    panel = AntennaPanel(window.state, workers=window.workers)
+    path = getattr(window, "_antenna_path", None)
+    if path is None:
+        path = window._antenna_path = path_item()
+        window.chart.plot.addItem(path)
+    panel.pathChanged.connect(path.show_path)
+    path.show_path(panel.path_gamma)
+    return panel
+
+
 def install(window) -> object:
     """Add the antenna panel to the window's side column (built when first shown) and its path to the chart."""
-    item = {}
-
-    def build():
-        panel = AntennaPanel(window.state, workers=window.workers)
-        if "path" not in item:
-            item["path"] = path_item()
-            window.chart.plot.addItem(item["path"])
-        panel.pathChanged.connect(item["path"].show_path)
-        item["path"].show_path(panel.path_gamma)
-        return panel
-
-    return tw.install_lazily(window, "Antenna", build)
+    return tw.install_lazily(window, "Antenna", lambda: build(window))

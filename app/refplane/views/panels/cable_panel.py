@@ -306,6 +306,11 @@ class CablePanel(QWidget):
         self.vf_button.setEnabled(self.result is not None and self.result.velocity_factor is not None)
 
 
+def build(window) -> "CablePanel":
+    """The cable panel for ``window``."""
+    return CablePanel(window.state, workers=window.workers)
+
+
 def install(window):
     """Add the cable panel to the window's side column, built when first shown."""
-    return tw.install_lazily(window, "Cable", lambda: CablePanel(window.state, workers=window.workers))
+    return tw.install_lazily(window, "Cable", lambda: build(window))

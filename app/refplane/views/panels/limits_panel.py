@@ -144,6 +144,11 @@ class LimitsPanel(QWidget):
         self.remove_button.setEnabled(0 <= self.list.currentRow() < self.list.count())
 
 
+def build(window) -> "LimitsPanel":
+    """The limits panel for ``window``, fed by the window's scene controller."""
+    return LimitsPanel(window.state, controller=getattr(window, "scene_controller", None))
+
+
 def install(window):
     """Add the limits panel to the window's side column, built when first shown."""
-    return tw.install_lazily(window, "Limits", lambda: LimitsPanel(window.state, controller=getattr(window, "scene_controller", None)))
+    return tw.install_lazily(window, "Limits", lambda: build(window))

@@ -323,6 +323,11 @@ class UncertaintyPanel(QWidget):
         self.previewShown.emit()
 
 
+def build(window) -> "UncertaintyPanel":
+    """The uncertainty panel for ``window``."""
+    return UncertaintyPanel(window.state, workers=window.workers)
+
+
 def install(window):
     """Add the uncertainty panel to the window's side column, built when first shown."""
-    return tw.install_lazily(window, "Uncertainty", lambda: UncertaintyPanel(window.state, workers=window.workers))
+    return tw.install_lazily(window, "Uncertainty", lambda: build(window))
