@@ -370,10 +370,25 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
         after = np.searchsorted(starts, np.flatnonzero(a == 10))
         first[long_gap] = False
         first[after[after < n]] = True
-    # Shape key: width, leading sign, the offset of the point and where the exponent
-    # letter sits counted from the number's end (a short range: keeps the key below 2**17,
-    # so the count of keys present is cheap). The key only groups numbers; each group's
-    # layout is then checked byte by byte, so a coarse key costs speed, never correctness.
+    # A leading sign is set aside and applied at the end: "-0.25" and "0.25" then share a
+    # shape, which halves the groups to convert. A sign must be followed by a digit or a
+    # point, never by a second sign.
+    lead = a[starts]
+    negative = lead == 45
+    signed = negative | (lead == 43)
+    if signed.any():
+        starts = starts + signed
+        widths = ends - starts
+        if int(widths.min()) < 1:
+            return None
+        after = a[starts[signed]]
+        if np.any((after == 45) | (after == 43)):
+            return None
+        longest = int(widths.max())
+    # Shape key: width, the offset of the point and where the exponent letter sits counted
+    # from the number's end (a short range: keeps the key below 2**17, so the count of keys
+    # present is cheap). The key only groups numbers; each group's layout is then checked
+    # byte by byte, so a coarse key costs speed, never correctness.
     dot_at = _offsets(np.flatnonzero(a == 46), starts, ends)
     if dot_at is None:
         return None
@@ -385,9 +400,6 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
         from_end = np.zeros(n, dtype=np.uint32)
         from_end[owner] = np.minimum(ends[owner] - found, 7)
         key |= from_end
-    lead = a[starts]
-    key |= (lead == 45).astype(np.uint32) << 3
-    key |= (lead == 43).astype(np.uint32) << 4
     # Number the shapes present 0, 1, 2 … so that a 16-bit radix sort groups them.
     present = np.flatnonzero(np.bincount(key))
     if present.size > 65535:
@@ -409,6 +421,8 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
             if part is None:
                 return None
         values[order[lo:hi]] = part.reshape(-1)
+    if negative.any():
+        np.negative(values, out=values, where=negative)
     return values, first
 
 
