@@ -214,10 +214,12 @@ class MainWindow(QMainWindow):
         self.add_tool_action("Calibrate from standards…", self._open_calibration, shortcut="Ctrl+K")
 
     def _build_fit_panel(self, visible: bool) -> None:
+        if not visible:
+            return  # a tab hidden at start-up: nothing to build (nor to import) yet
         from refplane.views.panels.fit_panel import FitPanel
 
         dock = self.docks["Fit"]
-        if visible and not isinstance(self.panel("Fit"), FitPanel):
+        if not isinstance(self.panel("Fit"), FitPanel):
             area = dock.widget()
             placeholder = area.takeWidget()
             area.setWidget(FitPanel(self.state, workers=self.workers))

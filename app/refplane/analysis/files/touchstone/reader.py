@@ -8,7 +8,6 @@ from pathlib import Path
 
 from refplane.analysis.errors import AnalysisError, SweepFileError
 from refplane.analysis.sweep import Sweep
-from refplane.analysis.files.touchstone.careful import careful
 from refplane.analysis.files.touchstone.fast import fast
 from refplane.analysis.files.touchstone.header import TouchstoneWarning, ports_in_name, warn_port_impedance
 from refplane.analysis.files.touchstone.source import Source
@@ -61,6 +60,9 @@ def read(path: str | os.PathLike) -> Sweep:
     with Source(name) as src:
         result = fast(src, name, ext_ports)
     if result is None:
+        # Imported when needed: most files never take the careful pass.
+        from refplane.analysis.files.touchstone.careful import careful
+
         result = careful(name, ext_ports)
     head, freq_hz, s = result
     if head.missing_end:
