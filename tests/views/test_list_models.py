@@ -422,3 +422,56 @@ def _option(view):
     option.initFrom(view)
     option.widget = view
     return option
+
+
+class _NoReads:
+    """A session stand-in that fails on any read: a view fed by Scenes must never need one."""
+
+    EDITS = ("set_", "remove_trace", "store_memory")
+
+    def __getattr__(self, name):
+        if name.startswith(self.EDITS):
+            return lambda *args, **kwargs: None  # edits may be wired up; they are not reads
+        raise AssertionError(f"the trace list read the session ({name}) to draw")
+
+
+def test_the_trace_list_draws_from_scenes_alone(qtbot):
+    # Two sessions' Scenes shown in turn through set_scene, with a session that cannot be read:
+    # rows, names, ports and the offsets column come from the Scene only.
+    from refplane.analysis.lines.deembed import LineOffset
+
+    one, two = Session(), Session()
+    one.add_sweep(resistor_with_leads(), name="r75")
+    b = two.add_sweep(series_rc(), name="rc")
+    two.add_sweep(two_port_attenuator(), name="pad", port=2)
+    two.set_offsets(b, [LineOffset(delay_s=50e-12)])
+
+    class _Controller:  # attaches nothing: the test pushes the Scenes itself
+        def attach(self, view):
+            return view
+
+    view = TraceList(_NoReads(), controller=_Controller())
+    qtbot.addWidget(view)
+    fatal = QAbstractItemModelTester.FailureReportingMode.Fatal
+    tester = QAbstractItemModelTester(view.rows, fatal)  # held: a collected tester checks nothing
+    view.set_scene(one.scene())
+    assert _names(view.rows) == ["r75"]
+    view.set_scene(two.scene())
+    assert _names(view.rows) == ["rc", "pad"]
+    rows = view.rows
+    assert rows.data(rows.index(0, rows.COL_OFFSETS)) == "offsets"
+    assert rows.data(rows.index(1, rows.COL_OFFSETS)) == ""
+    # The pad is drawn at port 2: its reflection is S22 (Touchstone's naming, common practice).
+    assert rows.data(rows.index(1, rows.COL_PORT)) == "S22"
+    assert tester.model() is rows
+
+
+def test_a_marker_drag_announces_no_trace_row(traces):
+    state, view, _tester = traces
+    t = state.add_sweep(resistor_with_leads(), name="r")
+    m = state.add_marker(t, 100e6)
+    seen = []
+    view.rows.dataChanged.connect(lambda *args: seen.append(args))
+    for f in (110e6, 120e6, 130e6):
+        state.move_marker(m, f, finished=False)
+    assert seen == []

@@ -132,7 +132,7 @@ class MainWindow(QMainWindow):
         self.splitter.setChildrenCollapsible(False)
         self.setCentralWidget(self.splitter)
 
-        self.trace_list = TraceList(self.state)
+        self.trace_list = TraceList(self.state, controller=self.scene_controller)
         self.marker_table = MarkerTable(self.state, controller=self.scene_controller)
         for view in (self.trace_list, self.marker_table):
             self.attach_view(view)

@@ -83,7 +83,7 @@ class TraceList(QWidget):
         TraceRows.COL_NAME, TraceRows.COL_OFFSETS, TraceRows.COL_PORT, TraceRows.COL_COLOUR,
         TraceRows.COL_CLOSE)
 
-    def __init__(self, state: Session, parent: QWidget | None = None):
+    def __init__(self, state: Session, parent: QWidget | None = None, *, controller=None):
         super().__init__(parent)
         self.setObjectName("panel")
         self.state = state
@@ -113,13 +113,42 @@ class TraceList(QWidget):
         self.table.clicked.connect(self._on_clicked)
         self.table.selectionModel().currentRowChanged.connect(self._on_current_row)
         # A reset forgets the selection: show the current trace again.
-        self.rows.modelReset.connect(lambda: self._select_current(self.state.current_trace))
-        self.rows.rowsInserted.connect(lambda *_: self._select_current(self.state.current_trace))
+        self.rows.modelReset.connect(lambda: self._select_current(self._current))
+        self.rows.rowsInserted.connect(lambda *_: self._select_current(self._current))
         # Queued: a click on ✕ must not remove its own row while the click is being handled.
         self.closeRequested.connect(state.remove_trace, Qt.QueuedConnection)
-        bind(self, state.currentTraceChanged, self._select_current)
         self._updating = False
-        self._select_current(state.current_trace)
+        self._current = -1
+        self._scene = None
+        # In the window the scene controller hands the list every Scene; on its own (a test,
+        # a small tool) the list takes one from the session on each of its events.
+        self.controller = controller
+        if controller is not None:
+            controller.attach(self)
+        else:
+            self._follow_session()
+
+    def set_scene(self, scene) -> None:
+        """Show a resolved Scene's traces and select its current trace."""
+        if scene is self._scene:
+            return
+        self._scene = scene
+        self.rows.set_scene(scene)
+        if scene.current_trace != self._current:
+            self._current = scene.current_trace
+            self._select_current(self._current)
+
+    def _follow_session(self) -> None:
+        """Without a controller, take a Scene from the session on each event that changes
+        what the list shows."""
+        def refresh(*_args) -> None:
+            self.set_scene(self.state.scene())
+
+        state = self.state
+        for signal in (state.tracesChanged, state.traceChanged, state.offsetsChanged,
+                       state.currentTraceChanged, state.displayChanged):
+            bind(self, signal, refresh)
+        refresh()
 
     def row_of(self, trace_id: int) -> int:
         """The row showing a trace."""
@@ -137,7 +166,7 @@ class TraceList(QWidget):
             menu.addAction("No trace here: File ▸ Open sweeps… opens one").setEnabled(False)
             return menu
         tid = self.rows.trace_id(row)
-        t = self.state.trace(tid)
+        t = self.rows.trace_view(row)
         menu.addAction("Make current", lambda: self.state.set_current_trace(tid))
         menu.addAction("Hide" if t.visible else "Show", lambda: self.state.set_visible(tid, not t.visible))
         menu.addAction("Rename…", lambda: self._rename(tid))
@@ -166,7 +195,7 @@ class TraceList(QWidget):
             self.table.edit(self.rows.index(self.rows.row_of(trace_id), self.COL_NAME))
 
     def _recolour(self, trace_id: int) -> None:
-        colour = self.ask_colour(self.state.trace(trace_id).colour)
+        colour = self.ask_colour(self.rows.trace_view(self.rows.row_of(trace_id)).colour)
         if colour:
             self.state.set_colour(trace_id, colour)
 
@@ -190,7 +219,7 @@ class TraceList(QWidget):
         if self._updating or self.rows.changing or not current.isValid():
             return
         tid = self.rows.trace_id(current.row())
-        if tid != self.state.current_trace:
+        if tid != self._current:
             self.state.set_current_trace(tid)
 
     def _select_current(self, trace_id: int) -> None:

@@ -1,8 +1,9 @@
 """The open traces as a Qt table model: one row per trace, keyed by the trace's id.
 
-The rows follow the session: a trace opened or closed inserts or removes its one row, an edit
-(name, colour, visibility, port, offsets) changes only that row. Edits made in the list go
-back through the session's methods; the model keeps no state of its own beyond the row order.
+The rows are fed by the resolved Scene (:meth:`TraceRows.set_scene`): a trace opened or closed
+inserts or removes its one row, an edit (name, colour, visibility, port, offsets) changes only
+that row. The model never reads the session to show anything; edits made in the list go back
+through the session's methods and return as the next Scene.
 """
 
 from __future__ import annotations
@@ -12,7 +13,6 @@ from PySide6.QtGui import QColor, QIcon, QPixmap
 
 from refplane.analysis.errors import AnalysisError
 from refplane.session.model import Session
-from refplane.views.binding import bind
 
 #: The role that gives a row's trace id, in every column.
 TRACE_ID_ROLE = int(Qt.UserRole)
@@ -54,13 +54,12 @@ class TraceRows(QAbstractTableModel):
 
     def __init__(self, state: Session, parent: QObject | None = None):
         super().__init__(parent)
-        self.state = state
-        self._ids: list[int] = list(state.trace_ids())
+        self.state = state  # only written to, through its methods, for edits made in the list
+        self._ids: list[int] = []
+        self._views: dict[int, object] = {}  # trace id -> the Scene's TraceView shown
+        self._traces: tuple = ()
         #: True while rows are being inserted, removed or reset (views ignore selection news then).
         self.changing = False
-        bind(self, state.tracesChanged, self._on_traces_changed)
-        bind(self, state.traceChanged, self._on_trace_changed)
-        bind(self, state.offsetsChanged, self._on_trace_changed)
 
     # ------------------------------------------------------------ lookups
     def trace_id(self, row: int) -> int:
@@ -103,7 +102,7 @@ class TraceRows(QAbstractTableModel):
             flags |= Qt.ItemIsEditable | Qt.ItemIsUserCheckable
         elif col == self.COL_PORT:
             t = self._trace(index.row())
-            if t is not None and t.raw.n_ports > 1:
+            if t is not None and t.n_ports > 1:
                 flags |= Qt.ItemIsEditable
         return flags
 
@@ -116,7 +115,7 @@ class TraceRows(QAbstractTableModel):
         if role == TRACE_ID_ROLE:
             return t.id
         if role == N_PORTS_ROLE:
-            return t.raw.n_ports
+            return t.n_ports
         col = index.column()
         if col == self.COL_NAME:
             if role in (_DISPLAY, _EDIT):
@@ -127,8 +126,8 @@ class TraceRows(QAbstractTableModel):
                 return t.source or t.name
         elif col == self.COL_OFFSETS:
             if role == _DISPLAY:
-                return "offsets" if t.corrected else ""
-            if role == _TOOLTIP and t.corrected:
+                return "offsets" if t.raw_gamma is not None else ""
+            if role == _TOOLTIP and t.raw_gamma is not None:
                 return ("Reference-plane offsets are removed from this trace; its measurement "
                         "as read is drawn faded (Reference plane panel)")
         elif col == self.COL_PORT:
@@ -136,7 +135,7 @@ class TraceRows(QAbstractTableModel):
                 return port_text(t.port)
             if role == _EDIT:
                 return t.port
-            if role == _TOOLTIP and t.raw.n_ports > 1:
+            if role == _TOOLTIP and t.n_ports > 1:
                 return "Click to choose the port whose reflection is drawn"
         elif col == self.COL_COLOUR:
             if role == _DECORATION:
@@ -183,22 +182,33 @@ class TraceRows(QAbstractTableModel):
             return False
         return True
 
-    # ------------------------------------------------------- session news
+    # ------------------------------------------------------------ the Scene
+    def set_scene(self, scene) -> None:
+        """Show the traces of a resolved Scene: rows come and go with traces, and only rows
+        whose trace changed what the list shows are announced (a marker drag changes none)."""
+        if scene.traces is self._traces:
+            return
+        self._traces = scene.traces
+        views = {t.id: t for t in scene.traces}
+        self._set_ids([t.id for t in scene.traces], views)
+        for row, tid in enumerate(self._ids):
+            old, new = self._views.get(tid), views[tid]
+            self._views[tid] = new
+            if old is not None and old is not new and _shown(old) != _shown(new):
+                self.dataChanged.emit(self.index(row, 0), self.index(row, self.columnCount() - 1))
+        for gone in set(self._views) - set(views):
+            del self._views[gone]
+
+    def trace_view(self, row: int):
+        """The Scene's view of a row's trace (None outside the rows)."""
+        return self._trace(row)
+
     def _trace(self, row: int):
         if not 0 <= row < len(self._ids):
             return None
-        try:
-            return self.state.trace(self._ids[row])
-        except KeyError:
-            return None
+        return self._views.get(self._ids[row])
 
-    def _on_trace_changed(self, trace_id: int) -> None:
-        if trace_id in self._ids:
-            row = self._ids.index(trace_id)
-            self.dataChanged.emit(self.index(row, 0), self.index(row, self.columnCount() - 1))
-
-    def _on_traces_changed(self) -> None:
-        new = list(self.state.trace_ids())
+    def _set_ids(self, new: list[int], views: dict) -> None:
         old = list(self._ids)
         if new == old:
             return
@@ -208,6 +218,7 @@ class TraceRows(QAbstractTableModel):
             self.changing = True
             self.beginResetModel()
             self._ids = new
+            self._views.update(views)
             self.endResetModel()
             self.changing = False
             return
@@ -220,11 +231,17 @@ class TraceRows(QAbstractTableModel):
                     self.beginRemoveRows(QModelIndex(), row, row)
                     del self._ids[row]
                     self.endRemoveRows()
-            # Rows that came, each at its place in the session's order.
+            # Rows that came, each at its place in the Scene's order.
             for row, tid in enumerate(new):
                 if row >= len(self._ids) or self._ids[row] != tid:
                     self.beginInsertRows(QModelIndex(), row, row)
                     self._ids.insert(row, tid)
+                    self._views[tid] = views[tid]
                     self.endInsertRows()
         finally:
             self.changing = False
+
+
+def _shown(t) -> tuple:
+    """What the list shows of a trace: a change elsewhere (Γ arrays, overlays) is no news here."""
+    return (t.name, t.colour, t.visible, t.port, t.n_ports, t.raw_gamma is not None, t.source)
