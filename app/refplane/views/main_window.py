@@ -523,10 +523,12 @@ class MainWindow(QMainWindow):
             self._watch_files()
             return
         # Traces keep the order in which the files were named, whatever order the reads end in.
-        tid = self.state.add_sweep(sweep, order=request.order)
-        for f in self._pending_markers.pop(request.path, ()):
-            if sweep.freq_hz[0] <= f <= sweep.freq_hz[-1]:
-                self.state.add_marker(tid, f)
+        # The trace and its markers reach the views as one Scene, not one per step.
+        with self.scene_controller.held():
+            tid = self.state.add_sweep(sweep, order=request.order)
+            for f in self._pending_markers.pop(request.path, ()):
+                if sweep.freq_hz[0] <= f <= sweep.freq_hz[-1]:
+                    self.state.add_marker(tid, f)
         if sweep.n_points <= DRAW_AT_ONCE_POINTS:
             self.plots.flush()
         self._remember(request.path)
