@@ -60,13 +60,19 @@ def _names(rows: TraceRows) -> list[str]:
 
 
 # ------------------------------------------------------------------ the trace rows
-@pytest.fixture
-def traces(qtbot):
+def _watched(qtbot, widget_class):
+    """A session, a list widget on it, and Qt's model checker watching its rows (returned so
+    the test holds it: a checker that Python collects checks nothing)."""
     state = Session()
-    widget = TraceList(state)
+    widget = widget_class(state)
     qtbot.addWidget(widget)
     tester = QAbstractItemModelTester(widget.rows, QAbstractItemModelTester.FailureReportingMode.Fatal)
     return state, widget, tester
+
+
+@pytest.fixture
+def traces(qtbot):
+    return _watched(qtbot, TraceList)
 
 
 def test_trace_rows_follow_the_session_one_row_at_a_time(traces):
@@ -205,11 +211,7 @@ def test_close_and_colour_cells_act_as_buttons(traces, qtbot):
 # ------------------------------------------------------------------ the marker rows
 @pytest.fixture
 def markers(qtbot):
-    state = Session()
-    widget = MarkerTable(state)
-    qtbot.addWidget(widget)
-    tester = QAbstractItemModelTester(widget.rows, QAbstractItemModelTester.FailureReportingMode.Fatal)
-    return state, widget, tester
+    return _watched(qtbot, MarkerTable)
 
 
 def test_cells_against_the_textbook_identities(markers):

@@ -712,10 +712,7 @@ class SmithChart(QWidget):
                 raw.setZValue(8)
                 self._add_trace_item(raw)
             raw.set_style(t.colour, width=1.4, alpha=self.theme.faded_alpha)
-            if getattr(raw, "_gamma", None) is not t.raw_gamma:
-                raw.set_data(t.raw_gamma.real, t.raw_gamma.imag)
-                raw._gamma = t.raw_gamma
-            raw.setVisible(t.visible)
+            _show_gamma(raw, t.raw_gamma, t.visible)
         elif raw is not None:
             self.plot.removeItem(self._raw.pop(t.id))
         names = {ov.name for ov in t.overlays}
@@ -729,10 +726,7 @@ class SmithChart(QWidget):
                 item.setZValue(11)  # over its trace, which it may hide exactly
                 self._add_trace_item(item)
             item.set_style(t.colour, width=1.8, outline=self.theme.model_outline)
-            if getattr(item, "_gamma", None) is not ov.gamma:
-                item.set_data(ov.gamma.real, ov.gamma.imag)
-                item._gamma = ov.gamma
-            item.setVisible(t.visible)
+            _show_gamma(item, ov.gamma, t.visible)
 
     def _draw_memory(self, memory) -> None:
         """Draw the stored trace (trace memory) as a thin dashed curve in the theme's muted colour."""
@@ -906,3 +900,12 @@ class SmithChart(QWidget):
 
 #: The chart view before anything was shown (no zoom is equal to it).
 _NOT_SHOWN = object()
+
+
+def _show_gamma(item, gamma, visible: bool) -> None:
+    """Give a curve item new Γ data only when the Scene's array is a new one (identity: the
+    resolve hands back unchanged arrays as the same objects), and show or hide it."""
+    if getattr(item, "_gamma", None) is not gamma:
+        item.set_data(gamma.real, gamma.imag)
+        item._gamma = gamma
+    item.setVisible(visible)
