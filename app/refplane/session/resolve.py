@@ -202,12 +202,12 @@ def _plot_view(traces, key: str, previous: PlotView | None, cache: dict, session
 
 def _plot_bands(traces, key: str, curves, session) -> tuple:
     """Uncertainty bands of the plot's curves (empty unless the ± is on), reused while unchanged."""
+    settings = _u_settings(session, session.display.chart_z0_ohm)
+    if settings is None:
+        return ()  # the ± is off: the bands' module is not even imported
     from refplane.session import plot_bands
 
     if key not in plot_bands.BAND_KEYS:
-        return ()
-    settings = _u_settings(session, session.display.chart_z0_ohm)
-    if settings is None:
         return ()
     cache = getattr(session, "_band_cache", None)
     if cache is None:
