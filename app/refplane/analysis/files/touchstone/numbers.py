@@ -327,6 +327,24 @@ def _fixed_rows(rows: np.ndarray, template: bytes) -> np.ndarray | None:
 
 #: A number longer than this is no measurement; it is left to the careful pass.
 _LONGEST = 40
+#: Digits (point and sign set aside) the aligned conversion takes: three 8-byte words.
+_ALIGNED_DIGITS = 24
+
+
+def _word_masks() -> np.ndarray:
+    """Row k: the last k bytes of 32 (four little-endian 8-byte words) set, as one 32-byte
+    item (so that a row is gathered as one item, not word by word). Rows beyond 24 are all
+    set but the first word (those numbers are sent to the grouped path anyway)."""
+    keep = np.zeros((41, 32), dtype=np.uint8)
+    for k in range(41):
+        keep[k, 32 - min(k, 24):] = 0xFF
+    return keep.view("V32").reshape(-1)
+
+
+_KEEP = _word_masks()
+#: Numbers converted together by :func:`_aligned`.
+_AT_ONCE = 16384
+_ZERO_DIGITS = np.uint64(0x3030303030303030)
 
 
 def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
@@ -335,6 +353,10 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
     ``block`` holds whole lines (comments already removed). Returns ``(values,
     first_on_line)``, or None when something in it is not a plain decimal number (a word,
     a control character, ``nan``, a huge token…); the caller then takes the careful path.
+
+    Numbers without an exponent and with at most 24 digits (nearly all of them in a
+    measurement file) are converted all at once by :func:`_aligned`; the rest are sorted by
+    shape and converted group by group (:func:`_grouped`).
     """
     a = np.frombuffer(block, dtype=np.uint8)
     ink = a > 32
@@ -371,8 +393,7 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
         first[long_gap] = False
         first[after[after < n]] = True
     # A leading sign is set aside and applied at the end: "-0.25" and "0.25" then share a
-    # shape, which halves the groups to convert. A sign must be followed by a digit or a
-    # point, never by a second sign.
+    # shape. A sign must be followed by a digit or a point, never by a second sign.
     lead = a[starts]
     negative = lead == 45
     signed = negative | (lead == 43)
@@ -384,22 +405,145 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
         after = a[starts[signed]]
         if np.any((after == 45) | (after == 43)):
             return None
-        longest = int(widths.max())
+    # 1-based offset of the point in each number (0: none); two points in one number, or a
+    # point outside the numbers, is no plain number.
+    dot_at = _offsets(np.flatnonzero(a == 46), starts, ends)
+    if dot_at is None:
+        return None
+    values, rest = _aligned(a, ends, widths, dot_at)
+    if rest.size:
+        part = _grouped(a, starts[rest], widths[rest], dot_at[rest],
+                        b"e" in block or b"E" in block)
+        if part is None:
+            return None
+        values[rest] = part
+    if negative.any():
+        np.negative(values, out=values, where=negative)
+    return values, first
+
+
+def _aligned(a: np.ndarray, ends: np.ndarray, widths: np.ndarray,
+             dot_at: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Values of the unsigned numbers ending at ``ends`` (``widths`` bytes long, the point
+    at 1-based ``dot_at`` or none), all at once; and the indices of those left to the
+    grouped path (an exponent, more than 24 digits, a mantissa of 2**64 or more, anything
+    that is no digit, or a rounding case that needs ``float``).
+
+    The 32 bytes ending at each number are gathered as four little-endian words. Its digits
+    are then right-aligned in three words with the point squeezed out: the bytes after the
+    point are taken as they are, those before it from the same window one byte to the left
+    (a shift by 8 bits across words), bytes before the number are set to '0'. Each word's
+    eight digits become one integer with three multiply-shift steps (the usual "eight
+    digits at once" method: pairs, then fours, then eights), so an 18-digit number costs a
+    few integer operations rather than one per digit. The integer mantissa M (< 10**19,
+    exact in uint64 and in the 64-bit significand of x86 extended precision) divided by
+    10**f, f the digits after the point, is rounded once in extended precision and again
+    to float64; as in :func:`fixed_width`, only results whose 64-bit value lies exactly
+    half-way between two doubles can differ from a correctly rounded conversion, and those
+    are redone with ``float``.
+    """
+    n = ends.size
+    p10 = _pow10_extended()
+    if p10 is None:
+        return np.empty(n), np.arange(n)
+    if n > _AT_ONCE:
+        # A few ten thousand numbers at a time: the words and masks stay in the processor's
+        # cache and their memory is reused from one part to the next.
+        values = np.empty(n)
+        left = []
+        for lo in range(0, n, _AT_ONCE):
+            hi = min(n, lo + _AT_ONCE)
+            values[lo:hi], part = _aligned(a, ends[lo:hi], widths[lo:hi], dot_at[lo:hi])
+            left.append(part + lo)
+        return values, np.concatenate(left)
+    has_dot = dot_at > 0
+    after = widths - dot_at  # digits after the point (where there is one)
+    digits = widths - has_dot
+    # Bytes at the end taken unshifted: those after the point, or all without a point.
+    unshifted = np.where(has_dot, after, 24)
+    np.minimum(digits, 40, out=digits)
+    # Every operation below runs over one flat, contiguous array of words: numpy's loops
+    # over a short inner axis (the four words of a number) would be many times slower.
+    words = _windows(a, ends - 32, 32).view("<u8")
+    flat = words.reshape(-1)
+    shifted = flat << np.uint64(8)
+    shifted[1:] |= flat[:-1] >> np.uint64(56)
+    # Bytes of the number after the point from `words`, before it from `shifted`; the
+    # first word of each row is not used (cleared by the masks).
+    flat ^= shifted
+    flat &= _KEEP[unshifted].view("<u8")
+    flat ^= shifted
+    del shifted
+    keep = _KEEP[digits].view("<u8")
+    flat &= keep
+    np.invert(keep, out=keep)
+    keep &= _ZERO_DIGITS
+    flat |= keep  # bytes before the number become '0'
+    del keep
+    # Every byte must now be an ASCII digit: below '0' the subtraction, above '9' the
+    # addition sets the byte's top bit (a borrow or carry from a neighbour only ever makes
+    # a bad word look bad).
+    bad = flat - _ZERO_DIGITS
+    bad |= flat + np.uint64(0x4646464646464646)
+    bad &= np.uint64(0x8080808080808080)
+    # Eight digits per word, most significant in the lowest byte: pairs, fours, eights.
+    flat &= np.uint64(0x0F0F0F0F0F0F0F0F)
+    flat *= np.uint64(2561)
+    flat >>= np.uint64(8)
+    flat &= np.uint64(0x00FF00FF00FF00FF)
+    flat *= np.uint64(6553601)
+    flat >>= np.uint64(16)
+    flat &= np.uint64(0x0000FFFF0000FFFF)
+    flat *= np.uint64(42949672960001)
+    flat >>= np.uint64(32)
+    head = words[:, 1]
+    m = head * np.uint64(10 ** 16)
+    m += words[:, 2] * np.uint64(10 ** 8)
+    m += words[:, 3]
+    # Left out: no digits, more than 24, a mantissa of 10**19 or more (it may not fit in 64
+    # bits), any byte that is no digit (an exponent letter, a sign inside).
+    left = digits > _ALIGNED_DIGITS
+    left |= digits == 0
+    left |= head >= np.uint64(1000)
+    del words, flat, head
+    if bad.any():
+        bad = bad.reshape(n, 4)
+        left |= (bad[:, 1] | bad[:, 2] | bad[:, 3]) != 0
+    del bad
+    value = m.astype(np.longdouble)
+    del m
+    np.minimum(after, 27, out=after)
+    after[~has_dot] = 0
+    value /= p10[after]
+    low = value.view(np.uint64)[::2]
+    # Rounding first to 64 bits and then to 53 can err only when the 64-bit result sits
+    # exactly half-way between two doubles; those (about 1 in 2048) are redone exactly.
+    left |= (low & np.uint64(0x7FF)) == np.uint64(0x400)
+    del low
+    values = value.astype(np.float64)
+    return values, np.flatnonzero(left)
+
+
+def _grouped(a: np.ndarray, starts: np.ndarray, widths: np.ndarray, dot_at: np.ndarray,
+             letters: bool) -> np.ndarray | None:
+    """Values of the unsigned numbers at ``starts``, sorted by shape and converted one shape
+    at a time by :func:`_fixed_rows` (any row that is not a plain number: None)."""
+    n = starts.size
+    longest = int(widths.max())
+    tokens = _windows(a, starts, longest)
     # Shape key: width, the offset of the point and where the exponent letter sits counted
     # from the number's end (a short range: keeps the key below 2**17, so the count of keys
     # present is cheap). The key only groups numbers; each group's layout is then checked
     # byte by byte, so a coarse key costs speed, never correctness.
-    dot_at = _offsets(np.flatnonzero(a == 46), starts, ends)
-    if dot_at is None:
-        return None
     key = widths.astype(np.uint32) << 11
     key |= dot_at.astype(np.uint32) << 5
-    if b"e" in block or b"E" in block:
-        found = np.flatnonzero(((a | 32) if b"E" in block else a) == 101)
-        owner = np.searchsorted(starts, found, side="right") - 1
-        from_end = np.zeros(n, dtype=np.uint32)
-        from_end[owner] = np.minimum(ends[owner] - found, 7)
-        key |= from_end
+    if letters:
+        inside = np.arange(longest) < widths[:, None]
+        is_e = ((tokens | 32) == 101) & inside
+        # Count from the end of the last letter in the number (0: none).
+        last = longest - 1 - np.argmax(is_e[:, ::-1], axis=1)
+        from_end = np.where(is_e.any(axis=1), np.minimum(widths - last, 7), 0)
+        key |= from_end.astype(np.uint32)
     # Number the shapes present 0, 1, 2 … so that a 16-bit radix sort groups them.
     present = np.flatnonzero(np.bincount(key))
     if present.size > 65535:
@@ -410,7 +554,7 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
     order = np.argsort(key, kind="stable")
     key = key[order]
     bounds = np.concatenate(([0], np.flatnonzero(np.diff(key)) + 1, [n])).tolist()
-    tokens = _windows(a, starts[order], longest)
+    tokens = tokens[order]
     values = np.empty(n, dtype=np.float64)
     for lo, hi in zip(bounds[:-1], bounds[1:]):
         width = int(widths[order[lo]])
@@ -421,16 +565,14 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
             if part is None:
                 return None
         values[order[lo:hi]] = part.reshape(-1)
-    if negative.any():
-        np.negative(values, out=values, where=negative)
-    return values, first
+    return values
 
 
 def _windows(a: np.ndarray, starts: np.ndarray, width: int) -> np.ndarray:
     """The ``width`` bytes from each start as the rows of a (starts × width) array: overlapping
-    windows of ``a`` gathered in one step. The few windows that would run past the end of
-    ``a`` are redone from a short copy of its tail padded with spaces (no padded copy of the
-    whole block)."""
+    windows of ``a`` gathered in one step. The few windows that would run past either end of
+    ``a`` are redone from a short copy of its head or tail padded with spaces (no padded
+    copy of the whole block)."""
     size = a.size
     last = size - width  # the last start whose window fits
     if last < 0:
@@ -438,7 +580,7 @@ def _windows(a: np.ndarray, starts: np.ndarray, width: int) -> np.ndarray:
         padded[:size] = a
         a, last = padded, size
     windows = np.ndarray(shape=(last + 1,), dtype=f"V{width}", buffer=a, strides=(1,))
-    out = windows[np.minimum(starts, last)].view(np.uint8).reshape(-1, width)
+    out = windows[np.clip(starts, 0, last)].view(np.uint8).reshape(-1, width)
     late = np.flatnonzero(starts > last)
     if late.size:
         cut = int(starts[late].min())
@@ -447,6 +589,15 @@ def _windows(a: np.ndarray, starts: np.ndarray, width: int) -> np.ndarray:
         tail_windows = np.ndarray(shape=(size - cut + 1,), dtype=f"V{width}", buffer=tail,
                                   strides=(1,))
         out[late] = tail_windows[starts[late] - cut].view(np.uint8).reshape(-1, width)
+    early = np.flatnonzero(starts < 0)
+    if early.size:
+        # Windows that begin before the block: spaces, then the block's first bytes.
+        upto = min(size, int(starts[early].max()) + width)
+        head = np.full(2 * width, 32, dtype=np.uint8)
+        head[width:width + upto] = a[:upto]
+        head_windows = np.ndarray(shape=(width + 1,), dtype=f"V{width}", buffer=head,
+                                  strides=(1,))
+        out[early] = head_windows[starts[early] + width].view(np.uint8).reshape(-1, width)
     return out
 
 
