@@ -359,23 +359,49 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
     shape and converted group by group (:func:`_grouped`).
     """
     a = np.frombuffer(block, dtype=np.uint8)
+    size = a.size
+    if size == 0:
+        return np.empty(0), np.empty(0, dtype=bool)
     ink = a > 32
-    edges = np.flatnonzero(ink[1:] != ink[:-1])
-    edges += 1
-    if a.size and ink[0]:
-        edges = np.concatenate(([0], edges))
-    if a.size and ink[-1]:
-        edges = np.concatenate((edges, [a.size]))
-    del ink  # blocks are parsed on several threads at once: free what is done with early
+    # Where the ink starts and stops (marks[i]: byte i differs from byte i - 1, the bytes
+    # outside the block counting as blank), and the points, found in one pass: in the usual
+    # block every number has one point, so the marks come as start, point, end, start…
+    marks = np.empty(size + 1, dtype=bool)
+    marks[0] = ink[0]
+    marks[size] = ink[-1]
+    np.not_equal(ink[1:], ink[:-1], out=marks[1:size])
+    # The flags' buffer is reused for each test: fresh memory for every pass costs page
+    # faults (blocks are parsed on several threads at once).
+    points = int(np.count_nonzero(np.equal(a, 46, out=ink)))
+    np.logical_or(marks[1:size], ink[1:], out=marks[1:size])
+    edges = np.flatnonzero(marks)
+    del marks
     # Between numbers only spaces, tabs and line ends (no other control bytes).
-    control = int(np.count_nonzero(a < 32))
+    control = int(np.count_nonzero(np.less(a, 32, out=ink)))
     if control:
-        control -= int(np.count_nonzero(a == 10))
+        control -= int(np.count_nonzero(np.equal(a, 10, out=ink)))
         if control:
-            control -= int(np.count_nonzero(a == 9)) + int(np.count_nonzero(a == 13))
+            control -= int(np.count_nonzero(np.equal(a, 9, out=ink)))
+            control -= int(np.count_nonzero(np.equal(a, 13, out=ink)))
             if control:
                 return None
-    starts, ends = edges[0::2], edges[1::2]
+    del ink
+    dots = None
+    if edges.size == 3 * points and bool(np.all(a[edges[1::3]] == 46)):
+        # Every third mark is a point and there are no others: each number holds exactly
+        # one, between its start and its end (the other marks alternate start, end).
+        starts, dots, ends = edges[0::3], edges[1::3], edges[2::3]
+    else:
+        # Numbers without a point, or with a point at their start: mark the ink alone.
+        ink = a > 32
+        edges = np.flatnonzero(ink[1:] != ink[:-1])
+        edges += 1
+        if ink[0]:
+            edges = np.concatenate(([0], edges))
+        if ink[-1]:
+            edges = np.concatenate((edges, [size]))
+        del ink
+        starts, ends = edges[0::2], edges[1::2]
     n = starts.size
     if n == 0:
         return np.empty(0), np.empty(0, dtype=bool)
@@ -405,11 +431,15 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
         after = a[starts[signed]]
         if np.any((after == 45) | (after == 43)):
             return None
-    # 1-based offset of the point in each number (0: none); two points in one number, or a
-    # point outside the numbers, is no plain number.
-    dot_at = _offsets(np.flatnonzero(a == 46), starts, ends)
-    if dot_at is None:
-        return None
+    # 1-based offset of the point in each number (0: none); two points in one number is no
+    # plain number.
+    if dots is not None:
+        dot_at = dots - starts
+        dot_at += 1
+    else:
+        dot_at = _offsets(np.flatnonzero(a == 46), starts, ends)
+        if dot_at is None:
+            return None
     values, rest = _aligned(a, ends, widths, dot_at)
     if rest.size:
         part = _grouped(a, starts[rest], widths[rest], dot_at[rest],
