@@ -327,18 +327,19 @@ def _fixed_rows(rows: np.ndarray, template: bytes) -> np.ndarray | None:
 
 #: A number longer than this is no measurement; it is left to the careful pass.
 _LONGEST = 40
-#: Digits (point and sign set aside) the aligned conversion takes: three 8-byte words.
-_ALIGNED_DIGITS = 24
+#: Digits (point and sign set aside) the aligned conversion takes: three 8-byte words, less
+#: the first byte, which may come from the window of the number before.
+_ALIGNED_DIGITS = 23
 
 
 def _word_masks() -> np.ndarray:
-    """Row k: the last k bytes of 32 (four little-endian 8-byte words) set, as one 32-byte
+    """Row k: the last k bytes of 24 (three little-endian 8-byte words) set, as one 24-byte
     item (so that a row is gathered as one item, not word by word). Rows beyond 24 are all
-    set but the first word (those numbers are sent to the grouped path anyway)."""
-    keep = np.zeros((41, 32), dtype=np.uint8)
+    set (those numbers are sent to the grouped path anyway)."""
+    keep = np.zeros((41, 24), dtype=np.uint8)
     for k in range(41):
-        keep[k, 32 - min(k, 24):] = 0xFF
-    return keep.view("V32").reshape(-1)
+        keep[k, 24 - min(k, 24):] = 0xFF
+    return keep.view("V24").reshape(-1)
 
 
 _KEEP = _word_masks()
@@ -354,7 +355,7 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
     first_on_line)``, or None when something in it is not a plain decimal number (a word,
     a control character, ``nan``, a huge token…); the caller then takes the careful path.
 
-    Numbers without an exponent and with at most 24 digits (nearly all of them in a
+    Numbers without an exponent and with at most 23 digits (nearly all of them in a
     measurement file) are converted all at once by :func:`_aligned`; the rest are sorted by
     shape and converted group by group (:func:`_grouped`).
     """
@@ -456,10 +457,10 @@ def _aligned(a: np.ndarray, ends: np.ndarray, widths: np.ndarray,
              dot_at: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Values of the unsigned numbers ending at ``ends`` (``widths`` bytes long, the point
     at 1-based ``dot_at`` or none), all at once; and the indices of those left to the
-    grouped path (an exponent, more than 24 digits, a mantissa of 2**64 or more, anything
+    grouped path (an exponent, more than 23 digits, a mantissa of 2**64 or more, anything
     that is no digit, or a rounding case that needs ``float``).
 
-    The 32 bytes ending at each number are gathered as four little-endian words. Its digits
+    The 24 bytes ending at each number are gathered as three little-endian words. Its digits
     are then right-aligned in three words with the point squeezed out: the bytes after the
     point are taken as they are, those before it from the same window one byte to the left
     (a shift by 8 bits across words), bytes before the number are set to '0'. Each word's
@@ -493,13 +494,13 @@ def _aligned(a: np.ndarray, ends: np.ndarray, widths: np.ndarray,
     unshifted = np.where(has_dot, after, 24)
     np.minimum(digits, 40, out=digits)
     # Every operation below runs over one flat, contiguous array of words: numpy's loops
-    # over a short inner axis (the four words of a number) would be many times slower.
-    words = _windows(a, ends - 32, 32).view("<u8")
+    # over a short inner axis (the three words of a number) would be many times slower.
+    words = _windows(a, ends - 24, 24).view("<u8")
     flat = words.reshape(-1)
     shifted = flat << np.uint64(8)
     shifted[1:] |= flat[:-1] >> np.uint64(56)
-    # Bytes of the number after the point from `words`, before it from `shifted`; the
-    # first word of each row is not used (cleared by the masks).
+    # Bytes of the number after the point from `words`, before it from `shifted` (whose
+    # first byte in a row comes from the row before: never used, at most 23 digits).
     flat ^= shifted
     flat &= _KEEP[unshifted].view("<u8")
     flat ^= shifted
@@ -526,19 +527,19 @@ def _aligned(a: np.ndarray, ends: np.ndarray, widths: np.ndarray,
     flat &= np.uint64(0x0000FFFF0000FFFF)
     flat *= np.uint64(42949672960001)
     flat >>= np.uint64(32)
-    head = words[:, 1]
+    head = words[:, 0]
     m = head * np.uint64(10 ** 16)
-    m += words[:, 2] * np.uint64(10 ** 8)
-    m += words[:, 3]
-    # Left out: no digits, more than 24, a mantissa of 10**19 or more (it may not fit in 64
+    m += words[:, 1] * np.uint64(10 ** 8)
+    m += words[:, 2]
+    # Left out: no digits, more than 23, a mantissa of 10**19 or more (it may not fit in 64
     # bits), any byte that is no digit (an exponent letter, a sign inside).
     left = digits > _ALIGNED_DIGITS
     left |= digits == 0
     left |= head >= np.uint64(1000)
     del words, flat, head
     if bad.any():
-        bad = bad.reshape(n, 4)
-        left |= (bad[:, 1] | bad[:, 2] | bad[:, 3]) != 0
+        bad = bad.reshape(n, 3)
+        left |= (bad[:, 0] | bad[:, 1] | bad[:, 2]) != 0
     del bad
     value = m.astype(np.longdouble)
     del m
