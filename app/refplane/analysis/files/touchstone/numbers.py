@@ -35,10 +35,15 @@ _POW10_LD: list = []
 
 
 def _pow10_extended() -> np.ndarray | None:
-    """10**0 … 10**27 as x86 80-bit extended floats (exact), or None where there are none."""
+    """10**0 … 10**27 as x86 80-bit extended floats (exact), or None where there are none.
+
+    Followed by ones up to index 40 (and so at index -1): any count of digits after the
+    point a number of at most 40 characters can have indexes it (those beyond 27 are never
+    used as results)."""
     if not _POW10_LD:
         ok = np.finfo(np.longdouble).nmant == 63 and np.dtype(np.longdouble).itemsize == 16
-        _POW10_LD.append(np.array([10 ** k for k in range(28)], dtype=np.longdouble) if ok else None)
+        _POW10_LD.append(np.array([10 ** k for k in range(28)] + [1] * 13, dtype=np.longdouble)
+                         if ok else None)
     return _POW10_LD[0]
 
 
@@ -441,7 +446,7 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
         dot_at = _offsets(np.flatnonzero(a == 46), starts, ends)
         if dot_at is None:
             return None
-    values, rest = _aligned(a, ends, widths, dot_at)
+    values, rest = _aligned(a, ends, widths, dot_at, dots is not None)
     if rest.size:
         part = _grouped(a, starts[rest], widths[rest], dot_at[rest],
                         b"e" in block or b"E" in block)
@@ -453,10 +458,11 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
     return values, first
 
 
-def _aligned(a: np.ndarray, ends: np.ndarray, widths: np.ndarray,
-             dot_at: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+def _aligned(a: np.ndarray, ends: np.ndarray, widths: np.ndarray, dot_at: np.ndarray,
+             all_points: bool = False) -> tuple[np.ndarray, np.ndarray]:
     """Values of the unsigned numbers ending at ``ends`` (``widths`` bytes long, the point
-    at 1-based ``dot_at`` or none), all at once; and the indices of those left to the
+    at 1-based ``dot_at`` or none; ``all_points``: every one has a point), all at once;
+    and the indices of those left to the
     grouped path (an exponent, more than 23 digits, a mantissa of 2**64 or more, anything
     that is no digit, or a rounding case that needs ``float``).
 
@@ -484,15 +490,19 @@ def _aligned(a: np.ndarray, ends: np.ndarray, widths: np.ndarray,
         left = []
         for lo in range(0, n, _AT_ONCE):
             hi = min(n, lo + _AT_ONCE)
-            values[lo:hi], part = _aligned(a, ends[lo:hi], widths[lo:hi], dot_at[lo:hi])
+            values[lo:hi], part = _aligned(a, ends[lo:hi], widths[lo:hi], dot_at[lo:hi],
+                                           all_points)
             left.append(part + lo)
         return values, np.concatenate(left)
-    has_dot = dot_at > 0
     after = widths - dot_at  # digits after the point (where there is one)
-    digits = widths - has_dot
-    # Bytes at the end taken unshifted: those after the point, or all without a point.
-    unshifted = np.where(has_dot, after, 24)
-    np.minimum(digits, 40, out=digits)
+    if all_points:
+        digits = widths - 1
+        unshifted = after  # bytes at the end taken as they are: those after the point
+    else:
+        has_dot = dot_at > 0
+        digits = widths - has_dot
+        unshifted = np.where(has_dot, after, 24)  # without a point: all of them
+        after[~has_dot] = -1  # the last power: 10**0
     # Every operation below runs over one flat, contiguous array of words: numpy's loops
     # over a short inner axis (the three words of a number) would be many times slower.
     words = _windows(a, ends - 24, 24).view("<u8")
@@ -543,8 +553,6 @@ def _aligned(a: np.ndarray, ends: np.ndarray, widths: np.ndarray,
     del bad
     value = m.astype(np.longdouble)
     del m
-    np.minimum(after, 27, out=after)
-    after[~has_dot] = 0
     value /= p10[after]
     low = value.view(np.uint64)[::2]
     # Rounding first to 64 bits and then to 53 can err only when the 64-bit result sits
