@@ -18,6 +18,7 @@ Two paths, both bit-for-bit equal to Python's correctly rounded ``float(text)``:
 
 from __future__ import annotations
 
+import threading
 from dataclasses import dataclass
 
 import numpy as np
@@ -353,6 +354,24 @@ _AT_ONCE = 16384
 _ZERO_DIGITS = np.uint64(0x3030303030303030)
 
 
+_SCRATCH = threading.local()
+#: The largest block whose flags are kept for the next (the reader's blocks are 2 MiB).
+_KEPT_FLAGS = 4 << 20
+
+
+def _flags(size: int) -> tuple[np.ndarray, np.ndarray]:
+    """Two arrays of flags, ``size`` and ``size + 1`` long, kept for the calling thread and
+    reused by its next block: a block's worth of fresh memory for every pass costs more in
+    page faults than the pass itself. A worker thread's pair goes with the thread; at most
+    two blocks' worth is kept per thread."""
+    have = getattr(_SCRATCH, "flags", None)
+    if have is None or have.size < 2 * size + 1:
+        have = np.empty(2 * size + 1, dtype=bool)
+        if size <= _KEPT_FLAGS:  # an unusual, bigger block is not kept
+            _SCRATCH.flags = have
+    return have[:size], have[size:2 * size + 1]
+
+
 def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
     """Every whitespace-separated number of ``block``, exactly, and which ones begin a line.
 
@@ -368,11 +387,11 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
     size = a.size
     if size == 0:
         return np.empty(0), np.empty(0, dtype=bool)
-    ink = a > 32
+    ink, marks = _flags(size)
+    np.greater(a, 32, out=ink)
     # Where the ink starts and stops (marks[i]: byte i differs from byte i - 1, the bytes
     # outside the block counting as blank), and the points, found in one pass: in the usual
     # block every number has one point, so the marks come as start, point, end, start…
-    marks = np.empty(size + 1, dtype=bool)
     marks[0] = ink[0]
     marks[size] = ink[-1]
     np.not_equal(ink[1:], ink[:-1], out=marks[1:size])
