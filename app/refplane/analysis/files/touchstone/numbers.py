@@ -443,31 +443,36 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
         after = np.searchsorted(starts, np.flatnonzero(a == 10))
         first[long_gap] = False
         first[after[after < n]] = True
-    # A leading sign is set aside and applied at the end: "-0.25" and "0.25" then share a
-    # shape. A sign must be followed by a digit or a point, never by a second sign.
+    # A leading sign is set aside and applied at the end. A sign must be followed by a
+    # digit or a point: the aligned conversion refuses any other byte, the grouped one is
+    # told (below).
     lead = a[starts]
     negative = lead == 45
     signed = negative | (lead == 43)
     if signed.any():
-        starts = starts + signed
-        widths = ends - starts
+        widths -= signed
         if int(widths.min()) < 1:
             return None
-        after = a[starts[signed]]
-        if np.any((after == 45) | (after == 43)):
-            return None
-    # 1-based offset of the point in each number (0: none); two points in one number is no
+    # Digits after the point in each number (-1: no point); two points in one number is no
     # plain number.
     if dots is not None:
-        dot_at = dots - starts
-        dot_at += 1
+        after = ends - dots
+        after -= 1
     else:
-        dot_at = _offsets(np.flatnonzero(a == 46), starts, ends)
+        dot_at = _offsets(np.flatnonzero(a == 46), starts + signed, ends)
         if dot_at is None:
             return None
-    values, rest = _aligned(a, ends, widths, dot_at, dots is not None)
+        after = np.where(dot_at > 0, widths - dot_at, -1)
+    values, rest = _aligned(a, ends, widths, after, dots is not None)
     if rest.size:
-        part = _grouped(a, starts[rest], widths[rest], dot_at[rest],
+        rest_starts = starts[rest] + signed[rest]
+        behind = a[rest_starts]
+        if np.any((behind == 45) | (behind == 43)):
+            return None
+        rest_widths = widths[rest]
+        rest_after = after[rest]
+        part = _grouped(a, rest_starts, rest_widths,
+                        np.where(rest_after >= 0, rest_widths - rest_after, 0),
                         b"e" in block or b"E" in block)
         if part is None:
             return None
@@ -477,10 +482,10 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
     return values, first
 
 
-def _aligned(a: np.ndarray, ends: np.ndarray, widths: np.ndarray, dot_at: np.ndarray,
+def _aligned(a: np.ndarray, ends: np.ndarray, widths: np.ndarray, after: np.ndarray,
              all_points: bool = False) -> tuple[np.ndarray, np.ndarray]:
-    """Values of the unsigned numbers ending at ``ends`` (``widths`` bytes long, the point
-    at 1-based ``dot_at`` or none; ``all_points``: every one has a point), all at once;
+    """Values of the unsigned numbers ending at ``ends`` (``widths`` bytes long, ``after``
+    digits after the point, -1 without one; ``all_points``: every one has a point), all at once;
     and the indices of those left to the
     grouped path (an exponent, more than 23 digits, a mantissa of 2**64 or more, anything
     that is no digit, or a rounding case that needs ``float``).
@@ -509,19 +514,17 @@ def _aligned(a: np.ndarray, ends: np.ndarray, widths: np.ndarray, dot_at: np.nda
         left = []
         for lo in range(0, n, _AT_ONCE):
             hi = min(n, lo + _AT_ONCE)
-            values[lo:hi], part = _aligned(a, ends[lo:hi], widths[lo:hi], dot_at[lo:hi],
+            values[lo:hi], part = _aligned(a, ends[lo:hi], widths[lo:hi], after[lo:hi],
                                            all_points)
             left.append(part + lo)
         return values, np.concatenate(left)
-    after = widths - dot_at  # digits after the point (where there is one)
     if all_points:
         digits = widths - 1
         unshifted = after  # bytes at the end taken as they are: those after the point
     else:
-        has_dot = dot_at > 0
+        has_dot = after >= 0
         digits = widths - has_dot
         unshifted = np.where(has_dot, after, 24)  # without a point: all of them
-        after[~has_dot] = -1  # the last power: 10**0
     # Every operation below runs over one flat, contiguous array of words: numpy's loops
     # over a short inner axis (the three words of a number) would be many times slower.
     words = _windows(a, ends - 24, 24).view("<u8")
