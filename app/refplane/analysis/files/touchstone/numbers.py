@@ -400,7 +400,6 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
     points = int(np.count_nonzero(np.equal(a, 46, out=ink)))
     np.logical_or(marks[1:size], ink[1:], out=marks[1:size])
     edges = np.flatnonzero(marks)
-    del marks
     # Between numbers only spaces, tabs and line ends (no other control bytes).
     control = int(np.count_nonzero(np.less(a, 32, out=ink)))
     if control:
@@ -410,6 +409,9 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
             control -= int(np.count_nonzero(np.equal(a, 13, out=ink)))
             if control:
                 return None
+    # From here on marks[i] tells whether byte i - 1 ends a line.
+    marks[0] = False
+    np.equal(a, 10, out=marks[1:])
     del ink
     dots = None
     if edges.size == 3 * points and bool(np.all(a[edges[1::3]] == 46)):
@@ -435,9 +437,8 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
     if longest > _LONGEST:
         return None
     # A number begins a line when a line end lies between it and the one before.
-    first = np.empty(n, dtype=bool)
+    first = marks[starts]
     first[0] = True
-    first[1:] = a[starts[1:] - 1] == 10
     long_gap = np.flatnonzero(starts[1:] - ends[:-1] > 1) + 1
     if long_gap.size:
         after = np.searchsorted(starts, np.flatnonzero(a == 10))
