@@ -18,6 +18,7 @@ Two paths, both bit-for-bit equal to Python's correctly rounded ``float(text)``:
 
 from __future__ import annotations
 
+import threading
 from dataclasses import dataclass
 
 import numpy as np
@@ -35,10 +36,15 @@ _POW10_LD: list = []
 
 
 def _pow10_extended() -> np.ndarray | None:
-    """10**0 … 10**27 as x86 80-bit extended floats (exact), or None where there are none."""
+    """10**0 … 10**27 as x86 80-bit extended floats (exact), or None where there are none.
+
+    Followed by ones up to index 40 (and so at index -1): any count of digits after the
+    point a number of at most 40 characters can have indexes it (those beyond 27 are never
+    used as results)."""
     if not _POW10_LD:
         ok = np.finfo(np.longdouble).nmant == 63 and np.dtype(np.longdouble).itemsize == 16
-        _POW10_LD.append(np.array([10 ** k for k in range(28)], dtype=np.longdouble) if ok else None)
+        _POW10_LD.append(np.array([10 ** k for k in range(28)] + [1] * 13, dtype=np.longdouble)
+                         if ok else None)
     return _POW10_LD[0]
 
 
@@ -327,6 +333,43 @@ def _fixed_rows(rows: np.ndarray, template: bytes) -> np.ndarray | None:
 
 #: A number longer than this is no measurement; it is left to the careful pass.
 _LONGEST = 40
+#: Digits (point and sign set aside) the aligned conversion takes: three 8-byte words, less
+#: the first byte, which may come from the window of the number before.
+_ALIGNED_DIGITS = 23
+
+
+def _word_masks() -> np.ndarray:
+    """Row k: the last k bytes of 24 (three little-endian 8-byte words) set, as one 24-byte
+    item (so that a row is gathered as one item, not word by word). Rows beyond 24 are all
+    set (those numbers are sent to the grouped path anyway)."""
+    keep = np.zeros((41, 24), dtype=np.uint8)
+    for k in range(41):
+        keep[k, 24 - min(k, 24):] = 0xFF
+    return keep.view("V24").reshape(-1)
+
+
+_KEEP = _word_masks()
+#: Numbers converted together by :func:`_aligned`.
+_AT_ONCE = 16384
+_ZERO_DIGITS = np.uint64(0x3030303030303030)
+
+
+_SCRATCH = threading.local()
+#: The largest block whose flags are kept for the next (the reader's blocks are 2 MiB).
+_KEPT_FLAGS = 4 << 20
+
+
+def _flags(size: int) -> tuple[np.ndarray, np.ndarray]:
+    """Two arrays of flags, ``size`` and ``size + 1`` long, kept for the calling thread and
+    reused by its next block: a block's worth of fresh memory for every pass costs more in
+    page faults than the pass itself. A worker thread's pair goes with the thread; at most
+    two blocks' worth is kept per thread."""
+    have = getattr(_SCRATCH, "flags", None)
+    if have is None or have.size < 2 * size + 1:
+        have = np.empty(2 * size + 1, dtype=bool)
+        if size <= _KEPT_FLAGS:  # an unusual, bigger block is not kept
+            _SCRATCH.flags = have
+    return have[:size], have[size:2 * size + 1]
 
 
 def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
@@ -335,25 +378,57 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
     ``block`` holds whole lines (comments already removed). Returns ``(values,
     first_on_line)``, or None when something in it is not a plain decimal number (a word,
     a control character, ``nan``, a huge token…); the caller then takes the careful path.
+
+    Numbers without an exponent and with at most 23 digits (nearly all of them in a
+    measurement file) are converted all at once by :func:`_aligned`; the rest are sorted by
+    shape and converted group by group (:func:`_grouped`).
     """
     a = np.frombuffer(block, dtype=np.uint8)
-    ink = a > 32
-    edges = np.flatnonzero(ink[1:] != ink[:-1])
-    edges += 1
-    if a.size and ink[0]:
-        edges = np.concatenate(([0], edges))
-    if a.size and ink[-1]:
-        edges = np.concatenate((edges, [a.size]))
-    del ink  # blocks are parsed on several threads at once: free what is done with early
+    size = a.size
+    if size == 0:
+        return np.empty(0), np.empty(0, dtype=bool)
+    ink, marks = _flags(size)
+    np.greater(a, 32, out=ink)
+    # Where the ink starts and stops (marks[i]: byte i differs from byte i - 1, the bytes
+    # outside the block counting as blank), and the points, found in one pass: in the usual
+    # block every number has one point, so the marks come as start, point, end, start…
+    marks[0] = ink[0]
+    marks[size] = ink[-1]
+    np.not_equal(ink[1:], ink[:-1], out=marks[1:size])
+    # The flags' buffer is reused for each test: fresh memory for every pass costs page
+    # faults (blocks are parsed on several threads at once).
+    points = int(np.count_nonzero(np.equal(a, 46, out=ink)))
+    np.logical_or(marks[1:size], ink[1:], out=marks[1:size])
+    edges = np.flatnonzero(marks)
     # Between numbers only spaces, tabs and line ends (no other control bytes).
-    control = int(np.count_nonzero(a < 32))
+    control = int(np.count_nonzero(np.less(a, 32, out=ink)))
     if control:
-        control -= int(np.count_nonzero(a == 10))
+        control -= int(np.count_nonzero(np.equal(a, 10, out=ink)))
         if control:
-            control -= int(np.count_nonzero(a == 9)) + int(np.count_nonzero(a == 13))
+            control -= int(np.count_nonzero(np.equal(a, 9, out=ink)))
+            control -= int(np.count_nonzero(np.equal(a, 13, out=ink)))
             if control:
                 return None
-    starts, ends = edges[0::2], edges[1::2]
+    # From here on marks[i] tells whether byte i - 1 ends a line.
+    marks[0] = False
+    np.equal(a, 10, out=marks[1:])
+    del ink
+    dots = None
+    if edges.size == 3 * points and bool(np.all(a[edges[1::3]] == 46)):
+        # Every third mark is a point and there are no others: each number holds exactly
+        # one, between its start and its end (the other marks alternate start, end).
+        starts, dots, ends = edges[0::3], edges[1::3], edges[2::3]
+    else:
+        # Numbers without a point, or with a point at their start: mark the ink alone.
+        ink = a > 32
+        edges = np.flatnonzero(ink[1:] != ink[:-1])
+        edges += 1
+        if ink[0]:
+            edges = np.concatenate(([0], edges))
+        if ink[-1]:
+            edges = np.concatenate((edges, [size]))
+        del ink
+        starts, ends = edges[0::2], edges[1::2]
     n = starts.size
     if n == 0:
         return np.empty(0), np.empty(0, dtype=bool)
@@ -362,44 +437,175 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
     if longest > _LONGEST:
         return None
     # A number begins a line when a line end lies between it and the one before.
-    first = np.empty(n, dtype=bool)
+    first = marks[starts]
     first[0] = True
-    first[1:] = a[starts[1:] - 1] == 10
     long_gap = np.flatnonzero(starts[1:] - ends[:-1] > 1) + 1
     if long_gap.size:
         after = np.searchsorted(starts, np.flatnonzero(a == 10))
         first[long_gap] = False
         first[after[after < n]] = True
-    # A leading sign is set aside and applied at the end: "-0.25" and "0.25" then share a
-    # shape, which halves the groups to convert. A sign must be followed by a digit or a
-    # point, never by a second sign.
+    # A leading sign is set aside and applied at the end. A sign must be followed by a
+    # digit or a point: the aligned conversion refuses any other byte, the grouped one is
+    # told (below).
     lead = a[starts]
     negative = lead == 45
     signed = negative | (lead == 43)
     if signed.any():
-        starts = starts + signed
-        widths = ends - starts
+        widths -= signed
         if int(widths.min()) < 1:
             return None
-        after = a[starts[signed]]
-        if np.any((after == 45) | (after == 43)):
+    # Digits after the point in each number (-1: no point); two points in one number is no
+    # plain number.
+    if dots is not None:
+        after = ends - dots
+        after -= 1
+    else:
+        dot_at = _offsets(np.flatnonzero(a == 46), starts + signed, ends)
+        if dot_at is None:
             return None
-        longest = int(widths.max())
+        after = np.where(dot_at > 0, widths - dot_at, -1)
+    values, rest = _aligned(a, ends, widths, after, dots is not None)
+    if rest.size:
+        rest_starts = starts[rest] + signed[rest]
+        behind = a[rest_starts]
+        if np.any((behind == 45) | (behind == 43)):
+            return None
+        rest_widths = widths[rest]
+        rest_after = after[rest]
+        part = _grouped(a, rest_starts, rest_widths,
+                        np.where(rest_after >= 0, rest_widths - rest_after, 0),
+                        b"e" in block or b"E" in block)
+        if part is None:
+            return None
+        values[rest] = part
+    if negative.any():
+        np.negative(values, out=values, where=negative)
+    return values, first
+
+
+def _aligned(a: np.ndarray, ends: np.ndarray, widths: np.ndarray, after: np.ndarray,
+             all_points: bool = False) -> tuple[np.ndarray, np.ndarray]:
+    """Values of the unsigned numbers ending at ``ends`` (``widths`` bytes long, ``after``
+    digits after the point, -1 without one; ``all_points``: every one has a point), all at once;
+    and the indices of those left to the
+    grouped path (an exponent, more than 23 digits, a mantissa of 2**64 or more, anything
+    that is no digit, or a rounding case that needs ``float``).
+
+    The 24 bytes ending at each number are gathered as three little-endian words. Its digits
+    are then right-aligned in three words with the point squeezed out: the bytes after the
+    point are taken as they are, those before it from the same window one byte to the left
+    (a shift by 8 bits across words), bytes before the number are set to '0'. Each word's
+    eight digits become one integer with three multiply-shift steps (the usual "eight
+    digits at once" method: pairs, then fours, then eights), so an 18-digit number costs a
+    few integer operations rather than one per digit. The integer mantissa M (< 10**19,
+    exact in uint64 and in the 64-bit significand of x86 extended precision) divided by
+    10**f, f the digits after the point, is rounded once in extended precision and again
+    to float64; as in :func:`fixed_width`, only results whose 64-bit value lies exactly
+    half-way between two doubles can differ from a correctly rounded conversion, and those
+    are redone with ``float``.
+    """
+    n = ends.size
+    p10 = _pow10_extended()
+    if p10 is None:
+        return np.empty(n), np.arange(n)
+    if n > _AT_ONCE:
+        # A few ten thousand numbers at a time: the words and masks stay in the processor's
+        # cache and their memory is reused from one part to the next.
+        values = np.empty(n)
+        left = []
+        for lo in range(0, n, _AT_ONCE):
+            hi = min(n, lo + _AT_ONCE)
+            values[lo:hi], part = _aligned(a, ends[lo:hi], widths[lo:hi], after[lo:hi],
+                                           all_points)
+            left.append(part + lo)
+        return values, np.concatenate(left)
+    if all_points:
+        digits = widths - 1
+        unshifted = after  # bytes at the end taken as they are: those after the point
+    else:
+        has_dot = after >= 0
+        digits = widths - has_dot
+        unshifted = np.where(has_dot, after, 24)  # without a point: all of them
+    # Every operation below runs over one flat, contiguous array of words: numpy's loops
+    # over a short inner axis (the three words of a number) would be many times slower.
+    words = _windows(a, ends - 24, 24).view("<u8")
+    flat = words.reshape(-1)
+    shifted = flat << np.uint64(8)
+    shifted[1:] |= flat[:-1] >> np.uint64(56)
+    # Bytes of the number after the point from `words`, before it from `shifted` (whose
+    # first byte in a row comes from the row before: never used, at most 23 digits).
+    flat ^= shifted
+    flat &= _KEEP[unshifted].view("<u8")
+    flat ^= shifted
+    del shifted
+    keep = _KEEP[digits].view("<u8")
+    flat &= keep
+    np.invert(keep, out=keep)
+    keep &= _ZERO_DIGITS
+    flat |= keep  # bytes before the number become '0'
+    del keep
+    # Every byte must now be an ASCII digit: below '0' the subtraction, above '9' the
+    # addition sets the byte's top bit (a borrow or carry from a neighbour only ever makes
+    # a bad word look bad).
+    bad = flat - _ZERO_DIGITS
+    bad |= flat + np.uint64(0x4646464646464646)
+    bad &= np.uint64(0x8080808080808080)
+    # Eight digits per word, most significant in the lowest byte: pairs, fours, eights.
+    flat &= np.uint64(0x0F0F0F0F0F0F0F0F)
+    flat *= np.uint64(2561)
+    flat >>= np.uint64(8)
+    flat &= np.uint64(0x00FF00FF00FF00FF)
+    flat *= np.uint64(6553601)
+    flat >>= np.uint64(16)
+    flat &= np.uint64(0x0000FFFF0000FFFF)
+    flat *= np.uint64(42949672960001)
+    flat >>= np.uint64(32)
+    head = words[:, 0]
+    m = head * np.uint64(10 ** 16)
+    m += words[:, 1] * np.uint64(10 ** 8)
+    m += words[:, 2]
+    # Left out: no digits, more than 23, a mantissa of 10**19 or more (it may not fit in 64
+    # bits), any byte that is no digit (an exponent letter, a sign inside).
+    left = digits > _ALIGNED_DIGITS
+    left |= digits == 0
+    left |= head >= np.uint64(1000)
+    del words, flat, head
+    if bad.any():
+        bad = bad.reshape(n, 3)
+        left |= (bad[:, 0] | bad[:, 1] | bad[:, 2]) != 0
+    del bad
+    value = m.astype(np.longdouble)
+    del m
+    value /= p10[after]
+    low = value.view(np.uint64)[::2]
+    # Rounding first to 64 bits and then to 53 can err only when the 64-bit result sits
+    # exactly half-way between two doubles; those (about 1 in 2048) are redone exactly.
+    left |= (low & np.uint64(0x7FF)) == np.uint64(0x400)
+    del low
+    values = value.astype(np.float64)
+    return values, np.flatnonzero(left)
+
+
+def _grouped(a: np.ndarray, starts: np.ndarray, widths: np.ndarray, dot_at: np.ndarray,
+             letters: bool) -> np.ndarray | None:
+    """Values of the unsigned numbers at ``starts``, sorted by shape and converted one shape
+    at a time by :func:`_fixed_rows` (any row that is not a plain number: None)."""
+    n = starts.size
+    longest = int(widths.max())
+    tokens = _windows(a, starts, longest)
     # Shape key: width, the offset of the point and where the exponent letter sits counted
     # from the number's end (a short range: keeps the key below 2**17, so the count of keys
     # present is cheap). The key only groups numbers; each group's layout is then checked
     # byte by byte, so a coarse key costs speed, never correctness.
-    dot_at = _offsets(np.flatnonzero(a == 46), starts, ends)
-    if dot_at is None:
-        return None
     key = widths.astype(np.uint32) << 11
     key |= dot_at.astype(np.uint32) << 5
-    if b"e" in block or b"E" in block:
-        found = np.flatnonzero(((a | 32) if b"E" in block else a) == 101)
-        owner = np.searchsorted(starts, found, side="right") - 1
-        from_end = np.zeros(n, dtype=np.uint32)
-        from_end[owner] = np.minimum(ends[owner] - found, 7)
-        key |= from_end
+    if letters:
+        inside = np.arange(longest) < widths[:, None]
+        is_e = ((tokens | 32) == 101) & inside
+        # Count from the end of the last letter in the number (0: none).
+        last = longest - 1 - np.argmax(is_e[:, ::-1], axis=1)
+        from_end = np.where(is_e.any(axis=1), np.minimum(widths - last, 7), 0)
+        key |= from_end.astype(np.uint32)
     # Number the shapes present 0, 1, 2 … so that a 16-bit radix sort groups them.
     present = np.flatnonzero(np.bincount(key))
     if present.size > 65535:
@@ -410,7 +616,7 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
     order = np.argsort(key, kind="stable")
     key = key[order]
     bounds = np.concatenate(([0], np.flatnonzero(np.diff(key)) + 1, [n])).tolist()
-    tokens = _windows(a, starts[order], longest)
+    tokens = tokens[order]
     values = np.empty(n, dtype=np.float64)
     for lo, hi in zip(bounds[:-1], bounds[1:]):
         width = int(widths[order[lo]])
@@ -421,16 +627,14 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
             if part is None:
                 return None
         values[order[lo:hi]] = part.reshape(-1)
-    if negative.any():
-        np.negative(values, out=values, where=negative)
-    return values, first
+    return values
 
 
 def _windows(a: np.ndarray, starts: np.ndarray, width: int) -> np.ndarray:
     """The ``width`` bytes from each start as the rows of a (starts × width) array: overlapping
-    windows of ``a`` gathered in one step. The few windows that would run past the end of
-    ``a`` are redone from a short copy of its tail padded with spaces (no padded copy of the
-    whole block)."""
+    windows of ``a`` gathered in one step. The few windows that would run past either end of
+    ``a`` are redone from a short copy of its head or tail padded with spaces (no padded
+    copy of the whole block)."""
     size = a.size
     last = size - width  # the last start whose window fits
     if last < 0:
@@ -438,7 +642,7 @@ def _windows(a: np.ndarray, starts: np.ndarray, width: int) -> np.ndarray:
         padded[:size] = a
         a, last = padded, size
     windows = np.ndarray(shape=(last + 1,), dtype=f"V{width}", buffer=a, strides=(1,))
-    out = windows[np.minimum(starts, last)].view(np.uint8).reshape(-1, width)
+    out = windows[np.clip(starts, 0, last)].view(np.uint8).reshape(-1, width)
     late = np.flatnonzero(starts > last)
     if late.size:
         cut = int(starts[late].min())
@@ -447,6 +651,15 @@ def _windows(a: np.ndarray, starts: np.ndarray, width: int) -> np.ndarray:
         tail_windows = np.ndarray(shape=(size - cut + 1,), dtype=f"V{width}", buffer=tail,
                                   strides=(1,))
         out[late] = tail_windows[starts[late] - cut].view(np.uint8).reshape(-1, width)
+    early = np.flatnonzero(starts < 0)
+    if early.size:
+        # Windows that begin before the block: spaces, then the block's first bytes.
+        upto = min(size, int(starts[early].max()) + width)
+        head = np.full(2 * width, 32, dtype=np.uint8)
+        head[width:width + upto] = a[:upto]
+        head_windows = np.ndarray(shape=(width + 1,), dtype=f"V{width}", buffer=head,
+                                  strides=(1,))
+        out[early] = head_windows[starts[early] + width].view(np.uint8).reshape(-1, width)
     return out
 
 
