@@ -180,3 +180,48 @@ def test_points_grow_past_a_short_estimate():
     freq, s = points.finish()
     assert np.array_equal(freq, np.arange(50.0))
     assert np.array_equal(s[:, 0, 0].real, np.repeat(np.arange(10.0), 5))
+
+
+def _two_port_with_noise_block(path, points: int, noise_rows: int = 3):
+    """A 1.x two-port file whose network data end with a noise block (five numbers a row,
+    its frequencies starting again below the last network frequency: Touchstone 1.1)."""
+    rng = np.random.default_rng(12)
+    f = np.linspace(1e8, 3e9, points)
+    numbers = rng.uniform(-0.9, 0.9, (points, 8))
+    lines = ["! invented test data", "# Hz S RI R 50"]
+    lines += [" ".join("%.17g" % v for v in (fk, *row)) for fk, row in zip(f, numbers)]
+    lines += ["! noise parameters"]
+    lines += [f"{1e8 * (k + 1):.17g} 1.5 0.3 45 0.2" for k in range(noise_rows)]
+    path.write_text("\n".join(lines) + "\n")
+    return f, numbers
+
+
+@pytest.mark.parametrize("chunk", [4096, 1 << 17])
+def test_the_careful_pass_reads_ahead_and_gives_back_the_block_after_the_odd_line(tmp_path, monkeypatch, chunk):
+    # The noise block sends the file to the careful pass, which reads the next block while it
+    # works on the current one (on a thread from 64 kB up) and must hand the read-ahead bytes
+    # back when it turns to reading line by line: no line lost, none read twice.
+    path = tmp_path / "amp.s2p"
+    f, numbers = _two_port_with_noise_block(path, points=12000)
+    monkeypatch.setattr(source_module, "CHUNK", chunk)
+    sweep = touchstone.read(path)
+    assert sweep.n_points == 12000
+    np.testing.assert_array_equal(sweep.freq_hz, f)
+    # Touchstone 1.1 two-port order: S11, S21, S12, S22, each as real and imaginary part.
+    np.testing.assert_array_equal(sweep.s[:, 0, 0], numbers[:, 0] + 1j * numbers[:, 1])
+    np.testing.assert_array_equal(sweep.s[:, 1, 0], numbers[:, 2] + 1j * numbers[:, 3])
+    np.testing.assert_array_equal(sweep.s[:, 0, 1], numbers[:, 4] + 1j * numbers[:, 5])
+    np.testing.assert_array_equal(sweep.s[:, 1, 1], numbers[:, 6] + 1j * numbers[:, 7])
+
+
+def test_a_fault_after_a_noise_block_is_named_at_its_line_with_read_ahead(tmp_path, monkeypatch):
+    path = tmp_path / "amp.s2p"
+    _two_port_with_noise_block(path, points=3000, noise_rows=400)
+    lines = path.read_text().splitlines()
+    bad = len(lines) - 10  # inside the noise block
+    lines[bad] = lines[bad] + " 7"  # six numbers in a noise row
+    path.write_text("\n".join(lines) + "\n")
+    monkeypatch.setattr(source_module, "CHUNK", 4096)
+    with pytest.raises(SweepFileError) as info:
+        touchstone.read(path)
+    assert f"line {bad + 1}" in str(info.value)

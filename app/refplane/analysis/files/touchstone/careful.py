@@ -45,6 +45,22 @@ def _bulk(block: bytes, per_point: int, freq_scale: float, last_freq: float):
     that one odd line in a big file does not send millions of lines through Python.
     Returns (values, last frequency in Hz, lines in the block).
     """
+    return _after(_bulk_values(block, per_point, freq_scale), last_freq)
+
+
+def _after(found, last_freq: float):
+    """``found`` of :func:`_bulk_values` when its first frequency is above ``last_freq``."""
+    if found is None:
+        return None
+    values, first_freq, block_last, lines = found
+    if not first_freq > last_freq:
+        return None
+    return values, block_last, lines
+
+
+def _bulk_values(block: bytes, per_point: int, freq_scale: float):
+    """The part of :func:`_bulk` that needs no earlier block (so a worker thread can run it
+    ahead): (values, first and last frequency in Hz, lines), or None."""
     if b"!" in block or b"#" in block or b"[" in block:
         return None
     values = fixed_width(block)
@@ -67,10 +83,73 @@ def _bulk(block: bytes, per_point: int, freq_scale: float, last_freq: float):
         return None
     with np.errstate(over="ignore"):
         freq = values[:, 0] * freq_scale
-    if not (np.isfinite(freq).all() and freq[0] > last_freq and freq[0] >= 0
-            and np.all(freq[1:] > freq[:-1])):
+    if not (np.isfinite(freq).all() and freq[0] >= 0 and np.all(freq[1:] > freq[:-1])):
         return None
-    return values, float(freq[-1]), lines
+    return values, float(freq[0]), float(freq[-1]), lines
+
+
+#: Blocks the careful pass reads and converts ahead (one worker thread each).
+READ_AHEAD = 2
+
+
+class _Ahead:
+    """The next block of the file, read while the careful pass works on the current one and
+    converted in bulk on a worker thread (the careful pass otherwise runs on one core).
+
+    If the careful pass turns to reading line by line, :meth:`give_back` returns the block's
+    bytes to the source unread, so nothing is skipped and the line count stays right.
+    """
+
+    def __init__(self, src: Source, per_point: int, freq_scale: float):
+        self.src = src
+        self.start = src.lines_before + 1
+        self.block = b""
+        self.error: BaseException | None = None
+        self._found = None
+        self._thread = None
+        try:
+            self.block = src.block()
+        except (LineTooLong, SweepFileError) as exc:  # raised when this block is taken,
+            self.error = exc                          # after what comes before it
+            return
+        if len(self.block) >= 1 << 16:  # small blocks: a thread costs more than it saves
+            import threading
+
+            self._thread = threading.Thread(target=self._run, args=(per_point, freq_scale),
+                                            name="refplane-careful", daemon=True)
+            self._thread.start()
+        else:
+            self._run(per_point, freq_scale)
+
+    def _run(self, per_point: int, freq_scale: float) -> None:
+        try:
+            self._found = _bulk_values(self.block, per_point, freq_scale)
+        except Exception:  # the careful pass reads the block line by line and says what is wrong
+            self._found = None
+
+    def found(self):
+        """The block converted in bulk (waiting for the worker), or None."""
+        if self._thread is not None:
+            self._thread.join()
+            self._thread = None
+        return self._found
+
+    def give_back(self) -> None:
+        """Put the block back in front of the source's unread bytes."""
+        if self._thread is not None:
+            self._thread.join()
+            self._thread = None
+        if self.block:
+            self.src.buf = self.block + self.src.buf
+            self.src.lines_before -= self.block.count(b"\n")
+            self.block = b""
+
+    def raise_error(self) -> None:
+        """Raise what went wrong reading the block, if anything did."""
+        if isinstance(self.error, LineTooLong):
+            raise _too_long(self.src) from None
+        if self.error is not None:
+            raise self.error
 
 
 def careful(name: str, ext_ports: int | None):
@@ -137,15 +216,18 @@ def _careful(src: Source, name: str, ext_ports: int | None):
         are read in bulk (exactly as the bulk pass would) and never yielded."""
         nonlocal last_freq
         yield first
+        ahead: list[_Ahead] = []  # blocks read ahead, oldest first
         while True:
             if n <= 2 and not current and noise_from is None and not ended:
-                start = src.lines_before + 1
-                try:
-                    block = src.block()
-                except LineTooLong:
-                    raise _too_long(src) from None
+                taken = ahead.pop(0) if ahead else _Ahead(src, per_point, freq_scale)
+                taken.raise_error()
+                start, block = taken.start, taken.block
                 if not block:
                     return
+                # The next blocks are read and converted while this one is looked at.
+                while len(ahead) < READ_AHEAD and not src.at_end:
+                    ahead.append(_Ahead(src, per_point, freq_scale))
+                whole = taken.found()
                 # Halve a block that cannot be read in bulk until the odd line sits in a
                 # piece of a few dozen lines; only those are read one by one.
                 pending = [(start, block)]
@@ -153,7 +235,10 @@ def _careful(src: Source, name: str, ext_ports: int | None):
                     start, piece = pending.pop()
                     clean = not current and noise_from is None and not ended
                     if clean:
-                        got = _bulk(piece, per_point, freq_scale, last_freq)
+                        if piece is block:
+                            got = _after(whole, last_freq)
+                        else:
+                            got = _bulk(piece, per_point, freq_scale, last_freq)
                         if got is not None:
                             values, last_freq, count = got
                             flush()
@@ -172,6 +257,14 @@ def _careful(src: Source, name: str, ext_ports: int | None):
                     for i, raw in enumerate(parts):
                         yield start + i, decode_line(raw, name, start + i)
             else:
+                if ahead:
+                    # Line by line from here: the blocks read ahead go back, unread, the last
+                    # first (a block that could not be read says why now, as in bulk).
+                    for block_ahead in ahead:
+                        block_ahead.raise_error()
+                    for block_ahead in reversed(ahead):
+                        block_ahead.give_back()
+                    ahead = []
                 try:
                     yield next(lines)
                 except StopIteration:
