@@ -119,14 +119,15 @@ class Source:
                 break
             cut = more.rfind(b"\n") + 1
             if cut:
-                pieces.append(more[:cut])
+                # A view, not a slice: the join below is then the block's only copy.
+                pieces.append(memoryview(more)[:cut])
                 self.buf = more[cut:]
                 break
             pieces.append(more)
             size += len(more)
             if size > MAX_LINE:
                 raise LineTooLong
-        data = b"".join(pieces)
+        data = pieces[0] if len(pieces) == 1 else b"".join(pieces)
         if not count_lines:
             self.lines_before = None
         elif self.lines_before is not None:
