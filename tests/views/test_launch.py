@@ -128,3 +128,14 @@ def test_start_up_leaves_the_tool_panels_and_session_files_unimported():
     assert imported == "[]"
     for title in ("Antenna", "Cable", "Uncertainty", "Limits", "Time domain"):
         assert repr(title) in docks
+
+
+def test_the_modules_imported_before_qt_are_free_of_qt():
+    # Start-up imports these before PySide6 (whose import hook would read each one's source):
+    # they must not pull Qt in themselves, or the order would mean nothing.
+    code = ("import sys\nfrom refplane.views import launch\nlaunch._import_before_qt()\n"
+            "print(sorted(m for m in ('PySide6', 'pyqtgraph', 'shiboken6') if m in sys.modules))\n"
+            "print(all(name in sys.modules for name in launch.BEFORE_QT))\n")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=120)
+    assert out.returncode == 0, out.stderr
+    assert out.stdout.split() == ["[]", "True"]
