@@ -25,6 +25,7 @@ from PySide6.QtWidgets import (QCheckBox, QComboBox, QDialog, QFileDialog, QGrid
                                QListWidgetItem, QMessageBox, QPushButton, QSizePolicy, QSplitter,
                                QTableWidget, QTableWidgetItem, QVBoxLayout, QWidget)
 
+from refplane.views.plot_area import discard
 from refplane.views.binding import bind
 from refplane.views.folders import in_last_folder, last_folder, remember_folder
 from refplane.analysis.errors import AnalysisError
@@ -671,7 +672,9 @@ class CalibrationDialog(QDialog):
         self.calibration = cal
         self._terms_outdated = False
         self._ok()
-        self.plot.clear()
+        for item in list(self.plot.listDataItems()):
+            self.plot.removeItem(item)
+            discard(item)  # Qt deletes it at a safe point, not Python's collector mid-call
         keys = []
         for i, (name, values) in enumerate(terms_db(cal).items()):
             colour = PALETTE[i % len(PALETTE)]

@@ -10,7 +10,21 @@ the window makes (``addItem``, ``removeItem``, ``getAxis``, ``setLabel``, ``setL
 from __future__ import annotations
 
 import pyqtgraph as pg
+from PySide6.QtCore import QObject
 from PySide6.QtWidgets import QGraphicsGridLayout, QGraphicsItem, QSizePolicy
+
+
+def discard(item: QGraphicsItem) -> None:
+    """Let Qt delete an item just taken out of a view, at its next safe point.
+
+    An item out of its scene belongs to Python again; pyqtgraph's items sit in reference
+    cycles, so Python's cycle collector would destroy them at whatever moment it runs, even
+    inside a Qt call that holds the lock their destructor needs (a hang or a crash). A
+    QObject item is therefore handed to Qt's deferred delete instead; the caller must keep no
+    use for it.
+    """
+    if isinstance(item, QObject):
+        item.deleteLater()
 
 
 def log_tick_text(value: float, unit: str) -> str:
@@ -95,6 +109,7 @@ class PlotArea(pg.GraphicsWidget):
         if item in self.items:
             self.items.remove(item)
             self.vb.removeItem(item)
+            discard(item)
 
     def setLabel(self, axis: str, text: str | None = None, units: str | None = None) -> None:
         """Title (and SI unit) of an axis."""

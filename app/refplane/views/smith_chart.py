@@ -29,6 +29,7 @@ from PySide6.QtWidgets import QGraphicsItem, QLabel, QSizePolicy, QVBoxLayout, Q
 
 from refplane.views import smith_grid
 from refplane.views.line_drawing import apply_line_mode
+from refplane.views.plot_area import discard
 from refplane.session.model import Session
 from refplane.views.theme import LIGHT, Theme, quiet_label
 
@@ -239,6 +240,7 @@ class TraceItem(pg.ItemGroup):
             self._draw()
         elif self.dashes is not None:
             self.dashes.setParentItem(None)
+            discard(self.dashes)
             self.dashes = None
         c = QColor(colour)
         c.setAlphaF(alpha)
@@ -412,8 +414,9 @@ class ChartView(pg.GraphicsView):
         self.view.addItem(item)
 
     def removeItem(self, item: QGraphicsItem) -> None:
-        """Take an item off the chart."""
+        """Take an item off the chart for good (Qt deletes it at its next safe point)."""
         self.view.removeItem(item)
+        discard(item)
 
 
 class SmithChart(QWidget):

@@ -23,6 +23,7 @@ from PySide6.QtCore import Qt, QTimer, Signal
 from PySide6.QtWidgets import (QCheckBox, QComboBox, QDoubleSpinBox, QHBoxLayout, QPushButton, QSizePolicy,
                                QVBoxLayout, QWidget)
 
+from refplane.views.plot_area import discard
 from refplane.analysis.errors import AnalysisError
 from refplane.session import tool_jobs, tool_text
 from refplane.session.model import Session
@@ -421,7 +422,9 @@ class TimeDomainView(QWidget):
 
     def _draw_markers(self, distances: list[float]) -> None:
         while len(self.marker_lines) > len(distances):
-            self.plot.getPlotItem().removeItem(self.marker_lines.pop())
+            line = self.marker_lines.pop()
+            self.plot.getPlotItem().removeItem(line)
+            discard(line)
         while len(self.marker_lines) < len(distances):
             k = len(self.marker_lines)
             line = pg.InfiniteLine(angle=90, movable=True, pen=pg.mkPen(MARKER_COLOUR, width=1.4),
