@@ -14,7 +14,7 @@ from PySide6.QtWidgets import (QAbstractItemView, QComboBox, QHBoxLayout, QHeade
 
 from refplane.analysis.errors import AnalysisError
 from refplane.session.model import Session
-from refplane.views.binding import bind
+from refplane.views.scene_controller import controller_for
 from refplane.views.panels.marker_rows import MarkerRows
 from refplane.views.theme import quiet_label
 
@@ -114,13 +114,10 @@ class MarkerTable(QWidget):
         self.table.setContextMenuPolicy(Qt.CustomContextMenu)
         self.table.customContextMenuRequested.connect(
             lambda pos: self.context_menu(self.table.rowAt(pos.y())).exec(self.table.viewport().mapToGlobal(pos)))
-        # In the window the scene controller hands the table every Scene; on its own (a test,
-        # a small tool) the table takes one from the session on each of its events.
-        self.controller = controller
-        if controller is not None:
-            controller.attach(self)
-        else:
-            self._follow_session()
+        # The window's scene controller hands the table every Scene; made on its own (a
+        # test, a small tool), the table has a controller of its own.
+        self.controller = controller_for(state, self, controller)
+        self.controller.attach(self)
 
     # ---------------------------------------------------------------- public
     def add_from_entry(self) -> int | None:
@@ -177,7 +174,7 @@ class MarkerTable(QWidget):
         (``delimiter=","`` gives the same as CSV)."""
         from refplane.session.present import difference_values, sheet_rows, sheet_text
 
-        scene = self._scene if self._scene is not None else self.state.scene()
+        scene = self.controller.scene()
         rows = [(str(m.number), scene.trace(m.trace_id).label, m.readout) for m in scene.markers]
         if scene.delta is not None:
             a, b = scene.marker(scene.delta.a), scene.marker(scene.delta.b)
@@ -241,19 +238,6 @@ class MarkerTable(QWidget):
             self.found.setText(found)
         self.found.setVisible(bool(found))
 
-    def _follow_session(self) -> None:
-        """Without a controller, take a Scene from the session on each of its events (the
-        session resolves once per change and hands every view the same)."""
-        def refresh(*_args) -> None:
-            self.set_scene(self.state.scene())
-
-        state = self.state
-        for signal in (state.tracesChanged, state.traceChanged, state.offsetsChanged,
-                       state.overlaysChanged, state.markersChanged, state.markerMoving,
-                       state.currentMarkerChanged, state.displayChanged, state.toolChanged):
-            bind(self, signal, refresh)
-        refresh()
-
     def _fit_columns(self) -> None:
         self._widths_timer.stop()
         self.table.resizeColumnsToContents()
@@ -296,7 +280,7 @@ class MarkerTable(QWidget):
         from PySide6.QtWidgets import QMenu
 
         menu = QMenu(self)
-        scene = self._scene if self._scene is not None else self.state.scene()
+        scene = self.controller.scene()
         kind = self.rows.row(row).kind if 0 <= row < self.rows.rowCount() else None
         if kind == "marker":
             mid = self.rows.row(row).marker_id

@@ -14,7 +14,7 @@ from PySide6.QtWidgets import (QAbstractItemView, QApplication, QColorDialog, QC
                                QVBoxLayout, QWidget)
 
 from refplane.session.model import Session
-from refplane.views.binding import bind
+from refplane.views.scene_controller import controller_for
 from refplane.views.panels.trace_rows import N_PORTS_ROLE, TraceRows, port_text
 
 
@@ -120,13 +120,10 @@ class TraceList(QWidget):
         self._updating = False
         self._current = -1
         self._scene = None
-        # In the window the scene controller hands the list every Scene; on its own (a test,
-        # a small tool) the list takes one from the session on each of its events.
-        self.controller = controller
-        if controller is not None:
-            controller.attach(self)
-        else:
-            self._follow_session()
+        # The window's scene controller hands the list every Scene; made on its own (a
+        # test, a small tool), the list has a controller of its own.
+        self.controller = controller_for(state, self, controller)
+        self.controller.attach(self)
 
     def set_scene(self, scene) -> None:
         """Show a resolved Scene's traces and select its current trace."""
@@ -137,18 +134,6 @@ class TraceList(QWidget):
         if scene.current_trace != self._current:
             self._current = scene.current_trace
             self._select_current(self._current)
-
-    def _follow_session(self) -> None:
-        """Without a controller, take a Scene from the session on each event that changes
-        what the list shows."""
-        def refresh(*_args) -> None:
-            self.set_scene(self.state.scene())
-
-        state = self.state
-        for signal in (state.tracesChanged, state.traceChanged, state.offsetsChanged,
-                       state.currentTraceChanged, state.displayChanged):
-            bind(self, signal, refresh)
-        refresh()
 
     def row_of(self, trace_id: int) -> int:
         """The row showing a trace."""
