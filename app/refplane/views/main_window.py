@@ -134,8 +134,6 @@ class MainWindow(QMainWindow):
 
         self.trace_list = TraceList(self.state, controller=self.scene_controller)
         self.marker_table = MarkerTable(self.state, controller=self.scene_controller)
-        for view in (self.trace_list, self.marker_table):
-            self.attach_view(view)
         self.docks: dict[str, QDockWidget] = {}
         self._panels_menu = None
         self._build_menus()
@@ -163,11 +161,6 @@ class MainWindow(QMainWindow):
         bind(self, self.state.tracesChanged, self._watch_files)
         self.apply_theme(self.theme, widgets=False)  # chart and plots were built in this theme
         self.resize(*DEFAULT_SIZE)
-
-    def attach_view(self, view) -> None:
-        """Give ``view`` the window's Scenes when it takes them (has ``set_scene``) and has no controller of its own."""
-        if callable(getattr(view, "set_scene", None)) and getattr(view, "controller", None) is None:
-            self.scene_controller.attach(view)
 
     def fit_to(self, available: QRect) -> None:
         """Shrink the window to fit ``available`` (a screen's free area) and centre it there.
