@@ -163,6 +163,25 @@ def test_not_a_plain_number_is_refused(bad):
     assert any_width(block) is None
 
 
+@pytest.mark.parametrize("bad", ["1.2.3", "1-2", "--1", "+-1", "1e", "nan", "inf", "1,5",
+                                 "1e5.5", "1e+", "1ee5", "12a", "1.0d0", "1.5f", "1e-5-", "7/8",
+                                 "1e-5e", "0.5\xb0", "1_000", "2*3"])
+def test_not_a_plain_number_is_refused_beside_e_notation(bad):
+    # Among numbers in E notation the pass locates the letters and the signs after them by
+    # counting; any other odd byte must still be refused (same specification as above).
+    block = f"0.25 1.5e-07 -2E+3 {bad}\n0.5 1e5 7.0\n".encode("latin-1")
+    assert any_width(block) is None
+
+
+def test_many_numbers_in_e_notation_equal_python_float():
+    # More letters than the pass locates one by one: every number is then checked byte by
+    # byte instead (reference: Python's correctly rounded float, as everywhere here).
+    rng = random.Random(7)
+    lines = [[f"{rng.uniform(-1, 1):.6e}", repr(rng.uniform(-1, 1)), "0.5"]
+             for _ in range(5000)]
+    _check(lines, _block(lines, rng))
+
+
 _DECIMAL = st.from_regex(
     r"\A[+-]?([0-9]{1,17}(\.[0-9]{0,17})?|\.[0-9]{1,22})([eE][+-]?[0-9]{1,2})?\Z")
 

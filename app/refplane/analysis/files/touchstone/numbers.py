@@ -338,17 +338,18 @@ _LONGEST = 40
 _ALIGNED_DIGITS = 23
 
 
-def _word_masks() -> np.ndarray:
-    """Row k: the last k bytes of 24 (three little-endian 8-byte words) set, as one 24-byte
-    item (so that a row is gathered as one item, not word by word). Rows beyond 24 are all
-    set (those numbers are sent to the grouped path anyway)."""
+def _word_masks(byte: int) -> np.ndarray:
+    """Row k: the last k bytes of 24 (three little-endian 8-byte words) set to ``byte``, the
+    others clear, as three uint64 words. Rows beyond 24 are all set (those numbers are
+    sent to the grouped path anyway)."""
     keep = np.zeros((41, 24), dtype=np.uint8)
     for k in range(41):
-        keep[k, 24 - min(k, 24):] = 0xFF
-    return keep.view("V24").reshape(-1)
+        keep[k, 24 - min(k, 24):] = byte
+    return keep.view("<u8")
 
 
-_KEEP = _word_masks()
+_KEEP = _word_masks(0xFF)
+_KEEP_LOW = _word_masks(0x0F)
 #: Numbers converted together by :func:`_aligned`.
 _AT_ONCE = 16384
 _ZERO_DIGITS = np.uint64(0x3030303030303030)
@@ -409,10 +410,16 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
             control -= int(np.count_nonzero(np.equal(a, 13, out=ink)))
             if control:
                 return None
+    # Bytes that can be neither a digit nor a point nor a sign: letters and everything
+    # above '9' (counted), and '!'…'/', which hold '+', '-' and '.' (counted with them).
+    letters = int(np.count_nonzero(np.greater(a, 57, out=ink))) if int(a.max()) > 57 else 0
+    scratch = ink.view(np.uint8)
+    np.subtract(a, np.uint8(33), out=scratch)  # wraps round below '!'
+    punctuation = int(np.count_nonzero(np.less(scratch, 15, out=ink)))
     # From here on marks[i] tells whether byte i - 1 ends a line.
     marks[0] = False
     np.equal(a, 10, out=marks[1:])
-    del ink
+    del ink, scratch
     dots = None
     if edges.size == 3 * points and bool(np.all(a[edges[1::3]] == 46)):
         # Every third mark is a point and there are no others: each number holds exactly
@@ -464,7 +471,13 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
         if dot_at is None:
             return None
         after = np.where(dot_at > 0, widths - dot_at, -1)
-    values, rest = _aligned(a, ends, widths, after, dots is not None)
+    # `edges` is contiguous (searchsorted would copy the strided `starts`): each number's
+    # marks are its start, its point if marked, and its end.
+    odd = _odd_numbers(block, edges, 2 if dots is None else 3, letters,
+                       punctuation - points - int(np.count_nonzero(signed)))
+    values, rest = _aligned(a, ends, widths, after, dots is not None, check=odd is None)
+    if odd is not None and odd.size:
+        rest = np.union1d(rest, odd)
     if rest.size:
         rest_starts = starts[rest] + signed[rest]
         behind = a[rest_starts]
@@ -491,6 +504,51 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
     return values, first
 
 
+def _odd_numbers(block: bytes, edges: np.ndarray, marks_per_number: int, letters: int,
+                 inner_punctuation: int) -> np.ndarray | None:
+    """The numbers that hold a byte other than digits and one point (besides a leading sign),
+    found from whole-block counts; None when the counts cannot tell which.
+
+    ``edges`` are the numbers' marks in order, ``marks_per_number`` of them each (start,
+    point, end or start, end). ``letters`` counts the bytes above '9'; ``inner_punctuation``
+    counts the bytes
+    '!'…'/' that are neither a point nor a number's leading sign. With none of either, every
+    number is digits and one point. The usual exception is a few numbers in E-notation: when
+    every letter is an 'e' or 'E' (found with ``bytes.find``, which scans at memory speed)
+    and every other such byte is the sign straight after one, the numbers holding the
+    letters are the odd ones. Anything else leaves the check to :func:`_aligned`, number
+    by number.
+    """
+    if not letters:
+        return _NONE if inner_punctuation == 0 else None
+    at: list[int] = []
+    for letter in b"eE":
+        i = block.find(letter)
+        while i >= 0:
+            at.append(i)
+            if len(at) > _FEW_LETTERS:
+                return None
+            i = block.find(letter, i + 1)
+    if len(at) != letters:
+        return None  # another letter, or a byte above 'z'
+    found = np.array(at, dtype=np.intp)
+    a = np.frombuffer(block, dtype=np.uint8)
+    following = a[np.minimum(found + 1, a.size - 1)]
+    signs = int(np.count_nonzero((following == 43) | (following == 45)))
+    if signs != inner_punctuation:
+        return None
+    owner = np.searchsorted(edges, found, side="right")
+    owner -= 1
+    owner //= marks_per_number
+    return np.unique(owner)
+
+
+_NONE = np.empty(0, dtype=np.intp)
+#: Letters in a block located one by one (E-notation among plain numbers); with more, every
+#: number is checked.
+_FEW_LETTERS = 4096
+
+
 #: Up to this many numbers left by the aligned pass are converted one by one.
 _FEW_LEFT = 256
 
@@ -508,17 +566,18 @@ def _each(block: bytes, starts: np.ndarray, widths: np.ndarray) -> np.ndarray | 
 
 
 def _aligned(a: np.ndarray, ends: np.ndarray, widths: np.ndarray, after: np.ndarray,
-             all_points: bool = False) -> tuple[np.ndarray, np.ndarray]:
+             all_points: bool = False, check: bool = True) -> tuple[np.ndarray, np.ndarray]:
     """Values of the unsigned numbers ending at ``ends`` (``widths`` bytes long, ``after``
-    digits after the point, -1 without one; ``all_points``: every one has a point), all at once;
-    and the indices of those left to the
-    grouped path (an exponent, more than 23 digits, a mantissa of 2**64 or more, anything
-    that is no digit, or a rounding case that needs ``float``).
+    digits after the point, -1 without one; ``all_points``: every one has a point), all at
+    once; and the indices of those left to the grouped path (more than 23 digits, a mantissa
+    of 10**19 or more, a rounding case that needs ``float`` and, with ``check``, any byte
+    that is no digit, such as an exponent letter). Without ``check`` the caller has made
+    sure that every byte of every number it does not leave aside is a digit or the point.
 
     The 24 bytes ending at each number are gathered as three little-endian words. Its digits
     are then right-aligned in three words with the point squeezed out: the bytes after the
     point are taken as they are, those before it from the same window one byte to the left
-    (a shift by 8 bits across words), bytes before the number are set to '0'. Each word's
+    (a shift by 8 bits across words), bytes before the number are cleared. Each word's
     eight digits become one integer with three multiply-shift steps (the usual "eight
     digits at once" method: pairs, then fours, then eights), so an 18-digit number costs a
     few integer operations rather than one per digit. The integer mantissa M (< 10**19,
@@ -540,7 +599,7 @@ def _aligned(a: np.ndarray, ends: np.ndarray, widths: np.ndarray, after: np.ndar
         for lo in range(0, n, _AT_ONCE):
             hi = min(n, lo + _AT_ONCE)
             values[lo:hi], part = _aligned(a, ends[lo:hi], widths[lo:hi], after[lo:hi],
-                                           all_points)
+                                           all_points, check)
             left.append(part + lo)
         return values, np.concatenate(left)
     if all_points:
@@ -552,30 +611,38 @@ def _aligned(a: np.ndarray, ends: np.ndarray, widths: np.ndarray, after: np.ndar
         unshifted = np.where(has_dot, after, 24)  # without a point: all of them
     # Every operation below runs over one flat, contiguous array of words: numpy's loops
     # over a short inner axis (the three words of a number) would be many times slower.
-    words = _windows(a, ends - 24, 24).view("<u8")
+    words = _windows(a, ends - 24, 24, ordered=True).view("<u8")
     flat = words.reshape(-1)
     shifted = flat << np.uint64(8)
     shifted[1:] |= flat[:-1] >> np.uint64(56)
     # Bytes of the number after the point from `words`, before it from `shifted` (whose
-    # first byte in a row comes from the row before: never used, at most 23 digits).
+    # first byte in a row comes from the row before: never used, at most 23 digits). The
+    # masks are gathered as rows of three words from small tables (mode "clip": the indices
+    # are valid, and numpy buffers the default mode's output).
     flat ^= shifted
-    flat &= _KEEP[unshifted].view("<u8")
+    flat &= np.take(_KEEP, unshifted, axis=0, mode="clip").reshape(-1)
     flat ^= shifted
     del shifted
-    keep = _KEEP[digits].view("<u8")
-    flat &= keep
-    np.invert(keep, out=keep)
-    keep &= _ZERO_DIGITS
-    flat |= keep  # bytes before the number become '0'
-    del keep
-    # Every byte must now be an ASCII digit: below '0' the subtraction, above '9' the
-    # addition sets the byte's top bit (a borrow or carry from a neighbour only ever makes
-    # a bad word look bad).
-    bad = flat - _ZERO_DIGITS
-    bad |= flat + np.uint64(0x4646464646464646)
-    bad &= np.uint64(0x8080808080808080)
+    if check:
+        keep = np.take(_KEEP, digits, axis=0, mode="clip").reshape(-1)
+        flat &= keep
+        np.invert(keep, out=keep)
+        keep &= _ZERO_DIGITS
+        flat |= keep  # bytes before the number become '0'
+        del keep
+        # Every byte must now be an ASCII digit: below '0' the subtraction, above '9' the
+        # addition sets the byte's top bit (a borrow or carry from a neighbour only ever
+        # makes a bad word look bad).
+        bad = flat - _ZERO_DIGITS
+        bad |= flat + np.uint64(0x4646464646464646)
+        bad &= np.uint64(0x8080808080808080)
+        flat &= np.uint64(0x0F0F0F0F0F0F0F0F)
+    else:
+        # Digits only: keeping each kept byte's low four bits gives its value, and the
+        # cleared bytes before the number read as leading zeros.
+        flat &= np.take(_KEEP_LOW, digits, axis=0, mode="clip").reshape(-1)
+        bad = None
     # Eight digits per word, most significant in the lowest byte: pairs, fours, eights.
-    flat &= np.uint64(0x0F0F0F0F0F0F0F0F)
     flat *= np.uint64(2561)
     flat >>= np.uint64(8)
     flat &= np.uint64(0x00FF00FF00FF00FF)
@@ -594,7 +661,7 @@ def _aligned(a: np.ndarray, ends: np.ndarray, widths: np.ndarray, after: np.ndar
     left |= digits == 0
     left |= head >= np.uint64(1000)
     del words, flat, head
-    if bad.any():
+    if bad is not None and bad.any():
         bad = bad.reshape(n, 3)
         left |= (bad[:, 0] | bad[:, 1] | bad[:, 2]) != 0
     del bad
@@ -654,11 +721,12 @@ def _grouped(a: np.ndarray, starts: np.ndarray, widths: np.ndarray, dot_at: np.n
     return values
 
 
-def _windows(a: np.ndarray, starts: np.ndarray, width: int) -> np.ndarray:
+def _windows(a: np.ndarray, starts: np.ndarray, width: int, ordered: bool = False) -> np.ndarray:
     """The ``width`` bytes from each start as the rows of a (starts × width) array: overlapping
     windows of ``a`` gathered in one step. The few windows that would run past either end of
     ``a`` are redone from a short copy of its head or tail padded with spaces (no padded
-    copy of the whole block)."""
+    copy of the whole block). ``ordered``: the starts rise, so the first and last tell
+    whether any window runs past an end."""
     size = a.size
     last = size - width  # the last start whose window fits
     if last < 0:
@@ -666,6 +734,8 @@ def _windows(a: np.ndarray, starts: np.ndarray, width: int) -> np.ndarray:
         padded[:size] = a
         a, last = padded, size
     windows = np.ndarray(shape=(last + 1,), dtype=f"V{width}", buffer=a, strides=(1,))
+    if ordered and starts.size and starts[0] >= 0 and starts[-1] <= last:
+        return windows[starts].view(np.uint8).reshape(-1, width)
     out = windows[np.clip(starts, 0, last)].view(np.uint8).reshape(-1, width)
     late = np.flatnonzero(starts > last)
     if late.size:
