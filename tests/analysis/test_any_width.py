@@ -137,6 +137,28 @@ def test_hard_rounding_cases():
     _check([tokens], (" ".join(tokens) + "\n").encode())
 
 
+def test_both_sides_of_the_double_division_limits():
+    # Mantissas just below and at 2**53 = 9007199254740992, and 22 or 23 digits after the
+    # point: the first are divided in double precision, the others in extended precision.
+    # Reference: Python's correctly rounded float() (IEEE 754 division is correctly rounded
+    # when both operands are exact doubles: Clinger's fast path, from memory).
+    tokens = ["9007199254740991", "9007199254740992", "0.9007199254740991",
+              "0.9007199254740992", "900719925474099.1", "9007199254740.993",
+              "0.0000000000000000000001", "0.00000000000000000000001",
+              "0.0000000000009007199254740991", "0.00000000000090071992547409921",
+              "1234567.891011121", "-0.000000000000000000000123",
+              ".00000000000000000000001", ".12345678901234567890123", "-.00000000000000000000005"]
+    rng = random.Random(11)
+    for digits in range(1, 24):
+        for _ in range(40):
+            text = str(rng.randrange(10 ** (digits - 1), 10 ** digits))
+            point = rng.randrange(0, digits + 1)
+            tokens.append(text[:point] + "." + text[point:])
+    _check([tokens[i:i + 9] for i in range(0, len(tokens), 9)],
+           "\n".join(" ".join(tokens[i:i + 9]) for i in range(0, len(tokens), 9)).encode()
+           + b"\n")
+
+
 def test_numbers_at_both_ends_of_a_block():
     # Windows before the block's first byte and past its last one are padded, not read.
     for text in ["7", "1.5", "-0.25\n", "12345678901234567.5", "1 2", "0.1\n0.2", ".5 5."]:

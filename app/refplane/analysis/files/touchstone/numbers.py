@@ -348,6 +348,8 @@ def _word_masks(byte: int) -> np.ndarray:
     return keep.view("<u8")
 
 
+#: 10**0 … 10**22 as doubles (all exact), then ones (index -1: no point).
+_P10_DOUBLE = np.array([float(10 ** k) for k in range(23)] + [1.0] * 18)
 _KEEP = _word_masks(0xFF)
 _KEEP_LOW = _word_masks(0x0F)
 #: Numbers converted together by :func:`_aligned`.
@@ -581,11 +583,12 @@ def _aligned(a: np.ndarray, ends: np.ndarray, widths: np.ndarray, after: np.ndar
     eight digits become one integer with three multiply-shift steps (the usual "eight
     digits at once" method: pairs, then fours, then eights), so an 18-digit number costs a
     few integer operations rather than one per digit. The integer mantissa M (< 10**19,
-    exact in uint64 and in the 64-bit significand of x86 extended precision) divided by
-    10**f, f the digits after the point, is rounded once in extended precision and again
-    to float64; as in :func:`fixed_width`, only results whose 64-bit value lies exactly
-    half-way between two doubles can differ from a correctly rounded conversion, and those
-    are redone with ``float``.
+    exact in uint64) is divided by 10**f, f the digits after the point: in double precision
+    when M < 2**53 and f <= 22 (both exact, so the one rounding is correct), otherwise in
+    x86 extended precision, where M is exact too, and rounded again to float64; as in
+    :func:`fixed_width`, only results whose 64-bit value lies exactly half-way between two
+    doubles can differ from a correctly rounded conversion, and those are redone with
+    ``float``.
     """
     n = ends.size
     p10 = _pow10_extended()
@@ -665,15 +668,22 @@ def _aligned(a: np.ndarray, ends: np.ndarray, widths: np.ndarray, after: np.ndar
         bad = bad.reshape(n, 3)
         left |= (bad[:, 0] | bad[:, 1] | bad[:, 2]) != 0
     del bad
-    value = m.astype(np.longdouble)
-    del m
-    value /= p10[after]
-    low = value.view(np.uint64)[::2]
-    # Rounding first to 64 bits and then to 53 can err only when the 64-bit result sits
-    # exactly half-way between two doubles; those (about 1 in 2048) are redone exactly.
-    left |= (low & np.uint64(0x7FF)) == np.uint64(0x400)
-    del low
-    values = value.astype(np.float64)
+    # Below 2**53 a mantissa is an exact double, as is 10**f for f <= 22, so one IEEE
+    # division rounds M / 10**f correctly; in a file of shortest round-trip numbers that is
+    # most of them, and double division is many times quicker than extended precision.
+    values = m.astype(np.float64)
+    values /= _P10_DOUBLE[after]
+    wide = m >= np.uint64(1 << 53)
+    wide |= after > 22
+    wide = np.flatnonzero(wide)
+    if wide.size:
+        value = m[wide].astype(np.longdouble)
+        value /= p10[after[wide]]
+        low = value.view(np.uint64)[::2]
+        # Rounding first to 64 bits and then to 53 can err only when the 64-bit result sits
+        # exactly half-way between two doubles; those (about 1 in 2048) are redone exactly.
+        left[wide] |= (low & np.uint64(0x7FF)) == np.uint64(0x400)
+        values[wide] = value.astype(np.float64)
     return values, np.flatnonzero(left)
 
 
