@@ -448,9 +448,13 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
     # A number begins a line when a line end lies between it and the one before.
     first = marks[starts]
     first[0] = True
+    # Each number has `per_number` marks in `edges` (start, point if marked, end), so the
+    # marks up to a line end, divided by that, count the numbers before it (searching the
+    # contiguous `edges` rather than the strided `starts`, which numpy would copy first).
+    per_number = 2 if dots is None else 3
     long_gap = np.flatnonzero(starts[1:] - ends[:-1] > 1) + 1
     if long_gap.size:
-        after = np.searchsorted(starts, np.flatnonzero(a == 10))
+        after = np.searchsorted(edges, np.flatnonzero(a == 10), side="right") // per_number
         first[long_gap] = False
         first[after[after < n]] = True
     # A leading sign is set aside and applied at the end. A sign must be followed by a
@@ -473,13 +477,11 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
         if dot_at is None:
             return None
         after = np.where(dot_at > 0, widths - dot_at, -1)
-    # `edges` is contiguous (searchsorted would copy the strided `starts`): each number's
-    # marks are its start, its point if marked, and its end.
-    odd = _odd_numbers(block, edges, 2 if dots is None else 3, letters,
+    odd = _odd_numbers(block, edges, per_number, letters,
                        punctuation - points - int(np.count_nonzero(signed)))
     values, rest = _aligned(a, ends, widths, after, dots is not None, check=odd is None)
     if odd is not None and odd.size:
-        rest = np.union1d(rest, odd)
+        rest = _distinct(np.concatenate((rest, odd)))
     if rest.size:
         rest_starts = starts[rest] + signed[rest]
         behind = a[rest_starts]
@@ -542,7 +544,16 @@ def _odd_numbers(block: bytes, edges: np.ndarray, marks_per_number: int, letters
     owner = np.searchsorted(edges, found, side="right")
     owner -= 1
     owner //= marks_per_number
-    return np.unique(owner)
+    return _distinct(owner)
+
+
+def _distinct(indices: np.ndarray) -> np.ndarray:
+    """The distinct values of ``indices``, sorted (``np.unique`` would import numpy.ma, about
+    10 ms of every ``refplane read``)."""
+    indices = np.sort(indices)
+    if indices.size > 1:
+        indices = indices[np.concatenate(([True], indices[1:] != indices[:-1]))]
+    return indices
 
 
 _NONE = np.empty(0, dtype=np.intp)
