@@ -454,7 +454,9 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
     per_number = 2 if dots is None else 3
     long_gap = np.flatnonzero(starts[1:] - ends[:-1] > 1) + 1
     if long_gap.size:
-        after = np.searchsorted(edges, np.flatnonzero(a == 10), side="right") // per_number
+        line_ends = np.flatnonzero(marks)
+        line_ends -= 1
+        after = np.searchsorted(edges, line_ends, side="right") // per_number
         first[long_gap] = False
         first[after[after < n]] = True
     # A leading sign is set aside and applied at the end. A sign must be followed by a
