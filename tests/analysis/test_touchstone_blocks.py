@@ -225,3 +225,45 @@ def test_a_fault_after_a_noise_block_is_named_at_its_line_with_read_ahead(tmp_pa
     with pytest.raises(SweepFileError) as info:
         touchstone.read(path)
     assert f"line {bad + 1}" in str(info.value)
+
+
+def test_an_overflowing_point_late_in_a_careful_read_is_named_at_its_line(tmp_path, monkeypatch):
+    # The noise block sends the file to the careful pass, which converts the blocks it read in
+    # bulk one by one at the end: a dB value far too high in a late block must still be named
+    # at its own line (10**(99999/20) overflows a double).
+    path = tmp_path / "amp.s2p"
+    _two_port_with_noise_block(path, points=3000)
+    lines = path.read_text().splitlines()
+    lines[1] = "# Hz S DB R 50"
+    bad = 2500  # index into lines: line 2501 of the file
+    words = lines[bad].split()
+    words[1] = "99999"
+    lines[bad] = " ".join(words)
+    path.write_text("\n".join(lines) + "\n")
+    monkeypatch.setattr(source_module, "CHUNK", 4096)
+    with pytest.raises(SweepFileError) as info:
+        touchstone.read(path)
+    assert f"line {bad + 1}" in str(info.value) and "too large" in str(info.value)
+
+
+def test_a_singular_point_late_in_a_careful_read_is_counted_over_the_whole_file(tmp_path,
+                                                                             monkeypatch):
+    # Z-parameters that no S-parameters can give: with Z = -R0 times the identity, Z + R0·I
+    # is singular and S = (Z - R0·I)(Z + R0·I)^-1 has no value (Pozar, Microwave
+    # Engineering, section 4.3, from memory). The message counts points over the whole
+    # file, though the careful pass converts its blocks one by one.
+    path = tmp_path / "amp.s2p"
+    _two_port_with_noise_block(path, points=3000)
+    lines = path.read_text().splitlines()
+    lines[1] = "# Hz Z RI R 50"
+    k = 2400  # the point's index among the frequency points (0-based)
+    at = 2 + k
+    words = lines[at].split()
+    # Touchstone 1.1 two-port order Z11 Z21 Z12 Z22, normalised to R: Z = -I.
+    words[1:] = ["-1", "0", "0", "0", "0", "0", "-1", "0"]
+    lines[at] = " ".join(words)
+    path.write_text("\n".join(lines) + "\n")
+    monkeypatch.setattr(source_module, "CHUNK", 4096)
+    with pytest.raises(SweepFileError) as info:
+        touchstone.read(path)
+    assert f"frequency point {k + 1} " in str(info.value)

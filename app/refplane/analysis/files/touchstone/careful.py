@@ -18,7 +18,7 @@ from refplane.analysis.files.touchstone.convert import bad_point, to_s
 from refplane.analysis.files.touchstone.header import (
     FREQ_UNITS, MAX_LINE, NUMBER, UNIT_NAMES, Header, decode_line, header_line, split_comment)
 from refplane.analysis.files.touchstone.numbers import any_width, fixed_width
-from refplane.analysis.files.touchstone.source import LineTooLong, Source
+from refplane.analysis.files.touchstone.source import LineTooLong, Source, line_ends
 
 
 def _lines(src: Source) -> Iterator[tuple[int, str]]:
@@ -73,7 +73,7 @@ def _bulk_values(block: bytes, per_point: int, freq_scale: float):
         if found is None:
             return None
         values, first = found
-        lines = block.count(b"\n") + (0 if block.endswith(b"\n") else 1)
+        lines = line_ends(block) + (0 if block.endswith(b"\n") else 1)
         # Every line exactly one point: as many line starts as lines, each a point's start.
         if values.size != lines * per_point or int(first.sum()) != lines \
                 or not first[::per_point].all():
@@ -141,7 +141,7 @@ class _Ahead:
             self._thread = None
         if self.block:
             self.src.buf = self.block + self.src.buf
-            self.src.lines_before -= self.block.count(b"\n")
+            self.src.lines_before -= line_ends(self.block)
             self.block = b""
 
     def raise_error(self) -> None:
@@ -202,7 +202,9 @@ def _careful(src: Source, name: str, ext_ports: int | None):
     ended = False
 
     chunks: list[np.ndarray] = []  # points read so far, as (points × numbers) arrays
-    chunk_starts: list[np.ndarray] = []  # the line of each of those points
+    # The line of each of those points: the first line of a block read in bulk (one point
+    # a line), or an array of lines for points read one by one.
+    chunk_starts: list[int | np.ndarray] = []
 
     def flush() -> None:
         nonlocal rows, starts
@@ -243,7 +245,7 @@ def _careful(src: Source, name: str, ext_ports: int | None):
                             values, last_freq, count = got
                             flush()
                             chunks.append(values)
-                            chunk_starts.append(np.arange(start, start + count))
+                            chunk_starts.append(start)
                             continue
                         cut = piece.find(b"\n", len(piece) // 2) + 1
                         if piece.count(b"\n", 0, cut) > 32 and 0 < cut < len(piece):
@@ -363,24 +365,59 @@ def _careful(src: Source, name: str, ext_ports: int | None):
                 f"{total} frequency point(s)", head.n_freq_line)
     if not total:
         raise head.error("the file holds no frequency points", None)
-    values = chunks[0] if len(chunks) == 1 else np.concatenate(chunks)
-    del chunks
-    starts = chunk_starts[0] if len(chunk_starts) == 1 else np.concatenate(chunk_starts)
-    with np.errstate(over="ignore"):
-        freq_hz = values[:, 0] * freq_scale
-    if not np.all(np.isfinite(freq_hz)):
-        k = int(np.argmax(~np.isfinite(freq_hz)))
-        raise head.error(f"the frequency {values[k, 0]:g} {UNIT_NAMES[head.unit]} is too large",
-                         int(starts[k]))
-    if not np.all(np.diff(freq_hz) > 0):  # two text values can scale to one double
-        k = int(np.argmax(~(np.diff(freq_hz) > 0))) + 1
-        raise head.error("frequencies must increase strictly", int(starts[k]))
-    s = to_s(head, values)
-    bad = bad_point(s)
-    if bad is not None:
-        raise head.error("this point's values are too large: the S-parameters overflow "
-                         "(is a dB value far too high?)", int(starts[bad]))
-    return head, freq_hz, s
+    return head, *_finish(head, chunks, chunk_starts, total)
+
+
+def _finish(head: Header, chunks: list[np.ndarray], chunk_starts: list, total: int):
+    """(freq_hz, s) from the points read, chunk by chunk into arrays of the final size (no
+    joined copy of the numbers, and each chunk is let go once converted); the checks run in
+    the order a whole-file check would make them, so the line named is the same."""
+    freq_scale = FREQ_UNITS[head.unit]
+    freq_hz = np.empty(total)
+    at = 0
+    for values, lines in zip(chunks, chunk_starts):
+        part = freq_hz[at:at + len(values)]
+        with np.errstate(over="ignore"):
+            np.multiply(values[:, 0], freq_scale, out=part)
+        if not np.all(np.isfinite(part)):
+            k = int(np.argmax(~np.isfinite(part)))
+            raise head.error(f"the frequency {values[k, 0]:g} {UNIT_NAMES[head.unit]} is too "
+                             "large", _line(lines, k))
+        at += len(values)
+    # Two text values can scale to one double, so the scaled values are checked again.
+    rising = freq_hz[1:] > freq_hz[:-1]
+    if not rising.all():
+        k = int(np.argmax(~rising)) + 1
+        raise head.error("frequencies must increase strictly",
+                         _chunk_line(chunks, chunk_starts, k))
+    del rising
+    n = head.ports
+    s = np.empty((total, n, n), dtype=np.complex128)
+    at = 0
+    while chunks:
+        values, lines = chunks.pop(0), chunk_starts.pop(0)
+        part = s[at:at + len(values)]
+        part[...] = to_s(head, values, first_point=at)
+        bad = bad_point(part)
+        if bad is not None:
+            raise head.error("this point's values are too large: the S-parameters overflow "
+                             "(is a dB value far too high?)", _line(lines, bad))
+        at += len(values)
+    return freq_hz, s
+
+
+def _line(lines: int | np.ndarray, k: int) -> int:
+    """The line of point ``k`` of a chunk (see ``chunk_starts`` in :func:`_careful`)."""
+    return lines + k if isinstance(lines, int) else int(lines[k])
+
+
+def _chunk_line(chunks: list[np.ndarray], chunk_starts: list, k: int) -> int:
+    """The line of point ``k`` counted over all chunks."""
+    for values, lines in zip(chunks, chunk_starts):
+        if k < len(values):
+            return _line(lines, k)
+        k -= len(values)
+    raise IndexError(k)
 
 
 #: Longest token taken as a number (a double needs at most 17 significant digits; allow

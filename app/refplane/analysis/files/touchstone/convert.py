@@ -23,8 +23,11 @@ def _element_order(head: Header) -> tuple[list[tuple[int, int]], bool]:
     return [(i, j) for i in range(n) for j in range(n)], False
 
 
-def to_s(head: Header, values: np.ndarray) -> np.ndarray:
-    """S-parameters from the (points × numbers) table, converting the data format and kind."""
+def to_s(head: Header, values: np.ndarray, first_point: int = 0) -> np.ndarray:
+    """S-parameters from the (points × numbers) table, converting the data format and kind.
+
+    ``first_point``: the index in the file of the table's first point (for messages).
+    """
     n = head.ports
     order, mirror = _element_order(head)
     m = np.empty((values.shape[0], n, n), dtype=np.complex128)
@@ -53,7 +56,8 @@ def to_s(head: Header, values: np.ndarray) -> np.ndarray:
     if head.param == "s":
         return m
     try:
-        return _network_to_s(m, head.param, head.z0().real, normalised=head.version == 1)
+        return _network_to_s(m, head.param, head.z0().real, normalised=head.version == 1,
+                             first_point=first_point)
     except SweepFileError as exc:
         raise SweepFileError(exc.reason, file=head.file) from None
 
@@ -86,7 +90,8 @@ _INDEPENDENT_IS_CURRENT = {"z": (True, True), "y": (False, False), "h": (True, F
                            "g": (False, True)}
 
 
-def _network_to_s(m: np.ndarray, kind: str, z0_ohm: np.ndarray, *, normalised: bool) -> np.ndarray:
+def _network_to_s(m: np.ndarray, kind: str, z0_ohm: np.ndarray, *, normalised: bool,
+                  first_point: int = 0) -> np.ndarray:
     """Convert Z, Y, H or G matrices to S at real reference impedances ``z0_ohm``.
 
     With power waves a = (V + Z0·I)/(2√Z0), b = (V − Z0·I)/(2√Z0) and the normalised
@@ -115,8 +120,9 @@ def _network_to_s(m: np.ndarray, kind: str, z0_ohm: np.ndarray, *, normalised: b
             s = np.linalg.solve(lhs, rhs)
         except np.linalg.LinAlgError:
             k = int(np.argmax(~np.isfinite(1.0 / np.linalg.det(lhs))))
-            raise SweepFileError(f"the network data of frequency point {k + 1} cannot be "
-                                 "converted to S-parameters (a singular matrix)") from None
+            raise SweepFileError(f"the network data of frequency point {first_point + k + 1} "
+                                 "cannot be converted to S-parameters (a singular matrix)") \
+                from None
     return np.ascontiguousarray(s)
 
 

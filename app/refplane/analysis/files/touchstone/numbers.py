@@ -460,8 +460,8 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
         first[long_gap] = False
         first[after[after < n]] = True
     # A leading sign is set aside and applied at the end. A sign must be followed by a
-    # digit or a point: the aligned conversion refuses any other byte, the grouped one is
-    # told (below).
+    # digit or a point: the block's counts (:func:`_odd_numbers`) or the aligned conversion
+    # refuse any other byte, the grouped one is told (below).
     lead = a[starts]
     negative = lead == 45
     signed = negative | (lead == 43)
