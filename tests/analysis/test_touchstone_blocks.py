@@ -172,7 +172,7 @@ def test_one_block_is_parsed_on_the_calling_thread():
 def test_points_grow_past_a_short_estimate():
     # The estimate from a first block of long comment-free lines can fall short of a file
     # whose later lines are shorter; the arrays then grow in place.
-    points = fast_module._Points(1)
+    points = fast_module.Points(1)
     points.reserve(b"1 2 3\n" * 4, file_size=24)  # room for about four points
     for k in range(10):
         f = np.arange(5.0) + 5 * k

@@ -7,6 +7,7 @@ and reason, or to read the rare legal irregularity (a 1.x noise block, a 2.0 fil
 
 from __future__ import annotations
 
+import bisect
 import math
 import re
 from typing import Iterator
@@ -15,6 +16,7 @@ import numpy as np
 
 from refplane.analysis.errors import SweepFileError, show_token
 from refplane.analysis.files.touchstone.convert import bad_point, to_s
+from refplane.analysis.files.touchstone.fast import Points
 from refplane.analysis.files.touchstone.header import (
     FREQ_UNITS, MAX_LINE, NUMBER, UNIT_NAMES, Header, decode_line, header_line, split_comment)
 from refplane.analysis.files.touchstone.numbers import any_width, fixed_width
@@ -201,16 +203,33 @@ def _careful(src: Source, name: str, ext_ports: int | None):
     end_line: int | None = None
     ended = False
 
-    chunks: list[np.ndarray] = []  # points read so far, as (points × numbers) arrays
-    # The line of each of those points: the first line of a block read in bulk (one point
-    # a line), or an array of lines for points read one by one.
-    chunk_starts: list[int | np.ndarray] = []
+    # The points read so far, converted chunk by chunk into arrays that grow in place (no
+    # list of parts and no joined copy), and where each chunk's points sit in the file:
+    # (index of its first point, lines), the lines being the first line of a block read in
+    # bulk (one point a line) or an array of lines for points read one by one.
+    points = Points(n)
+    chunk_lines: list[tuple[int, int | np.ndarray]] = []
+
+    def take(values: np.ndarray, lines: int | np.ndarray) -> None:
+        at = points.n
+        chunk_lines.append((at, lines))
+        with np.errstate(over="ignore"):
+            freq = values[:, 0] * freq_scale
+        if not np.all(np.isfinite(freq)):
+            k = int(np.argmax(~np.isfinite(freq)))
+            raise head.error(f"the frequency {values[k, 0]:g} {UNIT_NAMES[head.unit]} is too "
+                             "large", _line(lines, k))
+        s = to_s(head, values, first_point=at)
+        bad = bad_point(s)
+        if bad is not None:
+            raise head.error("this point's values are too large: the S-parameters overflow "
+                             "(is a dB value far too high?)", _line(lines, bad))
+        points.add(freq, s, rising=False)
 
     def flush() -> None:
         nonlocal rows, starts
         if rows:
-            chunks.append(np.asarray(rows, dtype=np.float64))
-            chunk_starts.append(np.asarray(starts))
+            take(np.asarray(rows, dtype=np.float64), np.asarray(starts))
             rows, starts = [], []
 
     def body() -> Iterator[tuple[int, str]]:
@@ -244,8 +263,9 @@ def _careful(src: Source, name: str, ext_ports: int | None):
                         if got is not None:
                             values, last_freq, count = got
                             flush()
-                            chunks.append(values)
-                            chunk_starts.append(start)
+                            if points.freq is None:
+                                points.reserve(piece, src.size)
+                            take(values, start)
                             continue
                         cut = piece.find(b"\n", len(piece) // 2) + 1
                         if piece.count(b"\n", 0, cut) > 32 and 0 < cut < len(piece):
@@ -321,7 +341,7 @@ def _careful(src: Source, name: str, ext_ports: int | None):
             freq = values[0] * freq_scale
             # A 1.x two-port file may end with a noise block: its first frequency is not
             # above the last network frequency and its rows hold 5 numbers.
-            if (head.version == 1 and n == 2 and (rows or chunks) and len(values) == 5
+            if (head.version == 1 and n == 2 and (rows or points.n) and len(values) == 5
                     and freq <= last_freq):
                 noise_from = number
                 noise_last = _noise_row(stripped, number, head, noise_last)
@@ -351,7 +371,7 @@ def _careful(src: Source, name: str, ext_ports: int | None):
     if current:
         raise _short_point(head, what, per_point, current, current_start, None)
     flush()
-    total = sum(len(c) for c in chunks)
+    total = points.n
     if head.version == 2:
         if end_line is None:
             head.missing_end = True  # otherwise complete: read, with a warning
@@ -365,59 +385,24 @@ def _careful(src: Source, name: str, ext_ports: int | None):
                 f"{total} frequency point(s)", head.n_freq_line)
     if not total:
         raise head.error("the file holds no frequency points", None)
-    return head, *_finish(head, chunks, chunk_starts, total)
-
-
-def _finish(head: Header, chunks: list[np.ndarray], chunk_starts: list, total: int):
-    """(freq_hz, s) from the points read, chunk by chunk into arrays of the final size (no
-    joined copy of the numbers, and each chunk is let go once converted); the checks run in
-    the order a whole-file check would make them, so the line named is the same."""
-    freq_scale = FREQ_UNITS[head.unit]
-    freq_hz = np.empty(total)
-    at = 0
-    for values, lines in zip(chunks, chunk_starts):
-        part = freq_hz[at:at + len(values)]
-        with np.errstate(over="ignore"):
-            np.multiply(values[:, 0], freq_scale, out=part)
-        if not np.all(np.isfinite(part)):
-            k = int(np.argmax(~np.isfinite(part)))
-            raise head.error(f"the frequency {values[k, 0]:g} {UNIT_NAMES[head.unit]} is too "
-                             "large", _line(lines, k))
-        at += len(values)
+    freq_hz, s = points.finish()
     # Two text values can scale to one double, so the scaled values are checked again.
     rising = freq_hz[1:] > freq_hz[:-1]
     if not rising.all():
         k = int(np.argmax(~rising)) + 1
-        raise head.error("frequencies must increase strictly",
-                         _chunk_line(chunks, chunk_starts, k))
-    del rising
-    n = head.ports
-    s = np.empty((total, n, n), dtype=np.complex128)
-    at = 0
-    while chunks:
-        values, lines = chunks.pop(0), chunk_starts.pop(0)
-        part = s[at:at + len(values)]
-        part[...] = to_s(head, values, first_point=at)
-        bad = bad_point(part)
-        if bad is not None:
-            raise head.error("this point's values are too large: the S-parameters overflow "
-                             "(is a dB value far too high?)", _line(lines, bad))
-        at += len(values)
-    return freq_hz, s
+        raise head.error("frequencies must increase strictly", _point_line(chunk_lines, k))
+    return head, freq_hz, s
 
 
 def _line(lines: int | np.ndarray, k: int) -> int:
-    """The line of point ``k`` of a chunk (see ``chunk_starts`` in :func:`_careful`)."""
+    """The line of point ``k`` of a chunk (see ``chunk_lines`` in :func:`_careful`)."""
     return lines + k if isinstance(lines, int) else int(lines[k])
 
 
-def _chunk_line(chunks: list[np.ndarray], chunk_starts: list, k: int) -> int:
-    """The line of point ``k`` counted over all chunks."""
-    for values, lines in zip(chunks, chunk_starts):
-        if k < len(values):
-            return _line(lines, k)
-        k -= len(values)
-    raise IndexError(k)
+def _point_line(chunk_lines: list[tuple[int, int | np.ndarray]], k: int) -> int:
+    """The line of point ``k`` counted over the whole file."""
+    at, lines = chunk_lines[bisect.bisect_right([c[0] for c in chunk_lines], k) - 1]
+    return _line(lines, k - at)
 
 
 #: Longest token taken as a number (a double needs at most 17 significant digits; allow

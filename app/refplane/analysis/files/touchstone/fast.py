@@ -74,7 +74,7 @@ def _fast(src: Source, name: str, ext_ports: int | None):
     # S on a worker thread; bigger networks' points may straddle two blocks and are
     # converted once all the numbers are in.
     parse = partial(_block_points, head=head, per_point=per_point) if one_line else _parse
-    points = _Points(head.ports) if one_line else None
+    points = Points(head.ports) if one_line else None
     numbers: list = []
 
     def take(result) -> None:
@@ -153,7 +153,7 @@ def _points(values: np.ndarray, head: Header):
     return freq, s
 
 
-class _Points:
+class Points:
     """The sweep's points, gathered block by block into arrays that grow in place.
 
     The arrays are sized from the file's length and the first block's bytes per line, and
@@ -172,13 +172,16 @@ class _Points:
         per_line = len(body) / max(1, body.count(b"\n"))
         self._resize(int(file_size / per_line * 1.01) + 16)
 
-    def add(self, freq: np.ndarray, s: np.ndarray) -> None:
-        """Append one block's points; the frequencies must go on rising across blocks."""
+    def add(self, freq: np.ndarray, s: np.ndarray, rising: bool = True) -> None:
+        """Append one block's points; with ``rising``, the frequencies must go on rising
+        across blocks (else the bulk pass stops)."""
         k = freq.size
         if not k:
             return
-        if self.n and not freq[0] > self.freq[self.n - 1]:
+        if rising and self.n and not freq[0] > self.freq[self.n - 1]:
             raise _Irregular
+        if self.freq is None:
+            self._resize(k)
         if self.n + k > self.freq.size:
             self._resize(max(self.n + k, int(self.freq.size * 1.25)))
         self.freq[self.n:self.n + k] = freq
