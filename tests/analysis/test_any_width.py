@@ -159,6 +159,27 @@ def test_both_sides_of_the_double_division_limits():
            + b"\n")
 
 
+@pytest.mark.parametrize("widest", [1, 2, 3, 5, 8, 16, 17, 40])
+def test_line_starts_behind_blank_runs_of_every_width(widest):
+    # Which numbers begin a line, behind indentation, runs of spaces and tabs, CR LF line
+    # ends and empty lines, with blank runs up to `widest` bytes (the line-start marking
+    # covers runs of up to 16 bytes, and locates the line ends beyond that). Reference:
+    # the lines as written (Touchstone: one point per line for one- and two-ports).
+    rng = random.Random(widest)
+    text, lines = "", []
+    for _ in range(300):
+        # Short numbers too: a run must not reach past the number before it.
+        tokens = [rng.choice([repr(rng.uniform(-1, 1)), "5", "7.", "-1", "0.5"])
+                  for _ in range(rng.randint(1, 5))]
+        lines.append(tokens)
+        room = max(1, widest)
+        lead = " " * rng.randint(0, room - 1)
+        seps = [rng.choice([" ", "\t"]) * rng.randint(1, room) for _ in tokens[:-1]]
+        end = rng.choice(["\n", "\r\n", " \n", "\n\n", "\t\r\n"])
+        text += lead + "".join(t + g for t, g in zip(tokens, seps)) + tokens[-1] + end
+    _check(lines, text.encode())
+
+
 def test_numbers_at_both_ends_of_a_block():
     # Windows before the block's first byte and past its last one are padded, not read.
     for text in ["7", "1.5", "-0.25\n", "12345678901234567.5", "1 2", "0.1\n0.2", ".5 5."]:

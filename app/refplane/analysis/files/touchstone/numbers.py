@@ -421,7 +421,7 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
     # From here on marks[i] tells whether byte i - 1 ends a line.
     marks[0] = False
     np.equal(a, 10, out=marks[1:])
-    del ink, scratch
+    del scratch
     dots = None
     if edges.size == 3 * points and bool(np.all(a[edges[1::3]] == 46)):
         # Every third mark is a point and there are no others: each number holds exactly
@@ -429,14 +429,13 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
         starts, dots, ends = edges[0::3], edges[1::3], edges[2::3]
     else:
         # Numbers without a point, or with a point at their start: mark the ink alone.
-        ink = a > 32
+        np.greater(a, 32, out=ink)
         edges = np.flatnonzero(ink[1:] != ink[:-1])
         edges += 1
         if ink[0]:
             edges = np.concatenate(([0], edges))
         if ink[-1]:
             edges = np.concatenate((edges, [size]))
-        del ink
         starts, ends = edges[0::2], edges[1::2]
     n = starts.size
     if n == 0:
@@ -446,19 +445,24 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
     if longest > _LONGEST:
         return None
     # A number begins a line when a line end lies between it and the one before.
-    first = marks[starts]
-    first[0] = True
-    # Each number has `per_number` marks in `edges` (start, point if marked, end), so the
-    # marks up to a line end, divided by that, count the numbers before it (searching the
-    # contiguous `edges` rather than the strided `starts`, which numpy would copy first).
     per_number = 2 if dots is None else 3
-    long_gap = np.flatnonzero(starts[1:] - ends[:-1] > 1) + 1
-    if long_gap.size:
+    gap = int((starts[1:] - ends[:-1]).max()) if n > 1 else 1
+    if gap > 1 and gap <= _WIDEST_GAP:
+        _line_end_in_gap(marks, a, ink, gap)
+    del ink
+    if gap <= _WIDEST_GAP:
+        first = marks[starts]
+    else:
+        # Each number has `per_number` marks in `edges` (start, point if marked, end), so
+        # the marks up to a line end, divided by that, count the numbers before it
+        # (searching the contiguous `edges` rather than the strided `starts`, which numpy
+        # would copy first).
         line_ends = np.flatnonzero(marks)
         line_ends -= 1
         after = np.searchsorted(edges, line_ends, side="right") // per_number
-        first[long_gap] = False
+        first = np.zeros(n, dtype=bool)
         first[after[after < n]] = True
+    first[0] = True
     # A leading sign is set aside and applied at the end. A sign must be followed by a
     # digit or a point: the block's counts (:func:`_odd_numbers`) or the aligned conversion
     # refuse any other byte, the grouped one is told (below).
@@ -508,6 +512,32 @@ def any_width(block: bytes) -> tuple[np.ndarray, np.ndarray] | None:
         bits = values.view(np.uint64)
         bits |= negative.view(np.uint8).astype(np.uint64) << np.uint64(63)
     return values, first
+
+
+#: The widest blank run between two numbers for which :func:`_line_end_in_gap` marks the
+#: line starts (wider ones: the line ends are located and searched for instead).
+_WIDEST_GAP = 16
+
+
+def _line_end_in_gap(marks: np.ndarray, a: np.ndarray, scratch: np.ndarray, gap: int) -> None:
+    """Turn ``marks`` (marks[i]: byte i - 1 of ``a`` ends a line) into: a line end lies in
+    the blank run just before byte i, for runs of up to ``gap`` bytes. ``scratch`` (flags,
+    one per byte) is overwritten.
+
+    By doubling: with N[i] "a line end among the last w bytes before i, all blank from it
+    on" and B[i] "the last w bytes before i are all blank", N[i] |= B[i] & N[i - w] and
+    B[i] &= B[i - w] give the same for 2w bytes, so a few whole-block passes cover the run.
+    N is only ever combined with B over bytes inside the block (i >= w), so B's entries
+    whose window reaches before the block are never used.
+    """
+    size = a.size
+    blank = np.less_equal(a, 32, out=scratch)  # blank[j]: byte j is blank; B[i] is blank[i - 1]
+    width = 1
+    while width < gap:
+        # numpy reads an overlapping right-hand side whole before the in-place update.
+        marks[width:] |= blank[width - 1:] & marks[:size + 1 - width]
+        blank[width:] &= blank[:size - width]
+        width *= 2
 
 
 def _odd_numbers(block: bytes, edges: np.ndarray, marks_per_number: int, letters: int,
