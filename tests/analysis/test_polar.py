@@ -10,7 +10,9 @@ from refplane.analysis.files.touchstone.convert import _polar
 def _reference(mag, deg):
     # Reference: the C library's extended-precision cosl and sinl of the angle converted in
     # extended precision (numpy's longdouble functions), about 1e-19 from the exact values.
-    rad = deg.astype(np.longdouble) * (np.longdouble(np.pi) + np.longdouble(1.2246467991473532e-16)) / 180
+    # π in extended precision: the double nearest π plus its remainder (1.2246e-16).
+    pi = np.longdouble(np.pi) + np.longdouble(1.2246467991473532e-16)
+    rad = deg.astype(np.longdouble) * pi / 180
     return (mag * np.cos(rad)).astype(np.float64), (mag * np.sin(rad)).astype(np.float64)
 
 

@@ -531,7 +531,8 @@ def _line_end_in_gap(marks: np.ndarray, a: np.ndarray, scratch: np.ndarray, gap:
     whose window reaches before the block are never used.
     """
     size = a.size
-    blank = np.less_equal(a, 32, out=scratch)  # blank[j]: byte j is blank; B[i] is blank[i - 1]
+    # blank[j]: byte j is blank (B[i] is blank[i - 1]).
+    blank = np.less_equal(a, 32, out=scratch)
     width = 1
     while width < gap:
         # numpy reads an overlapping right-hand side whole before the in-place update.
@@ -547,13 +548,12 @@ def _odd_numbers(block: bytes, edges: np.ndarray, marks_per_number: int, letters
 
     ``edges`` are the numbers' marks in order, ``marks_per_number`` of them each (start,
     point, end or start, end). ``letters`` counts the bytes above '9'; ``inner_punctuation``
-    counts the bytes
-    '!'…'/' that are neither a point nor a number's leading sign. With none of either, every
-    number is digits and one point. The usual exception is a few numbers in E-notation: when
-    every letter is an 'e' or 'E' (found with ``bytes.find``, which scans at memory speed)
-    and every other such byte is the sign straight after one, the numbers holding the
-    letters are the odd ones. Anything else leaves the check to :func:`_aligned`, number
-    by number.
+    counts the bytes '!'…'/' that are neither a point nor a number's leading sign. With none
+    of either, every number is digits and one point. The usual exception is a few numbers in
+    E-notation: when every letter is an 'e' or 'E' (found with ``bytes.find``, which scans at
+    memory speed) and every other such byte is the sign straight after one, the numbers
+    holding the letters are the odd ones. Anything else leaves the check to :func:`_aligned`,
+    number by number.
     """
     if not letters:
         return _NONE if inner_punctuation == 0 else None
