@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import numpy as np
+import pytest
 
 from refplane.analysis.files.touchstone.convert import _polar
 
@@ -16,6 +17,8 @@ def _reference(mag, deg):
     return (mag * np.cos(rad)).astype(np.float64), (mag * np.sin(rad)).astype(np.float64)
 
 
+@pytest.mark.skipif(np.finfo(np.longdouble).nmant < 63,
+                    reason="the reference needs x86 extended precision")
 def test_parts_agree_with_extended_precision_within_a_few_1e_16():
     rng = np.random.default_rng(5)
     deg = np.concatenate([rng.uniform(-180, 180, 20000), rng.uniform(-720, 720, 2000),
