@@ -22,7 +22,8 @@ from refplane.analysis.files.touchstone.header import (
     FREQ_UNITS, Header, decode_line, header_line, split_comment)
 from refplane.analysis.files.touchstone.blocks import Blocks
 from refplane.analysis.files.touchstone.numbers import any_width, fixed_width
-from refplane.analysis.files.touchstone.source import LinesUncounted, LineTooLong, Source
+from refplane.analysis.files.touchstone.source import (
+    LinesUncounted, LineTooLong, Source, line_ends)
 
 _COMMENT = re.compile(rb"![^\n]*")
 _END_ONLY = re.compile(rb"\s*\[\s*end\s*\]\s*", re.IGNORECASE)
@@ -169,7 +170,7 @@ class Points:
 
     def reserve(self, body: bytes, file_size: int) -> None:
         """Size the arrays for a file of ``file_size`` bytes whose lines look like ``body``."""
-        per_line = len(body) / max(1, body.count(b"\n"))
+        per_line = len(body) / max(1, line_ends(body))
         self._resize(int(file_size / per_line * 1.01) + 16)
 
     def add(self, freq: np.ndarray, s: np.ndarray, rising: bool = True) -> None:
